@@ -68,6 +68,9 @@ type Target struct {
 	Minimum      *float64 `json:"minimum,omitempty"`
 	Maximum      *float64 `json:"maximum,omitempty"`
 	Aspirational *float64 `json:"aspirational,omitempty"`
+	// Source names the publication (and table) the figures come from, so a
+	// profile file carries its own references.
+	Source string `json:"source,omitempty"`
 }
 
 // ptr returns a pointer to v, or nil when v is NaN.

@@ -1,0 +1,462 @@
+package report
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io/fs"
+	"math"
+	"path"
+	"reflect"
+	"sort"
+	"strconv"
+	"strings"
+
+	"polypledger/logbook"
+)
+
+// DefaultMinCases is the number of cases below which a rate is shown as "too
+// few cases to judge" when a profile does not set its own (common practice;
+// clinical-reference §7).
+const DefaultMinCases = 30
+
+// Profile is a standard profile: the published rules that decide who counts in
+// the detection indicators and the targets each indicator is judged against
+// (clinical-reference §2). A profile is data, shipped as JSON in assets and
+// copied and edited by users; the arithmetic lives in code.
+type Profile struct {
+	// ID names the profile on the command line (--standard) and in output.
+	ID string `json:"id"`
+	// Title is the profile's name for people.
+	Title string `json:"title"`
+	// Source is the full published reference the profile follows.
+	Source string `json:"source"`
+	// Notes say what was chosen or not verified, for the methods page.
+	Notes string `json:"notes,omitempty"`
+	// MinCases is the denominator below which no verdict is given (default 30).
+	MinCases int `json:"min_cases"`
+	// Eligible is the detection-eligible population (ADR family, pdr, aadr,
+	// apc, proximal_sdr, withdrawal_negative).
+	Eligible Eligibility `json:"detection_eligible"`
+	// StoolTest is the population of adr_stool_test_positive: indication
+	// stool_test_positive with this age and these exclusions.
+	StoolTest StoolTestRule `json:"stool_test_positive"`
+	// Targets maps an indicator id to what the profile asks of it; an
+	// indicator without an entry is reported with no verdict.
+	Targets map[string]Target `json:"targets"`
+}
+
+// Eligibility decides which procedures count in the detection indicators:
+// age at least MinAge (0 = any age), an indication in Indications and an
+// exclusion in Exclusions. An unrecorded indication or exclusion is in no
+// list, so such a procedure is not eligible.
+type Eligibility struct {
+	MinAge      int                  `json:"min_age"`
+	Indications []logbook.Indication `json:"indications"`
+	Exclusions  []logbook.Exclusion  `json:"exclusions"`
+}
+
+// StoolTestRule is the population for ADR after a positive stool test (FIT
+// or FOBT): indication stool_test_positive, age at least MinAge, exclusion in
+// Exclusions.
+type StoolTestRule struct {
+	MinAge     int                 `json:"min_age"`
+	Exclusions []logbook.Exclusion `json:"exclusions"`
+}
+
+// Includes reports whether the procedure belongs to the population.
+func (e *Eligibility) Includes(p *logbook.Procedure) bool {
+	return p.Age != logbook.NotRecorded && p.Age >= e.MinAge &&
+		logbook.IsOneOf(p.Indication, e.Indications) && logbook.IsOneOf(p.Exclusion, e.Exclusions)
+}
+
+// Includes reports whether the procedure belongs to the stool-test-positive
+// population.
+func (r *StoolTestRule) Includes(p *logbook.Procedure) bool {
+	return p.Indication == logbook.StoolTestPositive && p.Age != logbook.NotRecorded &&
+		p.Age >= r.MinAge && logbook.IsOneOf(p.Exclusion, r.Exclusions)
+}
+
+// Target returns the profile's target for the indicator id, or nil when it
+// sets none.
+func (p *Profile) Target(id string) *Target {
+	t, ok := p.Targets[id]
+	if !ok {
+		return nil
+	}
+	return &t
+}
+
+// ProfileError is one problem in a profile file: the file, the JSON path of
+// the field (such as "targets.adr.minimum"; empty for the file as a whole)
+// and what is wrong.
+type ProfileError struct {
+	File, Field, Reason string
+}
+
+func (e ProfileError) Error() string {
+	if e.Field == "" {
+		return e.File + ": " + e.Reason
+	}
+	return e.File + ": " + e.Field + ": " + e.Reason
+}
+
+// ProfileErrors is every problem found in one profile file.
+type ProfileErrors []ProfileError
+
+func (es ProfileErrors) Error() string {
+	parts := make([]string, len(es))
+	for i, e := range es {
+		parts[i] = e.Error()
+	}
+	return strings.Join(parts, "\n")
+}
+
+// indicatorKind returns how an indicator's value reads, for validating the
+// targets a profile sets: "proportion" (0–1), "ratio", "mean", "median" and
+// "per_year" (zero or more), "kappa" (−1 to 1) and "difference" (no target).
+// The ids are those this package computes (IndicatorIDs) and the
+// optical-diagnosis and interval figures of architecture.md, which other
+// accumulators add.
+func indicatorKind(id string) (kind string, known bool) {
+	switch id {
+	case "apc":
+		return "ratio", true
+	case "withdrawal_negative":
+		return "mean", true
+	case "volume":
+		return "per_year", true
+	case "adr_aid_difference":
+		return "difference", true
+	case "optical_kappa":
+		return "kappa", true
+	case "pivi2_npv", "pivi2_npv_neoplasia", "pivi1_agreement", "high_confidence_rate",
+		"optical_sensitivity", "optical_specificity", "interval_adherence":
+		return "proportion", true
+	}
+	if strings.HasPrefix(id, "sedation_") {
+		for _, s := range IndicatorIDs() {
+			if s == id {
+				return "median", true
+			}
+		}
+		return "", false
+	}
+	for _, s := range IndicatorIDs() {
+		if s == id {
+			return "proportion", true
+		}
+	}
+	return "", false
+}
+
+// ParseProfile reads one profile file strictly: unknown fields, wrong types,
+// trailing data and every rule of validate are errors of type ProfileErrors,
+// each naming file, field and reason. A missing min_cases means
+// DefaultMinCases.
+func ParseProfile(file string, data []byte) (*Profile, error) {
+	var raw any
+	if err := json.Unmarshal(data, &raw); err != nil {
+		return nil, ProfileErrors{{File: file, Reason: jsonSyntaxReason(data, err)}}
+	}
+	var errs ProfileErrors
+	unknownFields(raw, reflect.TypeFor[Profile](), "", func(field string) {
+		errs = append(errs, ProfileError{File: file, Field: field, Reason: "unknown field"})
+	})
+	if len(errs) > 0 {
+		return nil, errs
+	}
+	p := &Profile{MinCases: DefaultMinCases}
+	dec := json.NewDecoder(bytes.NewReader(data))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(p); err != nil {
+		var te *json.UnmarshalTypeError
+		if errors.As(err, &te) {
+			return nil, ProfileErrors{{File: file, Field: te.Field, Reason: fmt.Sprintf("is a JSON %s, want %s", te.Value, jsonTypeName(te.Type))}}
+		}
+		return nil, ProfileErrors{{File: file, Reason: err.Error()}}
+	}
+	if errs := p.validate(file); len(errs) > 0 {
+		return nil, errs
+	}
+	return p, nil
+}
+
+// jsonTypeName names a Go type as the JSON a user should write.
+func jsonTypeName(t reflect.Type) string {
+	switch t.Kind() {
+	case reflect.Int, reflect.Int64, reflect.Float64:
+		return "a number"
+	case reflect.String:
+		return "a string"
+	case reflect.Slice:
+		return "a list"
+	case reflect.Struct, reflect.Map:
+		return "an object"
+	case reflect.Pointer:
+		return jsonTypeName(t.Elem())
+	}
+	return t.String()
+}
+
+// jsonSyntaxReason turns a JSON syntax error into a reason with line and
+// column.
+func jsonSyntaxReason(data []byte, err error) string {
+	var se *json.SyntaxError
+	if errors.As(err, &se) {
+		before := data[:min(int(se.Offset), len(data))]
+		line := bytes.Count(before, []byte("\n")) + 1
+		col := len(before) - bytes.LastIndexByte(before, '\n')
+		return fmt.Sprintf("not valid JSON at line %d, column %d: %v", line, col, se)
+	}
+	return "not valid JSON: " + err.Error()
+}
+
+// unknownFields walks decoded JSON against the Go type it will fill and calls
+// report with the JSON path of every key the type has no field for. The
+// standard decoder names the key but not where it is; this names the path.
+func unknownFields(v any, t reflect.Type, at string, report func(string)) {
+	for t.Kind() == reflect.Pointer {
+		t = t.Elem()
+	}
+	join := func(key string) string {
+		if at == "" {
+			return key
+		}
+		return at + "." + key
+	}
+	switch t.Kind() {
+	case reflect.Struct:
+		obj, ok := v.(map[string]any)
+		if !ok {
+			return // the typed decode reports the mismatch
+		}
+		keys := make([]string, 0, len(obj))
+		for k := range obj {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		for _, k := range keys {
+			f, ok := fieldByJSONName(t, k)
+			if !ok {
+				report(join(k))
+				continue
+			}
+			unknownFields(obj[k], f.Type, join(k), report)
+		}
+	case reflect.Map:
+		obj, ok := v.(map[string]any)
+		if !ok {
+			return
+		}
+		for k, e := range obj {
+			unknownFields(e, t.Elem(), join(k), report)
+		}
+	case reflect.Slice:
+		list, ok := v.([]any)
+		if !ok {
+			return
+		}
+		for i, e := range list {
+			unknownFields(e, t.Elem(), at+"["+strconv.Itoa(i)+"]", report)
+		}
+	}
+}
+
+// fieldByJSONName finds the struct field the JSON key fills, as
+// encoding/json matches it (tag name, case-insensitively).
+func fieldByJSONName(t reflect.Type, key string) (reflect.StructField, bool) {
+	for i := range t.NumField() {
+		f := t.Field(i)
+		name, _, _ := strings.Cut(f.Tag.Get("json"), ",")
+		if name == "-" || !f.IsExported() {
+			continue
+		}
+		if name == "" {
+			name = f.Name
+		}
+		if strings.EqualFold(name, key) {
+			return f, true
+		}
+	}
+	return reflect.StructField{}, false
+}
+
+// validate checks the rules a profile must follow and returns every problem.
+func (p *Profile) validate(file string) ProfileErrors {
+	var errs ProfileErrors
+	bad := func(field, format string, args ...any) {
+		errs = append(errs, ProfileError{File: file, Field: field, Reason: fmt.Sprintf(format, args...)})
+	}
+	if p.ID == "" {
+		bad("id", "is required")
+	} else if strings.ContainsAny(p.ID, " \t\n/\\") {
+		bad("id", "%q must not contain spaces or slashes", p.ID)
+	}
+	if p.Title == "" {
+		bad("title", "is required")
+	}
+	if p.Source == "" {
+		bad("source", "is required: name the published standard")
+	}
+	if p.MinCases < 0 {
+		bad("min_cases", "%d is negative", p.MinCases)
+	}
+	checkAge := func(field string, age int) {
+		if age < 0 || age > logbook.MaxAge {
+			bad(field, "%d is outside 0–%d", age, logbook.MaxAge)
+		}
+	}
+	checkAge("detection_eligible.min_age", p.Eligible.MinAge)
+	checkAge("stool_test_positive.min_age", p.StoolTest.MinAge)
+	if len(p.Eligible.Indications) == 0 {
+		bad("detection_eligible.indications", "must list at least one indication")
+	}
+	for i, c := range p.Eligible.Indications {
+		if !logbook.IsOneOf(c, logbook.Indications) {
+			bad(fmt.Sprintf("detection_eligible.indications[%d]", i), "unknown indication code %q (known: %s)", c, codeList(logbook.Indications))
+		}
+	}
+	checkExclusions := func(field string, list []logbook.Exclusion) {
+		if len(list) == 0 {
+			bad(field, "must list at least one exclusion code (usually \"none\")")
+		}
+		for i, c := range list {
+			if !logbook.IsOneOf(c, logbook.Exclusions) {
+				bad(fmt.Sprintf("%s[%d]", field, i), "unknown exclusion code %q (known: %s)", c, codeList(logbook.Exclusions))
+			}
+		}
+	}
+	checkExclusions("detection_eligible.exclusions", p.Eligible.Exclusions)
+	checkExclusions("stool_test_positive.exclusions", p.StoolTest.Exclusions)
+
+	ids := make([]string, 0, len(p.Targets))
+	for id := range p.Targets {
+		ids = append(ids, id)
+	}
+	sort.Strings(ids)
+	for _, id := range ids {
+		t := p.Targets[id]
+		at := "targets." + id
+		kind, known := indicatorKind(id)
+		if !known {
+			bad(at, "unknown indicator id %q", id)
+			continue
+		}
+		if kind == "difference" {
+			bad(at, "%s is a comparison and takes no target", id)
+			continue
+		}
+		if t.Minimum == nil && t.Maximum == nil {
+			bad(at, "sets neither minimum nor maximum")
+		}
+		if t.Minimum != nil && t.Maximum != nil {
+			bad(at, "sets both minimum and maximum; a target is one or the other")
+		}
+		lo, hi := 0.0, math.Inf(1)
+		switch kind {
+		case "proportion":
+			hi = 1
+		case "kappa":
+			lo, hi = -1, 1
+		}
+		for _, f := range []struct {
+			name string
+			v    *float64
+		}{{"minimum", t.Minimum}, {"maximum", t.Maximum}, {"aspirational", t.Aspirational}} {
+			if f.v == nil {
+				continue
+			}
+			if *f.v < lo || *f.v > hi || math.IsNaN(*f.v) {
+				if kind == "proportion" {
+					bad(at+"."+f.name, "%v is outside 0–1 (write proportions, 0.35 not 35)", *f.v)
+				} else {
+					bad(at+"."+f.name, "%v is outside %v–%v", *f.v, lo, hi)
+				}
+			}
+		}
+		if t.Aspirational != nil {
+			switch {
+			case t.Minimum != nil && *t.Aspirational < *t.Minimum:
+				bad(at+".aspirational", "%v is below the minimum %v", *t.Aspirational, *t.Minimum)
+			case t.Maximum != nil && *t.Aspirational > *t.Maximum:
+				bad(at+".aspirational", "%v is above the maximum %v", *t.Aspirational, *t.Maximum)
+			}
+		}
+	}
+	return errs
+}
+
+func codeList[T ~string](set []T) string {
+	names := make([]string, len(set))
+	for i, c := range set {
+		names[i] = string(c)
+	}
+	return strings.Join(names, ", ")
+}
+
+// LoadProfiles reads the shipped profiles from builtin and any *.json files
+// at the root of user (either may be nil). A user profile with the id of a
+// shipped one replaces it, so a unit can copy a shipped file and edit it. Two
+// files of the same origin with one id are an error. The result is sorted by
+// id.
+func LoadProfiles(builtin, user fs.FS) ([]*Profile, error) {
+	byID := map[string]*Profile{}
+	from := map[string]string{}
+	load := func(fsys fs.FS, origin string, replace bool) error {
+		if fsys == nil {
+			return nil
+		}
+		names, err := fs.Glob(fsys, "*.json")
+		if err != nil {
+			return fmt.Errorf("list %s profiles: %w", origin, err)
+		}
+		seen := map[string]string{}
+		for _, name := range names {
+			data, err := fs.ReadFile(fsys, name)
+			if err != nil {
+				return fmt.Errorf("read %s profile %s: %w", origin, name, err)
+			}
+			label := path.Join(origin, name)
+			p, err := ParseProfile(label, data)
+			if err != nil {
+				return err
+			}
+			if other, dup := seen[p.ID]; dup {
+				return ProfileErrors{{File: label, Field: "id", Reason: fmt.Sprintf("%q is also the id of %s", p.ID, other)}}
+			}
+			seen[p.ID] = label
+			if _, exists := byID[p.ID]; exists && !replace {
+				return ProfileErrors{{File: label, Field: "id", Reason: fmt.Sprintf("%q is also the id of %s", p.ID, from[p.ID])}}
+			}
+			byID[p.ID], from[p.ID] = p, label
+		}
+		return nil
+	}
+	if err := load(builtin, "standards", false); err != nil {
+		return nil, err
+	}
+	if err := load(user, "user standards", true); err != nil {
+		return nil, err
+	}
+	ps := make([]*Profile, 0, len(byID))
+	for _, p := range byID {
+		ps = append(ps, p)
+	}
+	sort.Slice(ps, func(i, j int) bool { return ps[i].ID < ps[j].ID })
+	return ps, nil
+}
+
+// FindProfile returns the profile with the id, or an error that lists the
+// known ids.
+func FindProfile(ps []*Profile, id string) (*Profile, error) {
+	ids := make([]string, len(ps))
+	for i, p := range ps {
+		if p.ID == id {
+			return p, nil
+		}
+		ids[i] = p.ID
+	}
+	return nil, fmt.Errorf("unknown standard %q (known: %s)", id, strings.Join(ids, ", "))
+}
