@@ -13,7 +13,7 @@ import (
 
 type lesionOpt func(*logbook.Lesion)
 
-func testLesion(no int, h logbook.Histology, size int, opts ...lesionOpt) logbook.Lesion {
+func fxLesion(no int, h logbook.Histology, size int, opts ...lesionOpt) logbook.Lesion {
 	l := logbook.NewLesion()
 	l.LesionNo, l.Segment, l.SizeMM = no, logbook.Ascending, size
 	l.Resection, l.Retrieved, l.SentToPathology = logbook.ColdSnare, logbook.Yes, logbook.Yes
@@ -30,29 +30,29 @@ func testLesion(no int, h logbook.Histology, size int, opts ...lesionOpt) logboo
 	return l
 }
 
-func at(s logbook.Segment) lesionOpt          { return func(l *logbook.Lesion) { l.Segment = s } }
-func dysplasia(d logbook.Dysplasia) lesionOpt { return func(l *logbook.Lesion) { l.Dysplasia = d } }
-func resected(r logbook.Resection) lesionOpt  { return func(l *logbook.Lesion) { l.Resection = r } }
-func paris(p logbook.Paris) lesionOpt         { return func(l *logbook.Lesion) { l.Paris = p } }
-func imaged(i logbook.Imaging) lesionOpt      { return func(l *logbook.Lesion) { l.Imaging = i } }
-func aid(c logbook.OpticalClass) lesionOpt    { return func(l *logbook.Lesion) { l.AidClass = c } }
+func fxAt(s logbook.Segment) lesionOpt       { return func(l *logbook.Lesion) { l.Segment = s } }
+func fxDys(d logbook.Dysplasia) lesionOpt    { return func(l *logbook.Lesion) { l.Dysplasia = d } }
+func fxRes(r logbook.Resection) lesionOpt    { return func(l *logbook.Lesion) { l.Resection = r } }
+func fxParis(p logbook.Paris) lesionOpt      { return func(l *logbook.Lesion) { l.Paris = p } }
+func fxImaging(i logbook.Imaging) lesionOpt  { return func(l *logbook.Lesion) { l.Imaging = i } }
+func fxAid(c logbook.OpticalClass) lesionOpt { return func(l *logbook.Lesion) { l.AidClass = c } }
 
 // called sets the endoscopist's optical call.
-func called(c logbook.OpticalClass, conf logbook.Confidence) lesionOpt {
+func fxCall(c logbook.OpticalClass, conf logbook.Confidence) lesionOpt {
 	return func(l *logbook.Lesion) { l.OpticalClass, l.Confidence = c, conf }
 }
 
-// discarded: resected and not sent to pathology, so there is no histology.
-func discarded(l *logbook.Lesion) {
+// fxDiscarded: resected and not sent to pathology, so there is no histology.
+func fxDiscarded(l *logbook.Lesion) {
 	l.SentToPathology, l.Histology, l.Dysplasia = logbook.No, "", ""
 }
 
-// awaiting: sent to pathology, result still pending.
-func awaiting(l *logbook.Lesion) { l.Histology, l.Dysplasia = logbook.HistPending, "" }
+// fxAwaiting: sent to pathology, result still pending.
+func fxAwaiting(l *logbook.Lesion) { l.Histology, l.Dysplasia = logbook.HistPending, "" }
 
-// testCase returns a complete outpatient screening colonoscopy with Boston
+// fxCase returns a complete outpatient screening colonoscopy with Boston
 // 2/2/2 holding the lesions given.
-func testCase(id string, ls ...logbook.Lesion) *logbook.Case {
+func fxCase(id string, ls ...logbook.Lesion) *logbook.Case {
 	p := logbook.NewProcedure()
 	p.ID, p.PerformedOn, p.OperatorID = id, time.Date(2026, 3, 2, 0, 0, 0, 0, time.UTC), "E01"
 	p.PatientKey = "5f2c0d9e8b7a6f5e4d3c2b1a09f8e7d6c5b4a39281706f5e4d3c2b1a09f8e7d6"
@@ -66,22 +66,22 @@ func testCase(id string, ls ...logbook.Lesion) *logbook.Case {
 }
 
 // tweak changes c's procedure and returns c.
-func tweak(c *logbook.Case, f func(p *logbook.Procedure)) *logbook.Case {
+func fxTweak(c *logbook.Case, f func(p *logbook.Procedure)) *logbook.Case {
 	f(&c.Procedure)
 	return c
 }
 
 // lesions returns n lesions numbered from first, all alike.
-func lesions(first, n int, h logbook.Histology, size int, opts ...lesionOpt) []logbook.Lesion {
+func fxLesions(first, n int, h logbook.Histology, size int, opts ...lesionOpt) []logbook.Lesion {
 	out := make([]logbook.Lesion, n)
 	for i := range out {
-		out[i] = testLesion(first+i, h, size, opts...)
+		out[i] = fxLesion(first+i, h, size, opts...)
 	}
 	return out
 }
 
 // join concatenates lesion lists.
-func join(lists ...[]logbook.Lesion) []logbook.Lesion {
+func fxJoin(lists ...[]logbook.Lesion) []logbook.Lesion {
 	var out []logbook.Lesion
 	for _, l := range lists {
 		out = append(out, l...)

@@ -10,14 +10,14 @@ import (
 
 // Shorthands for the table tests.
 const (
-	ta   = logbook.TubularAdenoma
-	tva  = logbook.TubulovillousAdeno
-	va   = logbook.VillousAdenoma
-	ssl  = logbook.HistSSL
-	sslD = logbook.HistSSLDysplasia
-	tsa  = logbook.HistTSA
-	hp   = logbook.HistHyperplastic
-	ca   = logbook.Adenocarcinoma
+	hTA   = logbook.TubularAdenoma
+	hTVA  = logbook.TubulovillousAdeno
+	hVA   = logbook.VillousAdenoma
+	hSSL  = logbook.HistSSL
+	hSSLD = logbook.HistSSLDysplasia
+	hTSA  = logbook.HistTSA
+	hHP   = logbook.HistHyperplastic
+	hCA   = logbook.Adenocarcinoma
 )
 
 type intervalCase struct {
@@ -71,63 +71,63 @@ func runIntervalCases(t *testing.T, g Guideline, cases []intervalCase) {
 func TestSuggestUSMSTF(t *testing.T) {
 	runIntervalCases(t, USMSTF2020, []intervalCase{
 		// Row "normal colonoscopy" → 10 y.
-		{"normal", testCase("P1"), logbook.Interval10y, "no adenoma"},
+		{"normal", fxCase("P1"), logbook.Interval10y, "no adenoma"},
 		// Row "≤20 hyperplastic polyps <10 mm" → 10 y (20 is still ≤20; in the
 		// rectum so no serrated polyposis rule applies).
-		{"20 small hyperplastic", testCase("P2", lesions(1, 20, hp, 4, at(logbook.Rectum))...), logbook.Interval10y, "only hyperplastic"},
+		{"20 small hyperplastic", fxCase("P2", fxLesions(1, 20, hHP, 4, fxAt(logbook.Rectum))...), logbook.Interval10y, "only hyperplastic"},
 		// Normal or inflammatory histology plays no part (§4 step 3).
-		{"normal and inflammatory histology", testCase("P3", testLesion(1, logbook.HistNormal, 4), testLesion(2, logbook.HistInflammatory, 12)), logbook.Interval10y, ""},
+		{"normal and inflammatory histology", fxCase("P3", fxLesion(1, logbook.HistNormal, 4), fxLesion(2, logbook.HistInflammatory, 12)), logbook.Interval10y, ""},
 		// Row "1–2 tubular adenomas <10 mm" → 7–10 y.
-		{"1 small adenoma", testCase("P4", testLesion(1, ta, 6)), logbook.Interval7to10y, "1 adenoma"},
-		{"2 small adenomas", testCase("P5", lesions(1, 2, ta, 9)...), logbook.Interval7to10y, "2 adenomas"},
+		{"1 small adenoma", fxCase("P4", fxLesion(1, hTA, 6)), logbook.Interval7to10y, "1 adenoma"},
+		{"2 small adenomas", fxCase("P5", fxLesions(1, 2, hTA, 9)...), logbook.Interval7to10y, "2 adenomas"},
 		// Row "3–4 tubular adenomas <10 mm" → 3–5 y.
-		{"3 small adenomas", testCase("P6", lesions(1, 3, ta, 4)...), logbook.Interval3to5y, "3 adenomas"},
-		{"4 small adenomas", testCase("P7", lesions(1, 4, ta, 4)...), logbook.Interval3to5y, ""},
+		{"3 small adenomas", fxCase("P6", fxLesions(1, 3, hTA, 4)...), logbook.Interval3to5y, "3 adenomas"},
+		{"4 small adenomas", fxCase("P7", fxLesions(1, 4, hTA, 4)...), logbook.Interval3to5y, ""},
 		// Row "5–10 tubular adenomas <10 mm" → 3 y.
-		{"5 small adenomas", testCase("P8", lesions(1, 5, ta, 4)...), logbook.Interval3y, "5 adenomas"},
-		{"10 small adenomas", testCase("P9", lesions(1, 10, ta, 4)...), logbook.Interval3y, ""},
+		{"5 small adenomas", fxCase("P8", fxLesions(1, 5, hTA, 4)...), logbook.Interval3y, "5 adenomas"},
+		{"10 small adenomas", fxCase("P9", fxLesions(1, 10, hTA, 4)...), logbook.Interval3y, ""},
 		// Row "adenoma ≥10 mm, or tubulovillous/villous, or high-grade dysplasia" → 3 y.
-		{"adenoma 10 mm", testCase("P10", testLesion(1, ta, 10)), logbook.Interval3y, "10 mm or more"},
-		{"tubulovillous small", testCase("P11", testLesion(1, tva, 5)), logbook.Interval3y, "tubulovillous"},
-		{"villous small", testCase("P12", testLesion(1, va, 5)), logbook.Interval3y, "villous adenoma"},
-		{"high-grade dysplasia small", testCase("P13", testLesion(1, ta, 5, dysplasia(logbook.DysplasiaHigh))), logbook.Interval3y, "high-grade"},
+		{"adenoma 10 mm", fxCase("P10", fxLesion(1, hTA, 10)), logbook.Interval3y, "10 mm or more"},
+		{"tubulovillous small", fxCase("P11", fxLesion(1, hTVA, 5)), logbook.Interval3y, "tubulovillous"},
+		{"villous small", fxCase("P12", fxLesion(1, hVA, 5)), logbook.Interval3y, "villous adenoma"},
+		{"high-grade dysplasia small", fxCase("P13", fxLesion(1, hTA, 5, fxDys(logbook.DysplasiaHigh))), logbook.Interval3y, "high-grade"},
 		// Row ">10 adenomas" → 1 y.
-		{"11 adenomas", testCase("P14", lesions(1, 11, ta, 4)...), logbook.Interval1y, "11 adenomas"},
+		{"11 adenomas", fxCase("P14", fxLesions(1, 11, hTA, 4)...), logbook.Interval1y, "11 adenomas"},
 		// Row "piecemeal resection of adenoma or SSL ≥20 mm" → 6 mo.
-		{"piecemeal adenoma 20 mm", testCase("P15", testLesion(1, ta, 20, resected(logbook.EMRPiecemeal))), logbook.Interval6m, "piecemeal"},
-		{"piecemeal SSL 25 mm", testCase("P16", testLesion(1, ssl, 25, resected(logbook.EMRPiecemeal))), logbook.Interval6m, ""},
+		{"piecemeal adenoma 20 mm", fxCase("P15", fxLesion(1, hTA, 20, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, "piecemeal"},
+		{"piecemeal SSL 25 mm", fxCase("P16", fxLesion(1, hSSL, 25, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, ""},
 		// Not TSA (§4 step 4): a piecemeal 30 mm TSA stays at 3 y.
-		{"piecemeal TSA is not 6 mo", testCase("P17", testLesion(1, tsa, 30, resected(logbook.EMRPiecemeal))), logbook.Interval3y, ""},
+		{"piecemeal TSA is not 6 mo", fxCase("P17", fxLesion(1, hTSA, 30, fxRes(logbook.EMRPiecemeal))), logbook.Interval3y, ""},
 		// En bloc 20 mm adenoma is the ≥10 mm row, 3 y; piecemeal 19 mm too.
-		{"en bloc adenoma 20 mm", testCase("P18", testLesion(1, ta, 20, resected(logbook.EMREnBloc))), logbook.Interval3y, ""},
-		{"piecemeal adenoma 19 mm", testCase("P19", testLesion(1, ta, 19, resected(logbook.EMRPiecemeal))), logbook.Interval3y, ""},
+		{"en bloc adenoma 20 mm", fxCase("P18", fxLesion(1, hTA, 20, fxRes(logbook.EMREnBloc))), logbook.Interval3y, ""},
+		{"piecemeal adenoma 19 mm", fxCase("P19", fxLesion(1, hTA, 19, fxRes(logbook.EMRPiecemeal))), logbook.Interval3y, ""},
 		// Row "1–2 SSL <10 mm" → 5–10 y.
-		{"1 small SSL", testCase("P20", testLesion(1, ssl, 6)), logbook.Interval5to10y, "1 sessile serrated lesion"},
-		{"2 small SSL", testCase("P21", lesions(1, 2, ssl, 6)...), logbook.Interval5to10y, ""},
+		{"1 small SSL", fxCase("P20", fxLesion(1, hSSL, 6)), logbook.Interval5to10y, "1 sessile serrated lesion"},
+		{"2 small SSL", fxCase("P21", fxLesions(1, 2, hSSL, 6)...), logbook.Interval5to10y, ""},
 		// Row "3–4 SSL <10 mm" → 3–5 y.
-		{"3 small SSL", testCase("P22", lesions(1, 3, ssl, 4)...), logbook.Interval3to5y, ""},
-		{"4 small SSL", testCase("P23", lesions(1, 4, ssl, 4)...), logbook.Interval3to5y, ""},
+		{"3 small SSL", fxCase("P22", fxLesions(1, 3, hSSL, 4)...), logbook.Interval3to5y, ""},
+		{"4 small SSL", fxCase("P23", fxLesions(1, 4, hSSL, 4)...), logbook.Interval3to5y, ""},
 		// Row "5–10 SSL <10 mm" → 3 y (4 mm each: below the 5 mm of the WHO criteria).
-		{"5 small SSL", testCase("P24", lesions(1, 5, ssl, 4)...), logbook.Interval3y, "5 sessile"},
-		{"10 small SSL", testCase("P25", lesions(1, 10, ssl, 4)...), logbook.Interval3y, ""},
+		{"5 small SSL", fxCase("P24", fxLesions(1, 5, hSSL, 4)...), logbook.Interval3y, "5 sessile"},
+		{"10 small SSL", fxCase("P25", fxLesions(1, 10, hSSL, 4)...), logbook.Interval3y, ""},
 		// Row "SSL ≥10 mm, SSL with dysplasia, or TSA" → 3 y.
-		{"SSL 10 mm", testCase("P26", testLesion(1, ssl, 10)), logbook.Interval3y, ""},
-		{"SSL with dysplasia", testCase("P27", testLesion(1, sslD, 6)), logbook.Interval3y, "with dysplasia"},
-		{"TSA", testCase("P28", testLesion(1, tsa, 6)), logbook.Interval3y, "traditional serrated"},
+		{"SSL 10 mm", fxCase("P26", fxLesion(1, hSSL, 10)), logbook.Interval3y, ""},
+		{"SSL with dysplasia", fxCase("P27", fxLesion(1, hSSLD, 6)), logbook.Interval3y, "with dysplasia"},
+		{"TSA", fxCase("P28", fxLesion(1, hTSA, 6)), logbook.Interval3y, "traditional serrated"},
 		// Row "hyperplastic polyp ≥10 mm" → 3–5 y.
-		{"hyperplastic 10 mm", testCase("P29", testLesion(1, hp, 10, at(logbook.Sigmoid))), logbook.Interval3to5y, "hyperplastic polyp of 10 mm"},
+		{"hyperplastic 10 mm", fxCase("P29", fxLesion(1, hHP, 10, fxAt(logbook.Sigmoid))), logbook.Interval3to5y, "hyperplastic polyp of 10 mm"},
 
 		// Combinations: the shortest candidate wins (§4 step 4).
 		// 1 adenoma (7–10 y) + 1 SSL (5–10 y): 5–10 y has the lower bound.
-		{"adenoma and SSL", testCase("P30", testLesion(1, ta, 4), testLesion(2, ssl, 4)), logbook.Interval5to10y, ""},
+		{"adenoma and SSL", fxCase("P30", fxLesion(1, hTA, 4), fxLesion(2, hSSL, 4)), logbook.Interval5to10y, ""},
 		// 2 adenomas (7–10 y) + hyperplastic 12 mm (3–5 y) → 3–5 y.
-		{"adenomas and large hyperplastic", testCase("P31", testLesion(1, ta, 4), testLesion(2, ta, 4), testLesion(3, hp, 12)), logbook.Interval3to5y, ""},
+		{"adenomas and large hyperplastic", fxCase("P31", fxLesion(1, hTA, 4), fxLesion(2, hTA, 4), fxLesion(3, hHP, 12)), logbook.Interval3to5y, ""},
 		// 3 adenomas (3–5 y) + SSL 12 mm (3 y) → 3 y: 3 y sorts before 3–5 y.
-		{"3 adenomas and large SSL", testCase("P32", append(lesions(1, 3, ta, 4), testLesion(4, ssl, 12))...), logbook.Interval3y, "sessile serrated lesion of 12 mm"},
+		{"3 adenomas and large SSL", fxCase("P32", append(fxLesions(1, 3, hTA, 4), fxLesion(4, hSSL, 12))...), logbook.Interval3y, "sessile serrated lesion of 12 mm"},
 		// 12 adenomas (1 y) + piecemeal 25 mm adenoma (6 mo) → 6 mo.
-		{"many adenomas and piecemeal", testCase("P33", append(lesions(1, 12, ta, 4), testLesion(13, ta, 25, resected(logbook.EMRPiecemeal)))...), logbook.Interval6m, ""},
+		{"many adenomas and piecemeal", fxCase("P33", append(fxLesions(1, 12, hTA, 4), fxLesion(13, hTA, 25, fxRes(logbook.EMRPiecemeal)))...), logbook.Interval6m, ""},
 		// Adenomas are counted whatever their size: 1 large + 1 small = 2 adenomas (7–10 y) but the large one gives 3 y.
-		{"large and small adenoma", testCase("P34", testLesion(1, ta, 15), testLesion(2, ta, 3)), logbook.Interval3y, ""},
+		{"large and small adenoma", fxCase("P34", fxLesion(1, hTA, 15), fxLesion(2, hTA, 3)), logbook.Interval3y, ""},
 	})
 }
 
@@ -137,31 +137,31 @@ func TestSuggestUSMSTF(t *testing.T) {
 // clinical-reference §4).
 func TestSuggestESGE(t *testing.T) {
 	runIntervalCases(t, ESGE2020, []intervalCase{
-		{"normal", testCase("E1"), logbook.IntervalScreening, "no adenoma"},
+		{"normal", fxCase("E1"), logbook.IntervalScreening, "no adenoma"},
 		// "1–4 adenomas <10 mm with low-grade dysplasia (villous or not)" → screening.
-		{"1 small adenoma", testCase("E2", testLesion(1, ta, 6)), logbook.IntervalScreening, "1 adenoma"},
-		{"4 small adenomas", testCase("E3", lesions(1, 4, ta, 9)...), logbook.IntervalScreening, ""},
-		{"small tubulovillous", testCase("E4", testLesion(1, tva, 8)), logbook.IntervalScreening, ""},
+		{"1 small adenoma", fxCase("E2", fxLesion(1, hTA, 6)), logbook.IntervalScreening, "1 adenoma"},
+		{"4 small adenomas", fxCase("E3", fxLesions(1, 4, hTA, 9)...), logbook.IntervalScreening, ""},
+		{"small tubulovillous", fxCase("E4", fxLesion(1, hTVA, 8)), logbook.IntervalScreening, ""},
 		// "any serrated polyp <10 mm without dysplasia" → screening.
-		{"small SSL", testCase("E5", testLesion(1, ssl, 8)), logbook.IntervalScreening, "1 serrated polyp"},
-		{"small hyperplastic", testCase("E6", testLesion(1, hp, 8)), logbook.IntervalScreening, ""},
-		{"small TSA without a grade", testCase("E7", testLesion(1, tsa, 8)), logbook.IntervalScreening, ""},
+		{"small SSL", fxCase("E5", fxLesion(1, hSSL, 8)), logbook.IntervalScreening, "1 serrated polyp"},
+		{"small hyperplastic", fxCase("E6", fxLesion(1, hHP, 8)), logbook.IntervalScreening, ""},
+		{"small TSA without a grade", fxCase("E7", fxLesion(1, hTSA, 8)), logbook.IntervalScreening, ""},
 		// "≥1 adenoma ≥10 mm or with high-grade dysplasia" → 3 y.
-		{"adenoma 10 mm", testCase("E8", testLesion(1, ta, 10)), logbook.Interval3y, "10 mm or more"},
-		{"high-grade dysplasia", testCase("E9", testLesion(1, ta, 4, dysplasia(logbook.DysplasiaHigh))), logbook.Interval3y, "high-grade"},
+		{"adenoma 10 mm", fxCase("E8", fxLesion(1, hTA, 10)), logbook.Interval3y, "10 mm or more"},
+		{"high-grade dysplasia", fxCase("E9", fxLesion(1, hTA, 4, fxDys(logbook.DysplasiaHigh))), logbook.Interval3y, "high-grade"},
 		// "≥5 adenomas" → 3 y.
-		{"5 small adenomas", testCase("E10", lesions(1, 5, ta, 4)...), logbook.Interval3y, "5 adenomas"},
+		{"5 small adenomas", fxCase("E10", fxLesions(1, 5, hTA, 4)...), logbook.Interval3y, "5 adenomas"},
 		// "any serrated polyp ≥10 mm or with dysplasia" → 3 y; hyperplastic counts as serrated here.
-		{"SSL 10 mm", testCase("E11", testLesion(1, ssl, 10)), logbook.Interval3y, ""},
-		{"hyperplastic 12 mm", testCase("E12", testLesion(1, hp, 12, at(logbook.Sigmoid))), logbook.Interval3y, "hyperplastic polyp of 12 mm"},
-		{"SSL with dysplasia", testCase("E13", testLesion(1, sslD, 6)), logbook.Interval3y, "with dysplasia"},
-		{"TSA with a recorded grade", testCase("E14", testLesion(1, tsa, 6, dysplasia(logbook.DysplasiaLow))), logbook.Interval3y, ""},
+		{"SSL 10 mm", fxCase("E11", fxLesion(1, hSSL, 10)), logbook.Interval3y, ""},
+		{"hyperplastic 12 mm", fxCase("E12", fxLesion(1, hHP, 12, fxAt(logbook.Sigmoid))), logbook.Interval3y, "hyperplastic polyp of 12 mm"},
+		{"SSL with dysplasia", fxCase("E13", fxLesion(1, hSSLD, 6)), logbook.Interval3y, "with dysplasia"},
+		{"TSA with a recorded grade", fxCase("E14", fxLesion(1, hTSA, 6, fxDys(logbook.DysplasiaLow))), logbook.Interval3y, ""},
 		// "piecemeal resection of a polyp ≥20 mm" → 3–6 months.
-		{"piecemeal adenoma 20 mm", testCase("E15", testLesion(1, ta, 20, resected(logbook.EMRPiecemeal))), logbook.Interval3to6m, "piecemeal"},
-		{"piecemeal SSL 30 mm", testCase("E16", testLesion(1, ssl, 30, resected(logbook.EMRPiecemeal))), logbook.Interval3to6m, ""},
-		{"en bloc adenoma 25 mm", testCase("E17", testLesion(1, ta, 25, resected(logbook.ESD))), logbook.Interval3y, ""},
+		{"piecemeal adenoma 20 mm", fxCase("E15", fxLesion(1, hTA, 20, fxRes(logbook.EMRPiecemeal))), logbook.Interval3to6m, "piecemeal"},
+		{"piecemeal SSL 30 mm", fxCase("E16", fxLesion(1, hSSL, 30, fxRes(logbook.EMRPiecemeal))), logbook.Interval3to6m, ""},
+		{"en bloc adenoma 25 mm", fxCase("E17", fxLesion(1, hTA, 25, fxRes(logbook.ESD))), logbook.Interval3y, ""},
 		// Combination: 4 small adenomas and one piecemeal 22 mm → 3–6 mo.
-		{"combination", testCase("E18", append(lesions(1, 4, ta, 4), testLesion(5, ta, 22, resected(logbook.EMRPiecemeal)))...), logbook.Interval3to6m, ""},
+		{"combination", fxCase("E18", append(fxLesions(1, 4, hTA, 4), fxLesion(5, hTA, 22, fxRes(logbook.EMRPiecemeal)))...), logbook.Interval3to6m, ""},
 	})
 }
 
@@ -171,30 +171,30 @@ func TestSuggestESGE(t *testing.T) {
 // clinical-reference §4).
 func TestSuggestBSG(t *testing.T) {
 	runIntervalCases(t, BSG2020, []intervalCase{
-		{"normal", testCase("B1"), logbook.IntervalScreening, "no premalignant"},
+		{"normal", fxCase("B1"), logbook.IntervalScreening, "no premalignant"},
 		// One advanced polyp alone is not high risk.
-		{"1 advanced adenoma", testCase("B2", testLesion(1, ta, 15)), logbook.IntervalScreening, "1 premalignant polyp, 1 of them advanced"},
+		{"1 advanced adenoma", fxCase("B2", fxLesion(1, hTA, 15)), logbook.IntervalScreening, "1 premalignant polyp, 1 of them advanced"},
 		// "≥2 premalignant polyps including ≥1 advanced" → 3 y.
-		{"2 premalignant, 1 advanced", testCase("B3", testLesion(1, ta, 15), testLesion(2, ta, 4)), logbook.Interval3y, "2 premalignant polyps including 1 advanced"},
-		{"high-grade and small SSL", testCase("B4", testLesion(1, ta, 4, dysplasia(logbook.DysplasiaHigh)), testLesion(2, ssl, 4)), logbook.Interval3y, ""},
-		{"SSL with dysplasia and adenoma", testCase("B5", testLesion(1, sslD, 6), testLesion(2, ta, 4)), logbook.Interval3y, ""},
-		{"serrated 10 mm and adenoma", testCase("B6", testLesion(1, hp, 10, at(logbook.Sigmoid)), testLesion(2, ta, 4)), logbook.Interval3y, ""},
+		{"2 premalignant, 1 advanced", fxCase("B3", fxLesion(1, hTA, 15), fxLesion(2, hTA, 4)), logbook.Interval3y, "2 premalignant polyps including 1 advanced"},
+		{"high-grade and small SSL", fxCase("B4", fxLesion(1, hTA, 4, fxDys(logbook.DysplasiaHigh)), fxLesion(2, hSSL, 4)), logbook.Interval3y, ""},
+		{"SSL with dysplasia and adenoma", fxCase("B5", fxLesion(1, hSSLD, 6), fxLesion(2, hTA, 4)), logbook.Interval3y, ""},
+		{"serrated 10 mm and adenoma", fxCase("B6", fxLesion(1, hHP, 10, fxAt(logbook.Sigmoid)), fxLesion(2, hTA, 4)), logbook.Interval3y, ""},
 		// "≥5 premalignant polyps" → 3 y; 4 is not enough.
-		{"5 premalignant", testCase("B7", lesions(1, 5, ta, 4)...), logbook.Interval3y, "5 premalignant"},
-		{"4 premalignant", testCase("B8", lesions(1, 4, ta, 4)...), logbook.IntervalScreening, ""},
+		{"5 premalignant", fxCase("B7", fxLesions(1, 5, hTA, 4)...), logbook.Interval3y, "5 premalignant"},
+		{"4 premalignant", fxCase("B8", fxLesions(1, 4, hTA, 4)...), logbook.IntervalScreening, ""},
 		// Diminutive rectal hyperplastic polyps are not premalignant; in the sigmoid they are.
-		{"5 diminutive rectal hyperplastic", testCase("B9", lesions(1, 5, hp, 4, at(logbook.Rectum))...), logbook.IntervalScreening, "no premalignant"},
-		{"5 diminutive sigmoid hyperplastic", testCase("B10", lesions(1, 5, hp, 4, at(logbook.Sigmoid))...), logbook.Interval3y, ""},
-		{"6 mm rectal hyperplastic counts", testCase("B11", append(lesions(1, 4, ta, 4), testLesion(5, hp, 6, at(logbook.Rectum)))...), logbook.Interval3y, ""},
+		{"5 diminutive rectal hyperplastic", fxCase("B9", fxLesions(1, 5, hHP, 4, fxAt(logbook.Rectum))...), logbook.IntervalScreening, "no premalignant"},
+		{"5 diminutive sigmoid hyperplastic", fxCase("B10", fxLesions(1, 5, hHP, 4, fxAt(logbook.Sigmoid))...), logbook.Interval3y, ""},
+		{"6 mm rectal hyperplastic counts", fxCase("B11", append(fxLesions(1, 4, hTA, 4), fxLesion(5, hHP, 6, fxAt(logbook.Rectum)))...), logbook.Interval3y, ""},
 		// "Large (≥20 mm) non-pedunculated polyp removed piecemeal" → site check 2–6 mo.
-		{"piecemeal 20 mm sessile", testCase("B12", testLesion(1, ta, 20, resected(logbook.EMRPiecemeal), paris(logbook.Paris0Is))), logbook.Interval2to6m, "site check"},
-		{"piecemeal 25 mm, Paris not recorded", testCase("B13", testLesion(1, ssl, 25, resected(logbook.EMRPiecemeal))), logbook.Interval2to6m, ""},
+		{"piecemeal 20 mm sessile", fxCase("B12", fxLesion(1, hTA, 20, fxRes(logbook.EMRPiecemeal), fxParis(logbook.Paris0Is))), logbook.Interval2to6m, "site check"},
+		{"piecemeal 25 mm, Paris not recorded", fxCase("B13", fxLesion(1, hSSL, 25, fxRes(logbook.EMRPiecemeal))), logbook.Interval2to6m, ""},
 		// "removed en bloc R0 → one-off check at 3 years".
-		{"en bloc 22 mm flat", testCase("B14", testLesion(1, ta, 22, resected(logbook.EMREnBloc), paris(logbook.Paris0IIa))), logbook.Interval3y, "one-off check"},
+		{"en bloc 22 mm flat", fxCase("B14", fxLesion(1, hTA, 22, fxRes(logbook.EMREnBloc), fxParis(logbook.Paris0IIa))), logbook.Interval3y, "one-off check"},
 		// Pedunculated (0-Ip) is outside the large non-pedunculated rule: a single advanced polyp → screening.
-		{"piecemeal 25 mm pedunculated", testCase("B15", testLesion(1, ta, 25, resected(logbook.EMRPiecemeal), paris(logbook.Paris0Ip))), logbook.IntervalScreening, ""},
+		{"piecemeal 25 mm pedunculated", fxCase("B15", fxLesion(1, hTA, 25, fxRes(logbook.EMRPiecemeal), fxParis(logbook.Paris0Ip))), logbook.IntervalScreening, ""},
 		// Combination: high risk (3 y) and a piecemeal site check (2–6 mo) → 2–6 mo.
-		{"combination", testCase("B16", append(lesions(1, 5, ta, 4), testLesion(6, ta, 30, resected(logbook.EMRPiecemeal)))...), logbook.Interval2to6m, ""},
+		{"combination", fxCase("B16", append(fxLesions(1, 5, hTA, 4), fxLesion(6, hTA, 30, fxRes(logbook.EMRPiecemeal)))...), logbook.Interval2to6m, ""},
 	})
 }
 
@@ -214,45 +214,45 @@ func TestSuggestGateAndOutside(t *testing.T) {
 	// WHO criterion 2 without the others: 10 SSL (not more than 10) and 6
 	// hyperplastic in the rectum, 5 TSA in the sigmoid: 21 serrated, 5 of
 	// them proximal to the rectum, 11 hyperplastic (not more than 20).
-	who2 := join(lesions(1, 10, ssl, 3, at(logbook.Rectum)), lesions(11, 6, hp, 3, at(logbook.Rectum)), lesions(17, 5, tsa, 3, at(logbook.Sigmoid)))
-	who2short := join(lesions(1, 10, ssl, 3, at(logbook.Rectum)), lesions(11, 7, hp, 3, at(logbook.Rectum)), lesions(18, 4, tsa, 3, at(logbook.Sigmoid)))
+	who2 := fxJoin(fxLesions(1, 10, hSSL, 3, fxAt(logbook.Rectum)), fxLesions(11, 6, hHP, 3, fxAt(logbook.Rectum)), fxLesions(17, 5, hTSA, 3, fxAt(logbook.Sigmoid)))
+	who2short := fxJoin(fxLesions(1, 10, hSSL, 3, fxAt(logbook.Rectum)), fxLesions(11, 7, hHP, 3, fxAt(logbook.Rectum)), fxLesions(18, 4, hTSA, 3, fxAt(logbook.Sigmoid)))
 	cases := []intervalCase{
-		{"incomplete", tweak(testCase("G1", testLesion(1, ta, 4)), incomplete), logbook.IntervalRepeat, "incomplete"},
-		{"one segment scored 1", tweak(testCase("G2"), func(p *logbook.Procedure) { p.BBPSRight, p.BBPSTransverse, p.BBPSLeft = 3, 3, 1 }), logbook.IntervalRepeat, "left colon scored 1"},
-		{"one segment scored 0, others missing", tweak(testCase("G3"), func(p *logbook.Procedure) { noBBPS(p); p.BBPSTransverse = 0 }), logbook.IntervalRepeat, "transverse"},
-		{"missing Boston scores pass", tweak(testCase("G4", testLesion(1, ta, 4)), noBBPS), logbook.Interval7to10y, ""},
-		{"inflammatory bowel disease", tweak(testCase("G5", testLesion(1, ta, 4)), func(p *logbook.Procedure) { p.Exclusion = logbook.IBD }), logbook.IntervalOutside, "inflammatory bowel disease"},
-		{"hereditary syndrome", tweak(testCase("G6"), func(p *logbook.Procedure) { p.Exclusion = logbook.HereditarySyndrome }), logbook.IntervalOutside, "hereditary"},
-		{"known neoplasm is not outside", tweak(testCase("G7", testLesion(1, ta, 4)), func(p *logbook.Procedure) { p.Exclusion = logbook.KnownNeoplasm }), logbook.Interval7to10y, ""},
-		{"the gate comes before the exclusion", tweak(tweak(testCase("G8"), incomplete), func(p *logbook.Procedure) { p.Exclusion = logbook.IBD }), logbook.IntervalRepeat, ""},
-		{"adenocarcinoma", testCase("G9", testLesion(1, ca, 18, dysplasia(logbook.DysplasiaHigh)), testLesion(2, ta, 4)), logbook.IntervalOutside, "adenocarcinoma"},
-		{"11 SSL", testCase("G10", lesions(1, 11, ssl, 3, at(logbook.Rectum))...), logbook.IntervalOutside, "11 sessile serrated lesions"},
-		{"21 hyperplastic", testCase("G11", lesions(1, 21, hp, 3, at(logbook.Rectum))...), logbook.IntervalOutside, "21 hyperplastic"},
+		{"incomplete", fxTweak(fxCase("G1", fxLesion(1, hTA, 4)), incomplete), logbook.IntervalRepeat, "incomplete"},
+		{"one segment scored 1", fxTweak(fxCase("G2"), func(p *logbook.Procedure) { p.BBPSRight, p.BBPSTransverse, p.BBPSLeft = 3, 3, 1 }), logbook.IntervalRepeat, "left colon scored 1"},
+		{"one segment scored 0, others missing", fxTweak(fxCase("G3"), func(p *logbook.Procedure) { noBBPS(p); p.BBPSTransverse = 0 }), logbook.IntervalRepeat, "transverse"},
+		{"missing Boston scores pass", fxTweak(fxCase("G4", fxLesion(1, hTA, 4)), noBBPS), logbook.Interval7to10y, ""},
+		{"inflammatory bowel disease", fxTweak(fxCase("G5", fxLesion(1, hTA, 4)), func(p *logbook.Procedure) { p.Exclusion = logbook.IBD }), logbook.IntervalOutside, "inflammatory bowel disease"},
+		{"hereditary syndrome", fxTweak(fxCase("G6"), func(p *logbook.Procedure) { p.Exclusion = logbook.HereditarySyndrome }), logbook.IntervalOutside, "hereditary"},
+		{"known neoplasm is not outside", fxTweak(fxCase("G7", fxLesion(1, hTA, 4)), func(p *logbook.Procedure) { p.Exclusion = logbook.KnownNeoplasm }), logbook.Interval7to10y, ""},
+		{"the gate comes before the exclusion", fxTweak(fxTweak(fxCase("G8"), incomplete), func(p *logbook.Procedure) { p.Exclusion = logbook.IBD }), logbook.IntervalRepeat, ""},
+		{"adenocarcinoma", fxCase("G9", fxLesion(1, hCA, 18, fxDys(logbook.DysplasiaHigh)), fxLesion(2, hTA, 4)), logbook.IntervalOutside, "adenocarcinoma"},
+		{"11 SSL", fxCase("G10", fxLesions(1, 11, hSSL, 3, fxAt(logbook.Rectum))...), logbook.IntervalOutside, "11 sessile serrated lesions"},
+		{"21 hyperplastic", fxCase("G11", fxLesions(1, 21, hHP, 3, fxAt(logbook.Rectum))...), logbook.IntervalOutside, "21 hyperplastic"},
 		// WHO criterion 1: 5 serrated ≥5 mm proximal to the rectum, 2 of them ≥10 mm.
-		{"serrated polyposis, criterion 1", testCase("G12", append(lesions(1, 3, hp, 5, at(logbook.Sigmoid)), lesions(4, 2, ssl, 10, at(logbook.Transverse))...)...), logbook.IntervalOutside, "5 serrated lesions of 5 mm or more"},
+		{"serrated polyposis, criterion 1", fxCase("G12", append(fxLesions(1, 3, hHP, 5, fxAt(logbook.Sigmoid)), fxLesions(4, 2, hSSL, 10, fxAt(logbook.Transverse))...)...), logbook.IntervalOutside, "5 serrated lesions of 5 mm or more"},
 		// Only one ≥10 mm: not met; the SSL of 10 mm gives 3 y.
-		{"criterion 1 not met with one large", testCase("G13", append(lesions(1, 4, hp, 5, at(logbook.Sigmoid)), testLesion(5, ssl, 10))...), logbook.Interval3y, ""},
+		{"criterion 1 not met with one large", fxCase("G13", append(fxLesions(1, 4, hHP, 5, fxAt(logbook.Sigmoid)), fxLesion(5, hSSL, 10))...), logbook.Interval3y, ""},
 		// In the rectum they do not count.
-		{"criterion 1 not met in the rectum", testCase("G14", append(lesions(1, 3, hp, 6, at(logbook.Rectum)), lesions(4, 2, ssl, 10, at(logbook.Transverse))...)...), logbook.Interval3y, ""},
-		{"serrated polyposis, criterion 2", testCase("G15", who2...), logbook.IntervalOutside, "21 serrated lesions, 5 of them proximal"},
-		{"criterion 2 not met with 4 proximal", testCase("G16", who2short...), logbook.Interval3y, ""},
+		{"criterion 1 not met in the rectum", fxCase("G14", append(fxLesions(1, 3, hHP, 6, fxAt(logbook.Rectum)), fxLesions(4, 2, hSSL, 10, fxAt(logbook.Transverse))...)...), logbook.Interval3y, ""},
+		{"serrated polyposis, criterion 2", fxCase("G15", who2...), logbook.IntervalOutside, "21 serrated lesions, 5 of them proximal"},
+		{"criterion 2 not met with 4 proximal", fxCase("G16", who2short...), logbook.Interval3y, ""},
 		// Lesions without histology (§4 step 1).
-		{"substituted diminutive adenoma", testCase("G17", testLesion(1, "", 4, called(logbook.OpticalAdenoma, logbook.HighConfidence), discarded)), logbook.Interval7to10y, "read by its high-confidence optical call (adenoma, 4 mm)"},
-		{"substituted hyperplastic left in place", testCase("G18", testLesion(1, "", 3, at(logbook.Rectum), resected(logbook.ResectionNone), called(logbook.OpticalHyperplastic, logbook.HighConfidence), func(l *logbook.Lesion) {
+		{"substituted diminutive adenoma", fxCase("G17", fxLesion(1, "", 4, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence), fxDiscarded)), logbook.Interval7to10y, "read by its high-confidence optical call (adenoma, 4 mm)"},
+		{"substituted hyperplastic left in place", fxCase("G18", fxLesion(1, "", 3, fxAt(logbook.Rectum), fxRes(logbook.ResectionNone), fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence), func(l *logbook.Lesion) {
 			l.Retrieved, l.SentToPathology, l.Histology, l.Dysplasia = logbook.No, logbook.No, "", ""
 		})), logbook.Interval10y, ""},
-		{"substituted SSL awaiting histology", testCase("G19", testLesion(1, "", 5, called(logbook.OpticalSSL, logbook.HighConfidence), awaiting)), logbook.Interval5to10y, ""},
+		{"substituted SSL fxAwaiting histology", fxCase("G19", fxLesion(1, "", 5, fxCall(logbook.OpticalSSL, logbook.HighConfidence), fxAwaiting)), logbook.Interval5to10y, ""},
 		// Three substituted adenomas plus two with histology: 5 adenomas → 3 y.
-		{"substituted and histology together", testCase("G20", join(lesions(1, 3, "", 2, called(logbook.OpticalAdenoma, logbook.HighConfidence), discarded), lesions(4, 2, ta, 7))...), logbook.Interval3y, "5 adenomas"},
-		{"low confidence awaits histology", testCase("G21", testLesion(1, "", 4, called(logbook.OpticalAdenoma, logbook.LowConfidence), discarded)), logbook.IntervalPending, "lesion 1"},
-		{"6 mm is not diminutive", testCase("G22", testLesion(1, "", 6, called(logbook.OpticalAdenoma, logbook.HighConfidence), awaiting)), logbook.IntervalPending, ""},
-		{"deep invasive call is never substituted", testCase("G23", testLesion(1, "", 5, called(logbook.OpticalDeepInvasive, logbook.HighConfidence), awaiting)), logbook.IntervalPending, ""},
-		{"no optical call", testCase("G24", testLesion(1, ta, 4), testLesion(2, "", 4, awaiting)), logbook.IntervalPending, "lesion 2"},
+		{"substituted and histology together", fxCase("G20", fxJoin(fxLesions(1, 3, "", 2, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence), fxDiscarded), fxLesions(4, 2, hTA, 7))...), logbook.Interval3y, "5 adenomas"},
+		{"low confidence awaits histology", fxCase("G21", fxLesion(1, "", 4, fxCall(logbook.OpticalAdenoma, logbook.LowConfidence), fxDiscarded)), logbook.IntervalPending, "lesion 1"},
+		{"6 mm is not diminutive", fxCase("G22", fxLesion(1, "", 6, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence), fxAwaiting)), logbook.IntervalPending, ""},
+		{"deep invasive call is never substituted", fxCase("G23", fxLesion(1, "", 5, fxCall(logbook.OpticalDeepInvasive, logbook.HighConfidence), fxAwaiting)), logbook.IntervalPending, ""},
+		{"no optical call", fxCase("G24", fxLesion(1, hTA, 4), fxLesion(2, "", 4, fxAwaiting)), logbook.IntervalPending, "lesion 2"},
 		// Histology, when final, wins over the optical call.
-		{"histology beats the call", testCase("G25", testLesion(1, ssl, 4, called(logbook.OpticalAdenoma, logbook.HighConfidence))), logbook.Interval5to10y, ""},
+		{"histology beats the call", fxCase("G25", fxLesion(1, hSSL, 4, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence))), logbook.Interval5to10y, ""},
 		// Step 1 comes before step 2: a cancer with another lesion still
 		// pending is pending, not outside.
-		{"pending before outside", testCase("G26", testLesion(1, ca, 25), testLesion(2, "", 8, awaiting)), logbook.IntervalPending, ""},
+		{"pending before outside", fxCase("G26", fxLesion(1, hCA, 25), fxLesion(2, "", 8, fxAwaiting)), logbook.IntervalPending, ""},
 	}
 	for _, g := range Guidelines {
 		t.Run(string(g), func(t *testing.T) {
@@ -319,18 +319,18 @@ func TestParseGuideline(t *testing.T) {
 // TestReadLesionsModes checks that the two reading modes differ only for
 // lesions whose optical call may stand in for histology.
 func TestReadLesionsModes(t *testing.T) {
-	c := testCase("R1",
-		testLesion(1, hp, 4, called(logbook.OpticalAdenoma, logbook.HighConfidence)), // stands in under OpticalFirst
-		testLesion(2, ta, 4, called(logbook.OpticalAdenoma, logbook.LowConfidence)),  // low confidence: histology
-		testLesion(3, ta, 7, called(logbook.OpticalAdenoma, logbook.HighConfidence)), // 7 mm: histology
-		testLesion(4, ssl, 3, called(logbook.OpticalSSL, logbook.HighConfidence)),    // stands in, same answer
+	c := fxCase("R1",
+		fxLesion(1, hHP, 4, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence)), // stands in under OpticalFirst
+		fxLesion(2, hTA, 4, fxCall(logbook.OpticalAdenoma, logbook.LowConfidence)),  // low confidence: histology
+		fxLesion(3, hTA, 7, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence)), // 7 mm: histology
+		fxLesion(4, hSSL, 3, fxCall(logbook.OpticalSSL, logbook.HighConfidence)),    // stands in, same answer
 	)
 	h, o := ReadLesions(c, HistologyFirst), ReadLesions(c, OpticalFirst)
 	if len(h.Unread) != 0 || len(o.Unread) != 0 || len(h.Lesions) != 4 || len(o.Lesions) != 4 {
 		t.Fatalf("readings %+v / %+v", h, o)
 	}
-	wantH := []logbook.Histology{hp, ta, ta, ssl}
-	wantO := []logbook.Histology{ta, ta, ta, ssl}
+	wantH := []logbook.Histology{hHP, hTA, hTA, hSSL}
+	wantO := []logbook.Histology{hTA, hTA, hTA, hSSL}
 	for i := range wantH {
 		if h.Lesions[i].Histology != wantH[i] || h.Lesions[i].FromOptical {
 			t.Errorf("histology-first lesion %d: %+v", i+1, h.Lesions[i])

@@ -1,0 +1,85 @@
+package report
+
+import (
+	"strings"
+
+	"polypledger/logbook"
+)
+
+// Adherence is the accumulator of `interval_adherence` (clinical-reference
+// §4, "Interval adherence indicator"): procedures whose recorded
+// recommended_interval equals the interval the program computes under its
+// guideline, over procedures with a recorded recommendation. The codes are
+// compared literally, so a recorded "3y" matches a computed "3y" only, and a
+// recorded recommendation on a procedure the program calls "pending",
+// "repeat" or "outside" counts as adherent only when the same code was
+// recorded. It counts every procedure of its population in the period, and
+// keeps the list of procedures whose recommendation differs.
+type Adherence struct {
+	guideline  Guideline
+	target     *Target
+	minCases   int
+	n, matched int
+	mismatches []AdherenceMismatch
+}
+
+// AdherenceMismatch is one procedure whose recorded recommendation differs
+// from the computed interval.
+type AdherenceMismatch struct {
+	ProcedureID string           `json:"procedure_id"`
+	Patient     string           `json:"patient"` // logbook.ShortCode of the pseudonym
+	OperatorID  string           `json:"operator_id"`
+	Recorded    logbook.Interval `json:"recorded"`
+	Computed    logbook.Interval `json:"computed"`
+}
+
+// NewAdherence returns an interval_adherence accumulator under guideline g,
+// reported without a target.
+func NewAdherence(g Guideline) Accumulator { return NewAdherenceJudged(g, nil, 0) }
+
+// NewAdherenceJudged returns an interval_adherence accumulator judged
+// against t (nil: reported) with minCases as the too_few minimum, for a
+// profile that sets a target.
+func NewAdherenceJudged(g Guideline, t *Target, minCases int) *Adherence {
+	if _, err := ParseGuideline(string(g)); err != nil {
+		g = DefaultGuideline
+	}
+	return &Adherence{guideline: g, target: t, minCases: minCases}
+}
+
+// Add counts one case; only a mismatch is remembered, by id.
+func (a *Adherence) Add(c *logbook.Case) {
+	if c.RecommendedInterval == "" {
+		return
+	}
+	a.n++
+	got := Suggest(a.guideline, c).Interval
+	if got == c.RecommendedInterval {
+		a.matched++
+		return
+	}
+	a.mismatches = append(a.mismatches, AdherenceMismatch{
+		ProcedureID: strings.Clone(c.ID), Patient: logbook.ShortCode(c.PatientKey),
+		OperatorID: strings.Clone(c.OperatorID), Recorded: c.RecommendedInterval, Computed: got,
+	})
+}
+
+// Indicators returns interval_adherence.
+func (a *Adherence) Indicators() []Indicator {
+	ind := Proportion("interval_adherence", a.matched, a.n)
+	ind.Judge(a.target, a.minCases)
+	return []Indicator{ind}
+}
+
+// Mismatches returns the procedures whose recorded recommendation differs
+// from the computed interval, in the order added.
+func (a *Adherence) Mismatches() []AdherenceMismatch {
+	return append([]AdherenceMismatch(nil), a.mismatches...)
+}
+
+// AdherenceFactory returns a factory for the metrics engine's Extra list
+// (it converts to AccumulatorFactory); t and minCases as for
+// NewAdherenceJudged.
+func AdherenceFactory(g Guideline, t *Target, minCases int) func() Accumulator {
+	return func() Accumulator { return NewAdherenceJudged(g, t, minCases) }
+}
