@@ -222,11 +222,11 @@ func (s *counts) add(f *caseFacts) {
 		case logbook.No:
 			s.withoutAid.add(f.adenoma, f.awaiting)
 		}
-		s.ssl += b2i(f.ssl)
-		s.pdr += b2i(f.polypectomy)
-		s.aadr += b2i(f.advanced)
+		s.ssl += countIf(f.ssl)
+		s.pdr += countIf(f.polypectomy)
+		s.aadr += countIf(f.advanced)
 		s.adenomas += f.adenomas
-		s.proxSerrated += b2i(f.proxSerrated)
+		s.proxSerrated += countIf(f.proxSerrated)
 		if f.complete && f.negative {
 			s.wdCandidates++
 			if f.timed {
@@ -234,7 +234,7 @@ func (s *counts) add(f *caseFacts) {
 				sec := int64(f.withdrawalSec)
 				s.wdSum += sec
 				s.wdSumSq += sec * sec
-				s.wd6 += b2i(f.withdrawalSec >= 360)
+				s.wd6 += countIf(f.withdrawalSec >= 360)
 			}
 		}
 	}
@@ -242,26 +242,26 @@ func (s *counts) add(f *caseFacts) {
 		s.stool.add(f.adenoma, f.awaiting)
 	}
 	s.procs++
-	s.complete += b2i(f.complete)
+	s.complete += countIf(f.complete)
 	if f.cirAdjusted {
 		s.cirAdjDen++
-		s.cirAdjNum += b2i(f.complete)
+		s.cirAdjNum += countIf(f.complete)
 	}
 	if f.complete {
-		s.photo += b2i(f.photo)
+		s.photo += countIf(f.photo)
 	}
-	s.prepRecorded += b2i(f.bbpsRecorded)
+	s.prepRecorded += countIf(f.bbpsRecorded)
 	if f.outpatient && f.bbpsRecorded {
 		s.prepDen++
-		s.prepNum += b2i(f.bbpsAdequate)
+		s.prepNum += countIf(f.bbpsAdequate)
 	}
 	if !f.inpatient && f.bbpsRecorded {
 		s.total6Den++
-		s.total6Num += b2i(f.bbpsTotal6)
+		s.total6Num += countIf(f.bbpsTotal6)
 	}
 	if f.retroCounted {
 		s.retroDen++
-		s.retroNum += b2i(f.retroDone)
+		s.retroNum += countIf(f.retroDone)
 	}
 	s.polyps += f.polypectomies
 	s.retrieved += f.retrieved
@@ -271,12 +271,12 @@ func (s *counts) add(f *caseFacts) {
 	s.coldSnared += f.coldSnared
 	if f.comfortRecorded {
 		s.comfortRec++
-		s.discomfort += b2i(f.discomfort)
+		s.discomfort += countIf(f.discomfort)
 	}
-	s.perforation += b2i(f.perforation)
+	s.perforation += countIf(f.perforation)
 	if f.polypectomy {
 		s.bleedDen++
-		s.bleedNum += b2i(f.bleeding)
+		s.bleedNum += countIf(f.bleeding)
 	}
 	if f.band >= 0 {
 		for d, v := range f.doses {
@@ -295,7 +295,8 @@ func (s *counts) add(f *caseFacts) {
 	}
 }
 
-func b2i(b bool) int {
+// countIf is 1 when b holds, else 0.
+func countIf(b bool) int {
 	if b {
 		return 1
 	}

@@ -1,0 +1,245 @@
+package report
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"slices"
+	"sort"
+	"strings"
+	"time"
+
+	"polypledger/logbook"
+)
+
+// CUSUMParams are the learning-curve parameters (Bolsin S, Colson M, Int J
+// Qual Health Care 2000;12:433–438): the acceptable and unacceptable failure
+// rates p0 and p1 and the error rates α and β. No colonoscopy paper fixes α
+// and β, so they are a local choice and every result prints them.
+type CUSUMParams struct {
+	P0    float64 `json:"p0"`
+	P1    float64 `json:"p1"`
+	Alpha float64 `json:"alpha"`
+	Beta  float64 `json:"beta"`
+}
+
+// DefaultCUSUM returns the defaults for unassisted caecal intubation used in
+// published endoscopy CUSUM work: p0 0.10, p1 0.20, α = β = 0.10
+// (clinical-reference §5).
+func DefaultCUSUM() CUSUMParams { return CUSUMParams{P0: 0.10, P1: 0.20, Alpha: 0.10, Beta: 0.10} }
+
+// Limits returns the CUSUM's step s and decision limits h0 and h1:
+// P = ln(p1/p0), Q = ln((1−p0)/(1−p1)), s = Q/(P+Q),
+// h0 = ln((1−α)/β)/(P+Q), h1 = ln((1−β)/α)/(P+Q). It needs 0 < p0 < p1 < 1
+// and α, β in (0, 1).
+func (c CUSUMParams) Limits() (s, h0, h1 float64, err error) {
+	if !(c.P0 > 0 && c.P0 < c.P1 && c.P1 < 1) {
+		return 0, 0, 0, fmt.Errorf("CUSUM failure rates p0 %v and p1 %v must satisfy 0 < p0 < p1 < 1", c.P0, c.P1)
+	}
+	if !(c.Alpha > 0 && c.Alpha < 1 && c.Beta > 0 && c.Beta < 1) {
+		return 0, 0, 0, fmt.Errorf("CUSUM error rates α %v and β %v must lie between 0 and 1", c.Alpha, c.Beta)
+	}
+	p := math.Log(c.P1 / c.P0)
+	q := math.Log((1 - c.P0) / (1 - c.P1))
+	s = q / (p + q)
+	h0 = math.Log((1-c.Alpha)/c.Beta) / (p + q)
+	h1 = math.Log((1-c.Beta)/c.Alpha) / (p + q)
+	return s, h0, h1, nil
+}
+
+// TraineeProgress follows each trainee's learning curve over the cases where
+// the trainee held the scope (trainee_id), in one pass. Only the trainee's
+// caecal intubation outcomes are kept per case, because the CUSUM needs them
+// in date order. Not safe for concurrent use.
+type TraineeProgress struct {
+	prof      *Profile
+	params    CUSUMParams
+	s, h0, h1 float64
+	opt       MetricsOptions
+	trainees  map[string]*traineeState
+}
+
+type traineeState struct {
+	months   map[int]*[4]int // month key → cases by supervision (independent, hands-on, observed, unrecorded)
+	counts   counts
+	reached  int // trainee_reached_caecum yes
+	recorded int // trainee_reached_caecum yes or no
+	outcomes []cusumCase
+}
+
+type cusumCase struct {
+	date    time.Time
+	id      string
+	success bool
+}
+
+// NewTraineeProgress starts a trainee pass under profile p (its detection
+// eligibility decides the trainee's ADR) with CUSUM parameters c; it fails
+// when the parameters are out of range.
+func NewTraineeProgress(p *Profile, c CUSUMParams, opt MetricsOptions) (*TraineeProgress, error) {
+	s, h0, h1, err := c.Limits()
+	if err != nil {
+		return nil, err
+	}
+	return &TraineeProgress{prof: p, params: c, s: s, h0: h0, h1: h1, opt: opt, trainees: map[string]*traineeState{}}, nil
+}
+
+// Add counts a case for its trainee; cases with no trainee or outside the
+// period are ignored. The case is not retained (its id is copied for the
+// CUSUM series).
+func (t *TraineeProgress) Add(c *logbook.Case) {
+	pr := &c.Procedure
+	if pr.TraineeID == "" || !t.opt.includes(pr.PerformedOn) {
+		return
+	}
+	st := t.trainees[pr.TraineeID]
+	if st == nil {
+		st = &traineeState{months: map[int]*[4]int{}}
+		t.trainees[strings.Clone(pr.TraineeID)] = st
+	}
+	mk := monthKey(pr.PerformedOn)
+	m := st.months[mk]
+	if m == nil {
+		m = &[4]int{}
+		st.months[mk] = m
+	}
+	switch pr.Supervision {
+	case logbook.Independent:
+		m[0]++
+	case logbook.SupervisedHandsOn:
+		m[1]++
+	case logbook.SupervisedObserved:
+		m[2]++
+	default:
+		m[3]++
+	}
+	var f caseFacts
+	f.read(t.prof, c)
+	st.counts.add(&f)
+	if pr.TraineeReachedCaecum == logbook.Yes || pr.TraineeReachedCaecum == logbook.No {
+		st.recorded++
+		ok := pr.TraineeReachedCaecum == logbook.Yes
+		if ok {
+			st.reached++
+		}
+		st.outcomes = append(st.outcomes, cusumCase{date: pr.PerformedOn, id: strings.Clone(pr.ID), success: ok})
+	}
+}
+
+// MonthCount is a trainee's cases in one calendar month ("2026-01") by
+// supervision level, and the running total to the end of that month.
+type MonthCount struct {
+	Month              string `json:"month"`
+	Independent        int    `json:"independent"`
+	SupervisedHandsOn  int    `json:"supervised_hands_on"`
+	SupervisedObserved int    `json:"supervised_observed"`
+	Unrecorded         int    `json:"unrecorded"`
+	Total              int    `json:"total"`
+	Cumulative         int    `json:"cumulative"`
+}
+
+// CUSUMPoint is the CUSUM after one case with a recorded outcome.
+type CUSUMPoint struct {
+	ProcedureID string  `json:"procedure_id"`
+	Date        string  `json:"date"`
+	Success     bool    `json:"success"`
+	Value       float64 `json:"value"`
+}
+
+// CUSUMResult is a trainee's learning curve over unassisted caecal
+// intubation in date-then-procedure-id order: each success subtracts S,
+// each failure adds 1−S. AcceptableAt and UnacceptableAt are the 1-based
+// position of the first case at which the curve reached −H0 or +H1 (0 when
+// it has not).
+type CUSUMResult struct {
+	Params         CUSUMParams  `json:"params"`
+	S              float64      `json:"s"`
+	H0             float64      `json:"h0"`
+	H1             float64      `json:"h1"`
+	Points         []CUSUMPoint `json:"points"`
+	AcceptableAt   int          `json:"acceptable_at"`
+	UnacceptableAt int          `json:"unacceptable_at"`
+	Note           string       `json:"note"`
+}
+
+// TraineeResult is one trainee's progress: cases per month, the trainee's
+// own indicators (unassisted_caecal_intubation, then adr,
+// withdrawal_negative, comfort_discomfort and comfort_recorded over the
+// trainee's cases) and the CUSUM.
+type TraineeResult struct {
+	TraineeID  string       `json:"trainee_id"`
+	Months     []MonthCount `json:"months"`
+	Indicators []Indicator  `json:"indicators"`
+	CUSUM      CUSUMResult  `json:"cusum"`
+}
+
+// cusumNote says where the CUSUM parameters come from.
+const cusumNote = "Bolsin and Colson CUSUM (Int J Qual Health Care 2000;12:433–438). p0, p1, α and β are a local choice; crossing below −h0 suggests acceptable performance, above +h1 unacceptable. For the trainer to interpret."
+
+// Result returns every trainee's progress, sorted by trainee id. Months run
+// from the trainee's first to last month with a case, empty months
+// included.
+func (t *TraineeProgress) Result() []TraineeResult {
+	ids := make([]string, 0, len(t.trainees))
+	for id := range t.trainees {
+		ids = append(ids, id)
+	}
+	sort.Strings(ids)
+	out := make([]TraineeResult, 0, len(ids))
+	for _, id := range ids {
+		st := t.trainees[id]
+		r := TraineeResult{TraineeID: id, Months: []MonthCount{}}
+		first, last := math.MaxInt, math.MinInt
+		for k := range st.months {
+			first, last = min(first, k), max(last, k)
+		}
+		cum := 0
+		for k := first; k <= last; k++ {
+			mc := MonthCount{Month: monthStart(k).Format("2006-01")}
+			if m := st.months[k]; m != nil {
+				mc.Independent, mc.SupervisedHandsOn, mc.SupervisedObserved, mc.Unrecorded = m[0], m[1], m[2], m[3]
+			}
+			mc.Total = mc.Independent + mc.SupervisedHandsOn + mc.SupervisedObserved + mc.Unrecorded
+			cum += mc.Total
+			mc.Cumulative = cum
+			r.Months = append(r.Months, mc)
+		}
+		r.Indicators = append(r.Indicators, judged(Proportion("unassisted_caecal_intubation", st.reached, st.recorded), t.prof))
+		all := st.counts.indicators(t.prof, 0, false)
+		for _, want := range []string{"adr", "withdrawal_negative", "comfort_discomfort", "comfort_recorded"} {
+			if ind, ok := Find(all, want); ok {
+				r.Indicators = append(r.Indicators, ind)
+			}
+		}
+		r.CUSUM = t.cusum(st.outcomes)
+		out = append(out, r)
+	}
+	return out
+}
+
+// cusum runs the CUSUM over the outcomes in date-then-id order.
+func (t *TraineeProgress) cusum(outcomes []cusumCase) CUSUMResult {
+	slices.SortFunc(outcomes, func(a, b cusumCase) int {
+		if c := a.date.Compare(b.date); c != 0 {
+			return c
+		}
+		return cmp.Compare(a.id, b.id)
+	})
+	r := CUSUMResult{Params: t.params, S: t.s, H0: t.h0, H1: t.h1, Points: make([]CUSUMPoint, 0, len(outcomes)), Note: cusumNote}
+	v := 0.0
+	for i, o := range outcomes {
+		if o.success {
+			v -= t.s
+		} else {
+			v += 1 - t.s
+		}
+		r.Points = append(r.Points, CUSUMPoint{ProcedureID: o.id, Date: logbook.FormatDate(o.date), Success: o.success, Value: v})
+		if r.AcceptableAt == 0 && v <= -t.h0 {
+			r.AcceptableAt = i + 1
+		}
+		if r.UnacceptableAt == 0 && v >= t.h1 {
+			r.UnacceptableAt = i + 1
+		}
+	}
+	return r
+}
