@@ -1,6 +1,7 @@
 package report
 
 import (
+	"encoding/json"
 	"math"
 
 	"polypledger/logbook"
@@ -61,6 +62,21 @@ type Kappa struct {
 	Kappa      float64  `json:"kappa"`
 	SE         float64  `json:"se"`
 	CI         Interval `json:"-"`
+}
+
+// MarshalJSON writes the kappa with null for every undefined number, since
+// JSON has no NaN; the interval is written as ci_low and ci_high.
+func (k Kappa) MarshalJSON() ([]byte, error) {
+	return json.Marshal(struct {
+		Agreements int      `json:"agreements"`
+		N          int      `json:"n"`
+		Po         *float64 `json:"po"`
+		Pe         *float64 `json:"pe"`
+		Kappa      *float64 `json:"kappa"`
+		SE         *float64 `json:"se"`
+		CILow      *float64 `json:"ci_low"`
+		CIHigh     *float64 `json:"ci_high"`
+	}{k.Agreements, k.N, ptr(k.Po), ptr(k.Pe), ptr(k.Kappa), ptr(k.SE), ptr(k.CI.Low), ptr(k.CI.High)})
 }
 
 // CohenKappa returns Cohen's kappa for a square table of counts, rows the

@@ -1,7 +1,9 @@
 package report
 
 import (
+	"encoding/json"
 	"math"
+	"strings"
 	"testing"
 
 	"polypledger/logbook"
@@ -215,5 +217,28 @@ func TestImagingSlots(t *testing.T) {
 	}
 	if imagingName(imagingSlot("")) != "not_recorded" {
 		t.Errorf("empty imaging")
+	}
+}
+
+// TestOpticalDetailJSON: the detail the app and PDF read marshals, with
+// undefined figures as null, both empty and filled.
+func TestOpticalDetailJSON(t *testing.T) {
+	empty := NewOpticalAudit(USMSTF2020, EligibilitySettings{})
+	full := NewOpticalAudit(USMSTF2020, EligibilitySettings{})
+	for _, c := range opticalFixture() {
+		full.Add(c)
+	}
+	for name, a := range map[string]*OpticalAudit{"empty": empty, "full": full} {
+		b, err := json.Marshal(a.Detail())
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		if !strings.Contains(string(b), `"classes_kappa":{"agreements"`) || !strings.Contains(string(b), `"caution":"`) {
+			t.Errorf("%s: %s", name, b)
+		}
+	}
+	b, _ := json.Marshal(CohenKappa([][]int{{5, 0}, {0, 0}}))
+	if string(b) != `{"agreements":5,"n":5,"po":1,"pe":1,"kappa":null,"se":null,"ci_low":null,"ci_high":null}` {
+		t.Errorf("undefined kappa: %s", b)
 	}
 }
