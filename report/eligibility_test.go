@@ -162,3 +162,27 @@ func TestCautions(t *testing.T) {
 		t.Errorf("audit caution: %q", AuditCaution())
 	}
 }
+
+// TestDiscardAndLeaveCounts: discard needs a polypectomy; leave does not;
+// a specimen is saved only where one was sent.
+func TestDiscardAndLeaveCounts(t *testing.T) {
+	hiAd := fxCall(logbook.OpticalAdenoma, logbook.HighConfidence)
+	c := fxCase("D1",
+		fxLesion(1, hTA, 4, hiAd, fxRes(logbook.BiopsyOnly)),           // biopsy only: not a discard
+		fxLesion(2, hTA, 4, hiAd, fxRes(logbook.ColdForceps)),          // discard, sent: saved
+		fxLesion(3, "", 4, hiAd, fxRes(logbook.HotSnare), fxDiscarded), // discard, not sent
+		fxLesion(4, "", 3, fxAt(logbook.Sigmoid), fxRes(logbook.ResectionNone), fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence),
+			func(l *logbook.Lesion) {
+				l.Retrieved, l.SentToPathology, l.Histology, l.Dysplasia = logbook.No, logbook.No, "", ""
+			}), // leave, not sent
+		fxLesion(5, hHP, 3, fxAt(logbook.Descending), fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence)), // not rectosigmoid: discard, saved
+		fxLesion(6, hTA, 6, hiAd), // 6 mm: neither
+	)
+	checkValid(t, c)
+	a := NewOpticalAudit(USMSTF2020, EligibilitySettings{})
+	a.Add(c)
+	e := a.Detail().Eligibility
+	if e.DiscardEligible != 3 || e.LeaveEligible != 1 || e.SpecimensSaved != 2 {
+		t.Errorf("discard %d leave %d saved %d, want 3 1 2", e.DiscardEligible, e.LeaveEligible, e.SpecimensSaved)
+	}
+}

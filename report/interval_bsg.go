@@ -54,9 +54,11 @@ func bsgCandidates(ls []ReadLesion) candidates {
 	case nP >= 2 && nAdv >= 1:
 		cs.add(logbook.Interval3y, "%d premalignant polyps including %d advanced", nP, nAdv)
 	}
+	// Back to screening when no finding calls for surveillance.
 	switch {
+	case len(cs) > 0:
 	case nP > 0:
-		cs.add(logbook.IntervalScreening, "no high-risk finding: %s, %d of them advanced", plural(nP, "premalignant polyp"), nAdv)
+		cs.add(logbook.IntervalScreening, "not high risk: %s, %d of them advanced", plural(nP, "premalignant polyp"), nAdv)
 	default:
 		cs.add(logbook.IntervalScreening, "no premalignant polyp")
 	}

@@ -48,9 +48,11 @@ func esgeCandidates(ls []ReadLesion) candidates {
 	if nA >= 5 {
 		cs.add(logbook.Interval3y, "%d adenomas (5 or more)", nA)
 	}
+	// Back to screening when no finding calls for surveillance.
 	switch {
+	case len(cs) > 0:
 	case nA > 0 || nSer > 0:
-		cs.add(logbook.IntervalScreening, "no high-risk finding: %s and %s, all under 10 mm without high-grade dysplasia", plural(nA, "adenoma"), plural(nSer, "serrated polyp"))
+		cs.add(logbook.IntervalScreening, "low-risk findings only: %s and %s, all under 10 mm, no high-grade dysplasia in an adenoma and no dysplasia in a serrated polyp", plural(nA, "adenoma"), plural(nSer, "serrated polyp"))
 	default:
 		cs.add(logbook.IntervalScreening, "no adenoma or serrated polyp")
 	}

@@ -63,9 +63,10 @@ func usmstfCandidates(ls []ReadLesion) candidates {
 	case nS >= 1:
 		cs.add(logbook.Interval5to10y, "%s (1 or 2)", plural(nS, "sessile serrated lesion"))
 	}
+	// The 10-year row applies when no finding calls for an earlier
+	// examination (every other candidate is shorter).
 	switch {
 	case len(cs) > 0:
-		cs.add(logbook.Interval10y, "no finding calls for an earlier examination")
 	case nHP > 0:
 		cs.add(logbook.Interval10y, "only hyperplastic polyps under 10 mm (%d)", nHP)
 	default:

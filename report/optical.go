@@ -253,6 +253,10 @@ type opticalCounts struct {
 	hcNum, hcDen int
 }
 
+// add counts one lesion. The high-confidence rate's denominator is every
+// diminutive lesion given an optical class, uncertain included (an uncertain
+// call is a low-confidence call); its numerator those called with high
+// confidence; histology is not needed for it.
 func (o *opticalCounts) add(l *logbook.Lesion) {
 	o.endo.add(l.OpticalClass, l.Histology)
 	o.aid.add(l.AidClass, l.Histology)

@@ -131,6 +131,12 @@ func TestOpticalAudit(t *testing.T) {
 	if want := [3][4]int{{3, 0, 1, 0}, {0, 1, 0, 0}, {1, 2, 1, 0}}; e.Classes.Counts != want {
 		t.Errorf("classes %v, want %v", e.Classes.Counts, want)
 	}
+	// Its kappa leaves the "other" column out: [[3,0,1],[0,1,0],[1,2,1]],
+	// agreements 5 of 9, rows 4,1,4, columns 4,3,2: pe = 27/81 = 1/3,
+	// κ = (5/9 − 1/3)/(2/3) = 1/3.
+	if k := e.ClassesKappa; k.Agreements != 5 || k.N != 9 || !near4(k.Kappa, 1.0/3) {
+		t.Errorf("three-class kappa %+v", k)
+	}
 	// High confidence: diminutive lesions with a call: O1.1 O1.2 O1.3 O1.5,
 	// O2.1 O2.2 O2.3 O2.5 O2.6 = 9; high confidence all but O1.5 = 8.
 	wantProportion(t, d.HighConfidence, "high_confidence_rate", 8, 9)
