@@ -1,0 +1,258 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"polypledger/assets"
+	"polypledger/logbook"
+	"polypledger/report"
+	"polypledger/store"
+)
+
+// recommendFor returns the function the demo uses to fill in the interval an
+// endoscopist recorded: the program's own suggestion under guideline g.
+func recommendFor(g string) func(c *logbook.Case) logbook.Interval {
+	gl, err := report.ParseGuideline(g)
+	if err != nil {
+		gl = report.DefaultGuideline
+	}
+	return func(c *logbook.Case) logbook.Interval { return report.Suggest(gl, c).Interval }
+}
+
+// loadProfiles reads the shipped standard profiles and the user's own copies
+// from the config folder's "standards" subfolder.
+func loadProfiles() ([]*report.Profile, error) {
+	dir, err := store.ConfigDir()
+	if err != nil {
+		return nil, err
+	}
+	return report.LoadProfiles(assets.Standards, os.DirFS(filepath.Join(dir, "standards")))
+}
+
+// auditSetup is what the metrics, report and interval commands share: the
+// open database (read-only), its settings and the chosen profile.
+type auditSetup struct {
+	st       *store.Store
+	settings store.Settings
+	profile  *report.Profile
+}
+
+func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
+	if _, err := os.Stat(db); err != nil {
+		return nil, fmt.Errorf("database %s does not exist", db)
+	}
+	st, err := store.Open(ctx, db, store.Options{ReadOnly: true})
+	if err != nil {
+		return nil, err
+	}
+	settings, err := st.Settings(ctx)
+	if err != nil {
+		st.Close()
+		return nil, err
+	}
+	a := &auditSetup{st: st, settings: settings}
+	if standard == "" {
+		standard = settings.DefaultStandard
+	}
+	profiles, err := loadProfiles()
+	if err != nil {
+		st.Close()
+		return nil, err
+	}
+	a.profile, err = report.FindProfile(profiles, standard)
+	if err != nil {
+		st.Close()
+		return nil, usagef("--standard: %v", err)
+	}
+	return a, nil
+}
+
+func (a *auditSetup) guideline(flagValue string) (report.Guideline, error) {
+	g := flagValue
+	if g == "" {
+		g = a.settings.DefaultGuideline
+	}
+	gl, err := report.ParseGuideline(g)
+	if err != nil {
+		if flagValue != "" {
+			return "", usagef("--guideline: %v", err)
+		}
+		return report.DefaultGuideline, nil
+	}
+	return gl, nil
+}
+
+func cmdInterval(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("interval", "--db PATH [--procedure ID] [--guideline G] [--format json|text]", e.stderr)
+	db := fs.String("db", "", "database file")
+	id := fs.String("procedure", "", "procedure id (default: every procedure)")
+	guide := fs.String("guideline", "", "usmstf-2020, esge-2020 or bsg-2020 (default from unit settings)")
+	format := fs.String("format", "text", "json or text")
+	pos, err := parse(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(pos) > 0 {
+		return usagef("unexpected argument %q", pos[0])
+	}
+	if err := need("db", *db); err != nil {
+		return err
+	}
+	if *format != "json" && *format != "text" {
+		return usagef("--format must be json or text")
+	}
+	a, err := openAudit(ctx, *db, "")
+	if err != nil {
+		return err
+	}
+	defer a.st.Close()
+	g, err := a.guideline(*guide)
+	if err != nil {
+		return err
+	}
+	type row struct {
+		ProcedureID string           `json:"procedure_id"`
+		Guideline   string           `json:"guideline"`
+		Interval    logbook.Interval `json:"interval"`
+		Reasons     []string         `json:"reasons"`
+		Caution     string           `json:"caution"`
+	}
+	var rows []row
+	add := func(c *logbook.Case) error {
+		s := report.Suggest(g, c)
+		rows = append(rows, row{ProcedureID: c.ID, Guideline: string(s.Guideline), Interval: s.Interval, Reasons: s.Reasons, Caution: s.Caution})
+		return nil
+	}
+	if *id != "" {
+		c, err := a.st.Case(ctx, *id)
+		if err != nil {
+			return err
+		}
+		add(&c)
+	} else if err := a.st.ForEachCase(ctx, store.CaseFilter{}, add); err != nil {
+		return err
+	}
+	if *format == "json" {
+		if rows == nil {
+			rows = []row{}
+		}
+		enc := json.NewEncoder(e.stdout)
+		enc.SetIndent("", "  ")
+		return enc.Encode(rows)
+	}
+	return writeIntervalText(e.stdout, g, rows, func(r row) (string, logbook.Interval, []string) { return r.ProcedureID, r.Interval, r.Reasons })
+}
+
+func writeIntervalText[T any](w io.Writer, g report.Guideline, rows []T, fields func(T) (string, logbook.Interval, []string)) error {
+	fmt.Fprintf(w, "Suggested surveillance intervals under %s (%s)\n\n", g, g.Title())
+	for _, r := range rows {
+		id, iv, reasons := fields(r)
+		fmt.Fprintf(w, "%s: %s\n", id, iv)
+		for _, why := range reasons {
+			fmt.Fprintf(w, "    - %s\n", why)
+		}
+	}
+	fmt.Fprintf(w, "\n%s\n", strings.TrimSpace(report.IntervalCaution(g)))
+	return nil
+}
+
+// extraFigures are the figures counted beside the profile's indicators in
+// the same pass: the optical-diagnosis audit and interval adherence, under
+// the unit's guideline and eligibility settings.
+func (a *auditSetup) extraFigures(g report.Guideline) []report.AccumulatorFactory {
+	elig := report.EligibilitySettings{MinCases: a.settings.DiscardMinCases, RuleSet: a.settings.EligibilityRules}
+	return []report.AccumulatorFactory{
+		report.OpticalAuditFactory(g, elig),
+		report.AdherenceFactory(g, a.profile.Target("interval_adherence"), a.profile.MinCases),
+	}
+}
+
+// computeMetrics streams the period's cases once through the indicator
+// engine.
+func (a *auditSetup) computeMetrics(ctx context.Context, from, to time.Time, g report.Guideline) (report.MetricsResult, error) {
+	m := report.NewMetrics(a.profile, report.MetricsOptions{From: from, To: to, Extra: a.extraFigures(g)})
+	err := a.st.ForEachCase(ctx, store.CaseFilter{From: from, To: to}, func(c *logbook.Case) error {
+		m.Add(c)
+		return nil
+	})
+	if err != nil {
+		return report.MetricsResult{}, err
+	}
+	return m.Result(), nil
+}
+
+func cmdMetrics(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("metrics", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]", e.stderr)
+	db := fs.String("db", "", "database file")
+	fromS := fs.String("from", "", "first day of the period (YYYY-MM-DD)")
+	toS := fs.String("to", "", "last day of the period (YYYY-MM-DD)")
+	standard := fs.String("standard", "", "standard profile id (default from unit settings)")
+	operator := fs.String("operator", "", "show only this operator (and the unit)")
+	format := fs.String("format", "table", "json or table")
+	pos, err := parse(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(pos) > 0 {
+		return usagef("unexpected argument %q", pos[0])
+	}
+	if err := need("db", *db); err != nil {
+		return err
+	}
+	from, err := parseDateFlag("from", *fromS)
+	if err != nil {
+		return err
+	}
+	to, err := parseDateFlag("to", *toS)
+	if err != nil {
+		return err
+	}
+	if to.Before(from) {
+		return usagef("--to %s is before --from %s", *toS, *fromS)
+	}
+	if *format != "json" && *format != "table" {
+		return usagef("--format must be json or table")
+	}
+	a, err := openAudit(ctx, *db, *standard)
+	if err != nil {
+		return err
+	}
+	defer a.st.Close()
+	g, err := a.guideline("")
+	if err != nil {
+		return err
+	}
+	res, err := a.computeMetrics(ctx, from, to, g)
+	if err != nil {
+		return err
+	}
+	if *operator != "" {
+		var keep []report.OperatorResult
+		for _, op := range res.Operators {
+			if op.OperatorID == *operator {
+				keep = append(keep, op)
+			}
+		}
+		if keep == nil {
+			return fmt.Errorf("operator %s has no procedures between %s and %s", *operator, *fromS, *toS)
+		}
+		res.Operators = keep
+	}
+	if *format == "json" {
+		enc := json.NewEncoder(e.stdout)
+		enc.SetIndent("", "  ")
+		return enc.Encode(res)
+	}
+	return report.WriteTable(e.stdout, res)
+}
+
+func cmdReport(ctx context.Context, e *env, args []string) error {
+	return usagef("the PDF report is not available in this build yet")
+}

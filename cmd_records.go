@@ -1,0 +1,297 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"polypledger/demo"
+	"polypledger/logbook"
+	"polypledger/store"
+)
+
+// version is stamped at build time with -ldflags "-X main.version=…".
+var version = "dev"
+
+// openStore opens the database named by --db, with the unit key when the
+// command needs to pseudonymise patient references.
+func openStore(ctx context.Context, path string, withKey bool) (*store.Store, error) {
+	opt := store.Options{}
+	if withKey {
+		dir, err := store.ConfigDir()
+		if err != nil {
+			return nil, err
+		}
+		key, err := store.LoadOrCreateKey(dir)
+		if err != nil {
+			return nil, err
+		}
+		opt.Key = key
+	}
+	return store.Open(ctx, path, opt)
+}
+
+func cmdVersion(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("version", "", e.stderr)
+	if _, err := parse(fs, args); err != nil {
+		return err
+	}
+	fmt.Fprintf(e.stdout, "polypledger %s (database schema %d)\n", version, store.SchemaVersion)
+	return nil
+}
+
+func cmdDemo(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("demo", "--db PATH [--procedures N] [--seed S]", e.stderr)
+	db := fs.String("db", "", "database file to create")
+	n := fs.Int("procedures", 4000, "how many procedures to invent")
+	seed := fs.Uint64("seed", 1, "seed: the same seed gives the same unit")
+	pos, err := parse(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(pos) > 0 {
+		return usagef("unexpected argument %q", pos[0])
+	}
+	if err := need("db", *db); err != nil {
+		return err
+	}
+	if *n < 1 || *n > 20_000_000 {
+		return usagef("--procedures must be between 1 and 20000000")
+	}
+	_, statErr := os.Stat(*db)
+	created := errors.Is(statErr, os.ErrNotExist)
+	st, err := openStore(ctx, *db, true)
+	if err != nil {
+		return err
+	}
+	settings := store.DefaultSettings
+	settings.UnitName = demo.UnitName
+	var roster []logbook.RosterEntry
+	for _, s := range demo.StaffList() {
+		roster = append(roster, s.Entry)
+	}
+	opt := demo.Options{Procedures: *n, Seed: *seed, Key: demoKey(*seed), Recommend: recommendFor(settings.DefaultGuideline)}
+	progress := func(done int) {
+		if *n > store.ProgressEvery {
+			fmt.Fprintf(e.stderr, "demo: %d of %d procedures (%d%%)\n", done, *n, done*100 / *n)
+		}
+	}
+	count, err := st.InsertCases(ctx, settings, roster, func(emit func(*logbook.Case) error) error {
+		return demo.Generate(opt, emit)
+	}, progress)
+	cerr := st.Close()
+	if err != nil {
+		if created {
+			removeDB(*db)
+		}
+		return fmt.Errorf("demo %s: %w", *db, err)
+	}
+	if cerr != nil {
+		return cerr
+	}
+	fmt.Fprintf(e.stdout, "created %s: %s, %d procedures (invented data)\n", *db, demo.UnitName, count)
+	return nil
+}
+
+// demoKey is the key the demo uses for its invented hospital numbers, so
+// that the same seed always gives the same pseudonyms.
+func demoKey(seed uint64) []byte { return []byte(fmt.Sprintf("polypledger demo key %d", seed)) }
+
+// removeDB deletes a database file this command created and its journals.
+func removeDB(path string) {
+	for _, suffix := range []string{"", "-wal", "-shm"} {
+		os.Remove(path + suffix)
+	}
+}
+
+func cmdImport(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("import", "--db PATH --kind procedures|lesions|histology [--update] FILE.csv", e.stderr)
+	db := fs.String("db", "", "database file")
+	kindName := fs.String("kind", "", "procedures, lesions or histology")
+	update := fs.Bool("update", false, "replace records already stored instead of refusing them")
+	pos, err := parse(fs, args)
+	if err != nil {
+		return err
+	}
+	if err := need("db", *db); err != nil {
+		return err
+	}
+	kind, err := store.ParseKind(*kindName)
+	if err != nil {
+		return usagef("--kind: %v", err)
+	}
+	if len(pos) != 1 {
+		return usagef("name one CSV file to import")
+	}
+	name := pos[0]
+	f, err := os.Open(name)
+	if err != nil {
+		return fmt.Errorf("cannot open %s: %w", name, err)
+	}
+	defer f.Close()
+	var size int64
+	if fi, err := f.Stat(); err == nil {
+		size = fi.Size()
+	}
+	_, statErr := os.Stat(*db)
+	created := errors.Is(statErr, os.ErrNotExist)
+	st, err := openStore(ctx, *db, kind == store.Procedures)
+	if err != nil {
+		return err
+	}
+	res, err := st.Import(ctx, kind, name, f, store.ImportOptions{
+		Update: *update,
+		Progress: func(rows int, read int64) {
+			if size > 0 {
+				fmt.Fprintf(e.stderr, "%s: %d rows read (%d%%)\n", name, rows, read*100/size)
+			} else {
+				fmt.Fprintf(e.stderr, "%s: %d rows read\n", name, rows)
+			}
+		},
+	})
+	if cerr := st.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		if created {
+			removeDB(*db) // nothing was stored: leave no empty database behind
+		}
+		return err
+	}
+	if created {
+		fmt.Fprintf(e.stdout, "created a new database %s\n", *db)
+	}
+	fmt.Fprintf(e.stdout, "%s: imported %d rows (%d new, %d updated)\n", name, res.Rows, res.Inserted, res.Updated)
+	for _, r := range res.RosterAdded {
+		fmt.Fprintf(e.stdout, "%s: added %s to the roster as %s (give them a name in unit settings)\n", name, r.ID, r.Role)
+	}
+	return nil
+}
+
+func cmdExport(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("export", "--db PATH --kind procedures|lesions|histology --out FILE.csv", e.stderr)
+	db := fs.String("db", "", "database file")
+	kindName := fs.String("kind", "", "procedures, lesions or histology")
+	out := fs.String("out", "", "CSV file to write (- for standard output)")
+	pos, err := parse(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(pos) > 0 {
+		return usagef("unexpected argument %q", pos[0])
+	}
+	for _, f := range [][2]string{{"db", *db}, {"out", *out}} {
+		if err := need(f[0], f[1]); err != nil {
+			return err
+		}
+	}
+	kind, err := store.ParseKind(*kindName)
+	if err != nil {
+		return usagef("--kind: %v", err)
+	}
+	st, err := store.Open(ctx, *db, store.Options{ReadOnly: true})
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	if *out == "-" {
+		return st.Export(ctx, kind, e.stdout)
+	}
+	return writeFileAtomically(*out, func(f *os.File) error { return st.Export(ctx, kind, f) })
+}
+
+// writeFileAtomically writes a file under a temporary name beside it and
+// renames it into place, so a failure never leaves a half-written file.
+func writeFileAtomically(path string, write func(f *os.File) error) error {
+	dir := filepath.Dir(path)
+	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".*.partial")
+	if err != nil {
+		return fmt.Errorf("cannot write %s: %w", path, err)
+	}
+	tmp := f.Name()
+	if err := write(f); err != nil {
+		f.Close()
+		os.Remove(tmp)
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	if err := f.Close(); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	if err := os.Chmod(tmp, 0o600); err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	return nil
+}
+
+func cmdCheck(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("check", "--db PATH", e.stderr)
+	db := fs.String("db", "", "database file")
+	pos, err := parse(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(pos) > 0 {
+		return usagef("unexpected argument %q", pos[0])
+	}
+	if err := need("db", *db); err != nil {
+		return err
+	}
+	if _, err := os.Stat(*db); err != nil {
+		return fmt.Errorf("database %s does not exist", *db)
+	}
+	st, err := store.Open(ctx, *db, store.Options{ReadOnly: true})
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	findings, err := st.Check(ctx)
+	if err != nil {
+		return err
+	}
+	if len(findings) > 0 {
+		return fmt.Errorf("%s has %d problems:\n%s", *db, len(findings), strings.Join(findings, "\n"))
+	}
+	n, _ := st.CountProcedures(ctx, store.ListQuery{})
+	fmt.Fprintf(e.stdout, "%s: ok (schema %d, %d procedures)\n", *db, store.SchemaVersion, n)
+	return nil
+}
+
+func cmdBackup(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("backup", "--db PATH --out FILE", e.stderr)
+	db := fs.String("db", "", "database file")
+	out := fs.String("out", "", "backup file to create")
+	pos, err := parse(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(pos) > 0 {
+		return usagef("unexpected argument %q", pos[0])
+	}
+	for _, f := range [][2]string{{"db", *db}, {"out", *out}} {
+		if err := need(f[0], f[1]); err != nil {
+			return err
+		}
+	}
+	if _, err := os.Stat(*db); err != nil {
+		return fmt.Errorf("database %s does not exist", *db)
+	}
+	st, err := store.Open(ctx, *db, store.Options{})
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	if err := st.Backup(ctx, *out); err != nil {
+		return err
+	}
+	fmt.Fprintf(e.stdout, "backed up %s to %s\n", *db, *out)
+	return nil
+}

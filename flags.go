@@ -1,0 +1,66 @@
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"strings"
+	"time"
+
+	"polypledger/logbook"
+)
+
+// errHelp reports that -h was asked for and usage has been printed.
+var errHelp = errors.New("help shown")
+
+// newFlags makes a command's flag set that prints its usage line to w.
+func newFlags(name, synopsis string, w io.Writer) *flag.FlagSet {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs.SetOutput(w)
+	fs.Usage = func() {
+		fmt.Fprintf(w, "usage: polypledger %s %s\n", name, synopsis)
+		fs.PrintDefaults()
+	}
+	return fs
+}
+
+// parse parses flags that may stand before or after positional arguments
+// and returns the positional ones.
+func parse(fs *flag.FlagSet, args []string) ([]string, error) {
+	var pos []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			if errors.Is(err, flag.ErrHelp) {
+				return nil, errHelp
+			}
+			return nil, usageError{err.Error()}
+		}
+		args = fs.Args()
+		if len(args) == 0 {
+			return pos, nil
+		}
+		pos = append(pos, args[0])
+		args = args[1:]
+	}
+}
+
+// need refuses a missing required flag value.
+func need(flagName, value string) error {
+	if strings.TrimSpace(value) == "" {
+		return usagef("--%s is required", flagName)
+	}
+	return nil
+}
+
+// parseDateFlag reads a --from/--to date.
+func parseDateFlag(flagName, value string) (time.Time, error) {
+	if err := need(flagName, value); err != nil {
+		return time.Time{}, err
+	}
+	d, err := logbook.ParseDate(value)
+	if err != nil {
+		return time.Time{}, usagef("--%s: %v", flagName, err)
+	}
+	return d, nil
+}

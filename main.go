@@ -1,0 +1,131 @@
+// Command polypledger is a colonoscopy logbook and quality-audit reporter.
+// With no arguments it opens the desktop app on the default database; with a
+// first word it runs that command (see usage).
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"syscall"
+
+	_ "polypledger/internal/plainlocale" // before the UI toolkit reads the locale
+
+	"polypledger/app"
+	"polypledger/store"
+)
+
+const usageText = `usage: polypledger [COMMAND [FLAGS]]
+With no command, opens the desktop app on the default database.
+Commands:
+  demo      --db PATH [--procedures N] [--seed S]        create an invented demo unit
+  import    --db PATH --kind procedures|lesions|histology [--update] FILE.csv
+  export    --db PATH --kind procedures|lesions|histology --out FILE.csv
+  metrics   --db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]
+  interval  --db PATH [--procedure ID] [--guideline G] [--format json|text]
+  report    --db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf
+  check     --db PATH                                     integrity check
+  backup    --db PATH --out FILE                          consistent copy while in use
+  version                                                 program and schema version
+Run "polypledger COMMAND -h" for a command's flags.`
+
+// exit codes (architecture.md): 0 success, 1 bad input, 2 usage error.
+const (
+	exitOK    = 0
+	exitBad   = 1
+	exitUsage = 2
+)
+
+// usageError is a mistake in the command line itself.
+type usageError struct{ msg string }
+
+func (e usageError) Error() string { return e.msg }
+
+func usagef(format string, args ...any) error { return usageError{fmt.Sprintf(format, args...)} }
+
+// command runs one subcommand with its arguments.
+type command func(ctx context.Context, env *env, args []string) error
+
+// env is what a command may touch: its output streams and the clock-free
+// environment; tests supply their own.
+type env struct {
+	stdout, stderr io.Writer
+}
+
+var commands = map[string]command{
+	"demo":     cmdDemo,
+	"import":   cmdImport,
+	"export":   cmdExport,
+	"check":    cmdCheck,
+	"backup":   cmdBackup,
+	"version":  cmdVersion,
+	"metrics":  cmdMetrics,
+	"interval": cmdInterval,
+	"report":   cmdReport,
+}
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	code := run(ctx, os.Args[1:], &env{stdout: os.Stdout, stderr: os.Stderr})
+	stop()
+	os.Exit(code)
+}
+
+// run dispatches and maps errors to exit codes; no panic escapes it.
+func run(ctx context.Context, args []string, e *env) (code int) {
+	defer func() {
+		if r := recover(); r != nil {
+			fmt.Fprintf(e.stderr, "polypledger: internal error: %v\nNothing further was stored; please report this.\n", r)
+			code = exitBad
+		}
+	}()
+	if len(args) == 0 {
+		return runApp(e, "")
+	}
+	name := args[0]
+	if name == "-h" || name == "--help" || name == "help" {
+		fmt.Fprintln(e.stdout, usageText)
+		return exitOK
+	}
+	if name == "--db" && len(args) == 2 {
+		return runApp(e, args[1])
+	}
+	cmd, ok := commands[name]
+	if !ok {
+		fmt.Fprintf(e.stderr, "polypledger: unknown command %q\n%s\n", name, usageText)
+		return exitUsage
+	}
+	err := cmd(ctx, e, args[1:])
+	var ue usageError
+	switch {
+	case err == nil:
+		return exitOK
+	case errors.Is(err, errHelp):
+		return exitOK
+	case errors.As(err, &ue):
+		fmt.Fprintf(e.stderr, "polypledger %s: %s\n", name, ue.msg)
+		return exitUsage
+	default:
+		fmt.Fprintf(e.stderr, "polypledger %s: %v\n", name, err)
+		return exitBad
+	}
+}
+
+func runApp(e *env, dbPath string) int {
+	if dbPath == "" {
+		p, err := store.DefaultDBPath()
+		if err != nil {
+			fmt.Fprintln(e.stderr, "polypledger:", err)
+			return exitBad
+		}
+		dbPath = p
+	}
+	if err := app.Run(dbPath); err != nil {
+		fmt.Fprintln(e.stderr, "polypledger:", err)
+		return exitBad
+	}
+	return exitOK
+}

@@ -1,0 +1,110 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"time"
+
+	"polypledger/logbook"
+)
+
+// InsertCases stores many new cases in one transaction (all or none), with
+// their roster and unit settings: the path the demo unit and bulk loads take.
+// Every case is validated as an import row would be, and every insert is
+// written to the change log. The database must hold no procedures yet.
+// progress, when set, is called every ProgressEvery cases.
+func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.RosterEntry,
+	each func(emit func(*logbook.Case) error) error, progress func(n int)) (int, error) {
+	var n int
+	err := s.inTx(ctx, func(tx *sql.Tx) error {
+		var have int
+		if err := tx.QueryRowContext(ctx, "SELECT count(*) FROM procedures").Scan(&have); err != nil {
+			return err
+		}
+		if have > 0 {
+			return fmt.Errorf("it already holds %d procedures; choose a new file", have)
+		}
+		for k, v := range st.pairs() {
+			if _, err := tx.ExecContext(ctx, "INSERT INTO settings (key, value) VALUES (?, ?) ON CONFLICT (key) DO UPDATE SET value = excluded.value", k, v); err != nil {
+				return err
+			}
+		}
+		if err := s.logChange(ctx, tx, "update", "settings", nil, st.pairs()); err != nil {
+			return err
+		}
+		onRoster := map[string]bool{}
+		for _, r := range roster {
+			if ps := logbook.ValidateRosterEntry(r); len(ps) > 0 {
+				return &ValidationError{Record: "roster entry " + r.ID, Problems: ps}
+			}
+			if _, err := tx.ExecContext(ctx, "INSERT INTO roster (id, name, role, retired) VALUES (?, ?, ?, ?)", r.ID, r.Name, string(r.Role), r.Retired); err != nil {
+				return err
+			}
+			if err := s.logChange(ctx, tx, "insert", "roster "+r.ID, nil, rosterMap(r)); err != nil {
+				return err
+			}
+			onRoster[r.ID] = true
+		}
+		ps, err := tx.PrepareContext(ctx, procedureInsertSQL)
+		if err != nil {
+			return err
+		}
+		defer ps.Close()
+		ls, err := tx.PrepareContext(ctx, lesionInsertSQL)
+		if err != nil {
+			return err
+		}
+		defer ls.Close()
+		logs, err := tx.PrepareContext(ctx, "INSERT INTO change_log (at, os_user, action, record, old, new) VALUES (?, ?, 'insert', ?, NULL, ?)")
+		if err != nil {
+			return err
+		}
+		defer logs.Close()
+		at := s.now().UTC().Format(time.RFC3339Nano)
+		today := s.today()
+		return each(func(c *logbook.Case) error {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
+			probs := logbook.ValidateProcedure(c.Procedure, today)
+			for _, l := range c.Lesions {
+				probs = append(probs, logbook.ValidateLesion(l, today)...)
+			}
+			probs = append(probs, logbook.ValidateLesionNumbers(c.Lesions)...)
+			for _, id := range []string{c.OperatorID, c.TraineeID} {
+				if id != "" && !onRoster[id] {
+					probs = append(probs, logbook.FieldError{Field: "operator_id", Reason: id + " is not on the roster"})
+				}
+			}
+			if len(probs) > 0 {
+				return &ValidationError{Record: "procedure " + c.ID, Problems: probs}
+			}
+			if _, err := ps.ExecContext(ctx, storedArgs(procedureColumns, &c.Procedure)...); err != nil {
+				return fmt.Errorf("procedure %s: %w", c.ID, err)
+			}
+			for i := range c.Lesions {
+				if _, err := ls.ExecContext(ctx, storedArgs(lesionStoredColumns, &c.Lesions[i])...); err != nil {
+					return fmt.Errorf("procedure %s lesion %d: %w", c.ID, c.Lesions[i].LesionNo, err)
+				}
+			}
+			if _, err := logs.ExecContext(ctx, at, s.user, "procedure "+c.ID, jsonText(caseJSON(c))); err != nil {
+				return err
+			}
+			n++
+			if progress != nil && n%ProgressEvery == 0 {
+				progress(n)
+			}
+			return nil
+		})
+	})
+	if err != nil {
+		var ve *ValidationError
+		if errors.As(err, &ve) {
+			return 0, err
+		}
+		return 0, s.explain(err)
+	}
+	return n, nil
+}

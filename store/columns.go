@@ -1,0 +1,270 @@
+package store
+
+import (
+	"fmt"
+	"strings"
+	"time"
+
+	"polypledger/logbook"
+)
+
+// column maps one field of a record to its CSV column and its SQL column.
+// The CSV text form is also what is stored (SQLite's column affinity turns
+// "12" into the integer 12), so one pair of functions serves both, except
+// where the stored form differs (the patient pseudonym).
+type column[T any] struct {
+	name     string // CSV header and, unless sqlName is set, SQL column
+	sqlName  string
+	optional bool // the CSV header may omit it
+	get      func(*T) string
+	set      func(*T, string, *codec) error
+	// toSQL and fromSQL override get/set for the stored form.
+	toSQL   func(*T) string
+	fromSQL func(*T, string)
+}
+
+func (c column[T]) sqlColumn() string {
+	if c.sqlName != "" {
+		return c.sqlName
+	}
+	return c.name
+}
+
+func (c column[T]) storedValue(r *T) any {
+	v := ""
+	if c.toSQL != nil {
+		v = c.toSQL(r)
+	} else {
+		v = c.get(r)
+	}
+	if v == "" {
+		return nil
+	}
+	return v
+}
+
+func (c column[T]) loadStored(r *T, v string) error {
+	if c.fromSQL != nil {
+		c.fromSQL(r, v)
+		return nil
+	}
+	return c.set(r, v, nil)
+}
+
+// codec carries what parsing a CSV value may need: the unit key for
+// pseudonymising patient references.
+type codec struct {
+	key []byte
+}
+
+// Helpers that build columns of each kind of field.
+
+func textCol[T any](name string, f func(*T) *string) column[T] {
+	return column[T]{name: name,
+		get: func(r *T) string { return *f(r) },
+		set: func(r *T, s string, _ *codec) error { *f(r) = s; return nil }}
+}
+
+func codeCol[T any, C ~string](name string, set []C, f func(*T) *C) column[T] {
+	return column[T]{name: name,
+		get: func(r *T) string { return string(*f(r)) },
+		set: func(r *T, s string, _ *codec) error {
+			v, err := logbook.ParseCode(s, set)
+			*f(r) = v
+			return err
+		}}
+}
+
+func countCol[T any](name string, f func(*T) *int) column[T] {
+	return column[T]{name: name,
+		get: func(r *T) string { return logbook.FormatCount(*f(r)) },
+		set: func(r *T, s string, _ *codec) error {
+			v, err := logbook.ParseCount(s)
+			*f(r) = v
+			return err
+		}}
+}
+
+func doseCol[T any](name string, f func(*T) *float64) column[T] {
+	return column[T]{name: name,
+		get: func(r *T) string { return logbook.FormatDose(*f(r)) },
+		set: func(r *T, s string, _ *codec) error {
+			v, err := logbook.ParseDose(s)
+			*f(r) = v
+			return err
+		}}
+}
+
+func yesNoCol[T any](name string, allowNA bool, f func(*T) *logbook.YesNo) column[T] {
+	return column[T]{name: name,
+		get: func(r *T) string { return f(r).String() },
+		set: func(r *T, s string, _ *codec) error {
+			v, err := logbook.ParseYesNo(s, allowNA)
+			*f(r) = v
+			return err
+		}}
+}
+
+func dateCol[T any](name string, f func(*T) *time.Time) column[T] {
+	return column[T]{name: name,
+		get: func(r *T) string { return logbook.FormatDate(*f(r)) },
+		set: func(r *T, s string, _ *codec) error {
+			v, err := logbook.ParseDate(s)
+			*f(r) = v
+			return err
+		}}
+}
+
+type P = logbook.Procedure
+type L = logbook.Lesion
+type H = logbook.HistologyResult
+
+// procedureColumns is procedures.csv in the order of the contract
+// (architecture.md).
+var procedureColumns = []column[P]{
+	withSQLName(textCol("procedure_id", func(p *P) *string { return &p.ID }), "id"),
+	dateCol("performed_on", func(p *P) *time.Time { return &p.PerformedOn }),
+	textCol("operator_id", func(p *P) *string { return &p.OperatorID }),
+	textCol("trainee_id", func(p *P) *string { return &p.TraineeID }),
+	codeCol("supervision", logbook.Supervisions, func(p *P) *logbook.Supervision { return &p.Supervision }),
+	yesNoCol("trainee_reached_caecum", false, func(p *P) *logbook.YesNo { return &p.TraineeReachedCaecum }),
+	{
+		name: "patient_ref", sqlName: "patient_key",
+		get: func(p *P) string { return logbook.ExportPseudonym(p.PatientKey) },
+		set: func(p *P, s string, c *codec) error {
+			var key []byte
+			if c != nil {
+				key = c.key
+			}
+			v, err := logbook.Pseudonymise(key, s)
+			p.PatientKey = v
+			return err
+		},
+		toSQL:   func(p *P) string { return p.PatientKey },
+		fromSQL: func(p *P, s string) { p.PatientKey = s },
+	},
+	countCol("age", func(p *P) *int { return &p.Age }),
+	codeCol("sex", logbook.Sexes, func(p *P) *logbook.Sex { return &p.Sex }),
+	codeCol("indication", logbook.Indications, func(p *P) *logbook.Indication { return &p.Indication }),
+	codeCol("setting", logbook.Settings, func(p *P) *logbook.Setting { return &p.Setting }),
+	codeCol("exclusion", logbook.Exclusions, func(p *P) *logbook.Exclusion { return &p.Exclusion }),
+	codeCol("extent", logbook.Extents, func(p *P) *logbook.Extent { return &p.Extent }),
+	codeCol("incomplete_reason", logbook.IncompleteReasons, func(p *P) *logbook.IncompleteReason { return &p.IncompleteReason }),
+	yesNoCol("caecal_photo", false, func(p *P) *logbook.YesNo { return &p.CaecalPhoto }),
+	countCol("withdrawal_seconds", func(p *P) *int { return &p.WithdrawalSeconds }),
+	countCol("bbps_right", func(p *P) *int { return &p.BBPSRight }),
+	countCol("bbps_transverse", func(p *P) *int { return &p.BBPSTransverse }),
+	countCol("bbps_left", func(p *P) *int { return &p.BBPSLeft }),
+	yesNoCol("retroversion", true, func(p *P) *logbook.YesNo { return &p.Retroversion }),
+	doseCol("midazolam_mg", func(p *P) *float64 { return &p.MidazolamMg }),
+	doseCol("fentanyl_ug", func(p *P) *float64 { return &p.FentanylUg }),
+	doseCol("pethidine_mg", func(p *P) *float64 { return &p.PethidineMg }),
+	yesNoCol("propofol", false, func(p *P) *logbook.YesNo { return &p.Propofol }),
+	countCol("comfort", func(p *P) *int { return &p.Comfort }),
+	yesNoCol("detection_aid", false, func(p *P) *logbook.YesNo { return &p.DetectionAid }),
+	codeCol("adverse_event", logbook.AdverseEvents, func(p *P) *logbook.AdverseEvent { return &p.AdverseEvent }),
+	codeCol("recommended_interval", logbook.Intervals, func(p *P) *logbook.Interval { return &p.RecommendedInterval }),
+}
+
+// lesionColumns is lesions.csv in the order of the contract; tattoo is
+// optional on import and always exported.
+var lesionColumns = []column[L]{
+	textCol("procedure_id", func(l *L) *string { return &l.ProcedureID }),
+	countCol("lesion_no", func(l *L) *int { return &l.LesionNo }),
+	codeCol("segment", logbook.Segments, func(l *L) *logbook.Segment { return &l.Segment }),
+	countCol("size_mm", func(l *L) *int { return &l.SizeMM }),
+	codeCol("paris", logbook.ParisClasses, func(l *L) *logbook.Paris { return &l.Paris }),
+	codeCol("optical_class", logbook.OpticalClasses, func(l *L) *logbook.OpticalClass { return &l.OpticalClass }),
+	codeCol("confidence", logbook.Confidences, func(l *L) *logbook.Confidence { return &l.Confidence }),
+	codeCol("imaging", logbook.ImagingModes, func(l *L) *logbook.Imaging { return &l.Imaging }),
+	codeCol("aid_class", logbook.OpticalClasses, func(l *L) *logbook.OpticalClass { return &l.AidClass }),
+	codeCol("resection", logbook.Resections, func(l *L) *logbook.Resection { return &l.Resection }),
+	yesNoCol("retrieved", false, func(l *L) *logbook.YesNo { return &l.Retrieved }),
+	yesNoCol("sent_to_pathology", false, func(l *L) *logbook.YesNo { return &l.SentToPathology }),
+	codeCol("histology", logbook.Histologies, func(l *L) *logbook.Histology { return &l.Histology }),
+	codeCol("dysplasia", logbook.Dysplasias, func(l *L) *logbook.Dysplasia { return &l.Dysplasia }),
+	withOptional(yesNoCol("tattoo", false, func(l *L) *logbook.YesNo { return &l.Tattoo })),
+}
+
+// lesionStoredColumns adds what the database keeps beyond lesions.csv.
+var lesionStoredColumns = append(append([]column[L](nil), lesionColumns...),
+	dateCol("reported_on", func(l *L) *time.Time { return &l.ReportedOn }))
+
+// histologyColumns is histology.csv.
+var histologyColumns = []column[H]{
+	textCol("procedure_id", func(h *H) *string { return &h.ProcedureID }),
+	countCol("lesion_no", func(h *H) *int { return &h.LesionNo }),
+	codeCol("histology", logbook.Histologies, func(h *H) *logbook.Histology { return &h.Histology }),
+	codeCol("dysplasia", logbook.Dysplasias, func(h *H) *logbook.Dysplasia { return &h.Dysplasia }),
+	dateCol("reported_on", func(h *H) *time.Time { return &h.ReportedOn }),
+}
+
+func withOptional[T any](c column[T]) column[T] { c.optional = true; return c }
+
+func withSQLName[T any](c column[T], name string) column[T] { c.sqlName = name; return c }
+
+// names returns the CSV names of cols.
+func names[T any](cols []column[T]) []string {
+	out := make([]string, len(cols))
+	for i, c := range cols {
+		out[i] = c.name
+	}
+	return out
+}
+
+// sqlList returns the SQL column names of cols joined by commas.
+func sqlList[T any](cols []column[T]) string {
+	out := make([]string, len(cols))
+	for i, c := range cols {
+		out[i] = c.sqlColumn()
+	}
+	return strings.Join(out, ", ")
+}
+
+// placeholders returns "?, ?, …" for n values.
+func placeholders(n int) string {
+	return strings.TrimSuffix(strings.Repeat("?, ", n), ", ")
+}
+
+// storedArgs returns the values to store for r, in the order of cols.
+func storedArgs[T any](cols []column[T], r *T) []any {
+	args := make([]any, len(cols))
+	for i, c := range cols {
+		args[i] = c.storedValue(r)
+	}
+	return args
+}
+
+// csvRow returns r's CSV cells in the order of cols.
+func csvRow[T any](cols []column[T], r *T) []string {
+	out := make([]string, len(cols))
+	for i, c := range cols {
+		out[i] = c.get(r)
+	}
+	return out
+}
+
+// asMap returns r's fields by CSV name, the form the change log records.
+func asMap[T any](cols []column[T], r *T) map[string]string {
+	m := make(map[string]string, len(cols))
+	for _, c := range cols {
+		if v := c.get(r); v != "" {
+			m[c.name] = v
+		}
+	}
+	return m
+}
+
+// scanStored reads one stored row (as nullable strings, in the order of
+// cols) into r.
+func scanStored[T any](cols []column[T], vals []*string, r *T) error {
+	for i, c := range cols {
+		if vals[i] == nil {
+			continue
+		}
+		if err := c.loadStored(r, *vals[i]); err != nil {
+			return fmt.Errorf("stored %s: %w", c.name, err)
+		}
+	}
+	return nil
+}

@@ -1,0 +1,94 @@
+package store
+
+import (
+	"context"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"strconv"
+
+	"polypledger/logbook"
+)
+
+// Export writes every record of a kind as CSV with the same columns import
+// reads, in procedure date-then-id order: procedures.csv, lesions.csv
+// (always with the optional tattoo column), or histology.csv (the final
+// results with their report dates). Patient references are written as their
+// pseudonyms, never as hospital numbers. Cells a spreadsheet would run as a
+// formula are neutralised (see SafeCell).
+func (s *Store) Export(ctx context.Context, kind Kind, w io.Writer) error {
+	cw := csv.NewWriter(w)
+	var err error
+	switch kind {
+	case Procedures:
+		err = writeAll(cw, procedureColumns, func(emit func(*logbook.Procedure) error) error {
+			return s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error { return emit(&c.Procedure) })
+		})
+	case Lesions:
+		err = writeAll(cw, lesionColumns, func(emit func(*logbook.Lesion) error) error {
+			return s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error {
+				for i := range c.Lesions {
+					if err := emit(&c.Lesions[i]); err != nil {
+						return err
+					}
+				}
+				return nil
+			})
+		})
+	case Histology:
+		err = writeAll(cw, histologyColumns, func(emit func(*logbook.HistologyResult) error) error {
+			return s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error {
+				for _, l := range c.Lesions {
+					if !l.Histology.IsFinal() {
+						continue
+					}
+					h := logbook.HistologyResult{ProcedureID: l.ProcedureID, LesionNo: l.LesionNo, Histology: l.Histology, Dysplasia: l.Dysplasia, ReportedOn: l.ReportedOn}
+					if err := emit(&h); err != nil {
+						return err
+					}
+				}
+				return nil
+			})
+		})
+	default:
+		return fmt.Errorf("kind %q is not procedures, lesions or histology", kind)
+	}
+	if err != nil {
+		return err
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+func writeAll[T any](cw *csv.Writer, cols []column[T], each func(emit func(*T) error) error) error {
+	if err := cw.Write(names(cols)); err != nil {
+		return err
+	}
+	return each(func(r *T) error {
+		row := csvRow(cols, r)
+		for i := range row {
+			row[i] = SafeCell(row[i])
+		}
+		return cw.Write(row)
+	})
+}
+
+// SafeCell neutralises a cell that a spreadsheet would run as a formula: one
+// beginning with "=", "+", "-" (unless the whole cell is a number), "@", a
+// tab or a carriage return gets a leading apostrophe, which spreadsheets show
+// as text. Every other cell is returned unchanged.
+func SafeCell(v string) string {
+	if v == "" {
+		return v
+	}
+	switch v[0] {
+	case '=', '+', '@', '\t', '\r':
+		return "'" + v
+	case '-':
+		if _, err := strconv.ParseFloat(v, 64); err == nil {
+			return v
+		}
+		return "'" + v
+	}
+	return v
+}

@@ -1,0 +1,78 @@
+package store
+
+import (
+	"crypto/rand"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+)
+
+// KeyFileName is the unit key's file name inside the config directory.
+const KeyFileName = "unit.key"
+
+// ConfigDir returns the folder that holds the settings, the unit key and
+// (by default) the database: $POLYPLEDGER_HOME when set, else the OS's user
+// config directory (%AppData% on Windows, ~/.config on Linux,
+// ~/Library/Application Support on macOS) with "polypledger" appended.
+func ConfigDir() (string, error) {
+	if d := os.Getenv("POLYPLEDGER_HOME"); d != "" {
+		return d, nil
+	}
+	base, err := os.UserConfigDir()
+	if err != nil {
+		return "", fmt.Errorf("cannot find the user configuration folder: %w", err)
+	}
+	return filepath.Join(base, "polypledger"), nil
+}
+
+// DefaultDBPath is the database opened when none is named.
+func DefaultDBPath() (string, error) {
+	d, err := ConfigDir()
+	if err != nil {
+		return "", err
+	}
+	return filepath.Join(d, "unit.db"), nil
+}
+
+// LoadOrCreateKey returns the unit key kept in dir, creating a new random
+// 32-byte key (file mode 0600, folder 0700) on first use. The key is what
+// turns hospital numbers into pseudonyms: if it is lost, stored pseudonyms
+// can no longer be matched to the same patients in new imports, so it must
+// be backed up together with the database but kept apart from it.
+func LoadOrCreateKey(dir string) ([]byte, error) {
+	path := filepath.Join(dir, KeyFileName)
+	b, err := os.ReadFile(path)
+	if err == nil {
+		key, err := hex.DecodeString(strings.TrimSpace(string(b)))
+		if err != nil || len(key) < 16 {
+			return nil, fmt.Errorf("unit key %s is damaged (expected hex digits); restore it from your key backup", path)
+		}
+		return key, nil
+	}
+	if !errors.Is(err, os.ErrNotExist) {
+		return nil, fmt.Errorf("cannot read unit key %s: %w", path, err)
+	}
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return nil, fmt.Errorf("cannot create folder %s for the unit key: %w", dir, err)
+	}
+	key := make([]byte, 32)
+	if _, err := rand.Read(key); err != nil {
+		return nil, err
+	}
+	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+	if err != nil {
+		return nil, fmt.Errorf("cannot create unit key %s: %w", path, err)
+	}
+	if _, err := f.WriteString(hex.EncodeToString(key) + "\n"); err != nil {
+		f.Close()
+		os.Remove(path)
+		return nil, fmt.Errorf("cannot write unit key %s: %w", path, err)
+	}
+	if err := f.Close(); err != nil {
+		return nil, err
+	}
+	return key, nil
+}

@@ -1,0 +1,262 @@
+package store
+
+import (
+	"context"
+	"fmt"
+	"strings"
+	"time"
+
+	"polypledger/logbook"
+)
+
+// CaseFilter selects the cases ForEachCase streams. Zero fields select all.
+type CaseFilter struct {
+	From, To   time.Time // performed_on, both ends included
+	OperatorID string
+	TraineeID  string
+}
+
+func (f CaseFilter) where(alias string) (string, []any) {
+	var conds []string
+	var args []any
+	if !f.From.IsZero() {
+		conds = append(conds, alias+"performed_on >= ?")
+		args = append(args, logbook.FormatDate(f.From))
+	}
+	if !f.To.IsZero() {
+		conds = append(conds, alias+"performed_on <= ?")
+		args = append(args, logbook.FormatDate(f.To))
+	}
+	if f.OperatorID != "" {
+		conds = append(conds, alias+"operator_id = ?")
+		args = append(args, f.OperatorID)
+	}
+	if f.TraineeID != "" {
+		conds = append(conds, alias+"trainee_id = ?")
+		args = append(args, f.TraineeID)
+	}
+	if len(conds) == 0 {
+		return "", nil
+	}
+	return " WHERE " + strings.Join(conds, " AND "), args
+}
+
+// caseStreamSQL reads procedures and their lesions in one statement (one
+// consistent snapshot), ordered by date, id and lesion number.
+func caseStreamSQL(where string) string {
+	pc := make([]string, len(procedureColumns))
+	for i, c := range procedureColumns {
+		pc[i] = "p." + c.sqlColumn()
+	}
+	lc := make([]string, len(lesionStoredColumns))
+	for i, c := range lesionStoredColumns {
+		lc[i] = "l." + c.sqlColumn()
+	}
+	return "SELECT " + strings.Join(pc, ", ") + ", " + strings.Join(lc, ", ") +
+		" FROM procedures p LEFT JOIN lesions l ON l.procedure_id = p.id" + where +
+		" ORDER BY p.performed_on, p.id, l.lesion_no"
+}
+
+// ForEachCase streams the selected cases in date-then-id order to fn, one at
+// a time; the case passed to fn is reused for the next one, so fn must not
+// keep it. Returning an error from fn stops the stream with that error.
+func (s *Store) ForEachCase(ctx context.Context, f CaseFilter, fn func(*logbook.Case) error) error {
+	where, args := f.where("p.")
+	rows, err := s.db.QueryContext(ctx, caseStreamSQL(where), args...)
+	if err != nil {
+		return s.explain(err)
+	}
+	defer rows.Close()
+	np := len(procedureColumns)
+	dest, vals := nullStrings(np + len(lesionStoredColumns))
+	var cur logbook.Case
+	have := false
+	for rows.Next() {
+		if err := rows.Scan(dest...); err != nil {
+			return s.explain(err)
+		}
+		v := vals()
+		if !have || *v[0] != cur.ID {
+			if have {
+				if err := fn(&cur); err != nil {
+					return err
+				}
+			}
+			cur.Procedure = logbook.NewProcedure()
+			cur.Lesions = cur.Lesions[:0]
+			if err := scanStored(procedureColumns, v[:np], &cur.Procedure); err != nil {
+				return fmt.Errorf("procedure %s: %w", *v[0], err)
+			}
+			have = true
+		}
+		if v[np] != nil {
+			l := logbook.NewLesion()
+			if err := scanStored(lesionStoredColumns, v[np:], &l); err != nil {
+				return fmt.Errorf("procedure %s lesion: %w", cur.ID, err)
+			}
+			cur.Lesions = append(cur.Lesions, l)
+		}
+	}
+	if err := rows.Err(); err != nil {
+		return s.explain(err)
+	}
+	if have {
+		return fn(&cur)
+	}
+	return nil
+}
+
+// ListQuery selects and orders one page of the case list.
+type ListQuery struct {
+	CaseFilter
+	Indication       logbook.Indication
+	HistologyPending bool   // only procedures with a lesion awaiting histology
+	SortBy           string // "performed_on" (default), "id", "operator_id", "age", "indication"
+	Descending       bool
+	Limit, Offset    int
+}
+
+// ProcedureRow is one line of the case list.
+type ProcedureRow struct {
+	Procedure    logbook.Procedure
+	Lesions      int
+	AwaitingHist int
+}
+
+var sortColumns = map[string]string{
+	"performed_on": "p.performed_on", "id": "p.id", "operator_id": "p.operator_id",
+	"age": "p.age", "indication": "p.indication", "extent": "p.extent",
+}
+
+func (q ListQuery) where() (string, []any) {
+	where, args := q.CaseFilter.where("p.")
+	var extra []string
+	if q.Indication != "" {
+		extra = append(extra, "p.indication = ?")
+		args = append(args, string(q.Indication))
+	}
+	if q.HistologyPending {
+		extra = append(extra, "EXISTS (SELECT 1 FROM lesions x WHERE x.procedure_id = p.id AND x.histology = 'pending')")
+	}
+	if len(extra) > 0 {
+		if where == "" {
+			where = " WHERE " + strings.Join(extra, " AND ")
+		} else {
+			where += " AND " + strings.Join(extra, " AND ")
+		}
+	}
+	return where, args
+}
+
+// ListProcedures returns one page of procedures for the case list, with
+// their lesion counts; only the page is read.
+func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow, error) {
+	where, args := q.where()
+	order, ok := sortColumns[q.SortBy]
+	if !ok {
+		order = "p.performed_on"
+	}
+	dir := " ASC"
+	if q.Descending {
+		dir = " DESC"
+	}
+	if q.Limit <= 0 {
+		q.Limit = 100
+	}
+	pc := make([]string, len(procedureColumns))
+	for i, c := range procedureColumns {
+		pc[i] = "p." + c.sqlColumn()
+	}
+	sqlText := "SELECT " + strings.Join(pc, ", ") +
+		", (SELECT count(*) FROM lesions l WHERE l.procedure_id = p.id)" +
+		", (SELECT count(*) FROM lesions l WHERE l.procedure_id = p.id AND l.histology = 'pending')" +
+		" FROM procedures p" + where + " ORDER BY " + order + dir + ", p.id" + dir + " LIMIT ? OFFSET ?"
+	rows, err := s.db.QueryContext(ctx, sqlText, append(args, q.Limit, q.Offset)...)
+	if err != nil {
+		return nil, s.explain(err)
+	}
+	defer rows.Close()
+	dest, vals := nullStrings(len(procedureColumns))
+	var out []ProcedureRow
+	for rows.Next() {
+		var r ProcedureRow
+		if err := rows.Scan(append(dest, &r.Lesions, &r.AwaitingHist)...); err != nil {
+			return nil, err
+		}
+		r.Procedure = logbook.NewProcedure()
+		if err := scanStored(procedureColumns, vals(), &r.Procedure); err != nil {
+			return nil, err
+		}
+		out = append(out, r)
+	}
+	return out, rows.Err()
+}
+
+// CountProcedures counts the procedures a list query selects (ignoring its
+// page).
+func (s *Store) CountProcedures(ctx context.Context, q ListQuery) (int, error) {
+	where, args := q.where()
+	var n int
+	err := s.db.QueryRowContext(ctx, "SELECT count(*) FROM procedures p"+where, args...).Scan(&n)
+	return n, s.explain(err)
+}
+
+// AwaitingLesion is a lesion in the pathology inbox, with its procedure's
+// date and operator.
+type AwaitingLesion struct {
+	Lesion      logbook.Lesion
+	PerformedOn time.Time
+	OperatorID  string
+}
+
+// AwaitingHistology returns one page of lesions whose histology is pending,
+// oldest procedure first, grouped by procedure.
+func (s *Store) AwaitingHistology(ctx context.Context, limit, offset int) ([]AwaitingLesion, error) {
+	lc := make([]string, len(lesionStoredColumns))
+	for i, c := range lesionStoredColumns {
+		lc[i] = "l." + c.sqlColumn()
+	}
+	rows, err := s.db.QueryContext(ctx, "SELECT "+strings.Join(lc, ", ")+", p.performed_on, p.operator_id FROM lesions l JOIN procedures p ON p.id = l.procedure_id WHERE l.histology = 'pending' ORDER BY p.performed_on, p.id, l.lesion_no LIMIT ? OFFSET ?", limit, offset)
+	if err != nil {
+		return nil, s.explain(err)
+	}
+	defer rows.Close()
+	dest, vals := nullStrings(len(lesionStoredColumns))
+	var out []AwaitingLesion
+	for rows.Next() {
+		var a AwaitingLesion
+		var date string
+		if err := rows.Scan(append(dest, &date, &a.OperatorID)...); err != nil {
+			return nil, err
+		}
+		a.Lesion = logbook.NewLesion()
+		if err := scanStored(lesionStoredColumns, vals(), &a.Lesion); err != nil {
+			return nil, err
+		}
+		a.PerformedOn, _ = logbook.ParseDate(date)
+		out = append(out, a)
+	}
+	return out, rows.Err()
+}
+
+// CountAwaitingHistology counts lesions whose histology is pending.
+func (s *Store) CountAwaitingHistology(ctx context.Context) (int, error) {
+	var n int
+	err := s.db.QueryRowContext(ctx, "SELECT count(*) FROM lesions WHERE histology = 'pending'").Scan(&n)
+	return n, s.explain(err)
+}
+
+// Span returns the first and last procedure dates (zero times when empty).
+func (s *Store) Span(ctx context.Context) (first, last time.Time, err error) {
+	var a, b *string
+	if err = s.db.QueryRowContext(ctx, "SELECT min(performed_on), max(performed_on) FROM procedures").Scan(&a, &b); err != nil {
+		return first, last, s.explain(err)
+	}
+	if a != nil {
+		first, _ = logbook.ParseDate(*a)
+	}
+	if b != nil {
+		last, _ = logbook.ParseDate(*b)
+	}
+	return first, last, nil
+}

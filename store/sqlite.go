@@ -1,0 +1,245 @@
+package store
+
+// Everything specific to SQLite lives in this file: the driver and its
+// connection string, pragmas, the file-header checks made before a file is
+// opened, the schema version kept in user_version, integrity checks and the
+// online copy. A later PostgreSQL backend replaces this file, not the rest.
+
+import (
+	"context"
+	"database/sql"
+	"encoding/binary"
+	"errors"
+	"fmt"
+	"io"
+	"net/url"
+	"os"
+	"strings"
+
+	"modernc.org/sqlite"
+	sqlite3 "modernc.org/sqlite/lib"
+)
+
+// applicationID marks a SQLite file as a polypledger database ("PlPg").
+const applicationID = 0x506c5067
+
+// sqliteHeader is the first 16 bytes of every SQLite 3 database file.
+const sqliteHeader = "SQLite format 3\x00"
+
+// dsn builds the connection string: WAL journal, foreign keys, a busy
+// timeout, and write transactions that take the lock at BEGIN so that two
+// writers queue instead of failing half-way.
+func dsn(path string, busyMillis int, readOnly bool) string {
+	q := url.Values{}
+	q.Add("_pragma", "foreign_keys(1)")
+	q.Add("_pragma", fmt.Sprintf("busy_timeout(%d)", busyMillis))
+	q.Add("_pragma", "synchronous(FULL)")
+	q.Set("_txlock", "immediate")
+	if readOnly {
+		q.Set("mode", "ro")
+	}
+	return "file:" + (&url.URL{Path: path}).EscapedPath() + "?" + q.Encode()
+}
+
+const driverName = "sqlite"
+
+// fileHeader is what the file's first 100 bytes say about it.
+type fileHeader struct {
+	exists        bool
+	empty         bool  // a zero-length file: SQLite treats it as a new database
+	size          int64 // bytes on disk
+	pageSize      int64
+	pages         int64 // database size in pages, when the header's count is valid
+	userVersion   int
+	applicationID uint32
+}
+
+// readHeader inspects a database file without opening it through SQLite, so
+// that a foreign or damaged file is refused before anything writes to it.
+func readHeader(path string) (fileHeader, error) {
+	var h fileHeader
+	f, err := os.Open(path)
+	if errors.Is(err, os.ErrNotExist) {
+		return h, nil
+	}
+	if err != nil {
+		return h, fmt.Errorf("cannot read %s: %w", path, err)
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return h, fmt.Errorf("cannot read %s: %w", path, err)
+	}
+	if st.IsDir() {
+		return h, fmt.Errorf("%s is a folder, not a database file", path)
+	}
+	h.exists, h.size = true, st.Size()
+	if h.size == 0 {
+		h.empty = true
+		return h, nil
+	}
+	buf := make([]byte, 100)
+	if _, err := io.ReadFull(f, buf); err != nil || string(buf[:16]) != sqliteHeader {
+		return h, fmt.Errorf("%s is not a polypledger database (it is not a SQLite file); it was left untouched", path)
+	}
+	h.pageSize = int64(binary.BigEndian.Uint16(buf[16:18]))
+	if h.pageSize == 1 {
+		h.pageSize = 65536
+	}
+	changeCounter := binary.BigEndian.Uint32(buf[24:28])
+	if validFor := binary.BigEndian.Uint32(buf[92:96]); validFor == changeCounter {
+		h.pages = int64(binary.BigEndian.Uint32(buf[28:32]))
+	}
+	h.userVersion = int(int32(binary.BigEndian.Uint32(buf[60:64])))
+	h.applicationID = binary.BigEndian.Uint32(buf[68:72])
+	return h, nil
+}
+
+// vet refuses a file whose header shows it is truncated, foreign, or written
+// by a newer schema than this program knows.
+func (h fileHeader) vet(path string, known int) error {
+	if !h.exists || h.empty {
+		return nil
+	}
+	if h.pageSize < 512 || h.size < h.pageSize || h.size%h.pageSize != 0 || (h.pages > 0 && h.size < h.pages*h.pageSize) {
+		return fmt.Errorf("%s looks damaged or truncated (%d bytes where the header promises more); it was left untouched — restore it from a backup", path, h.size)
+	}
+	if h.applicationID != 0 && h.applicationID != applicationID {
+		return fmt.Errorf("%s is a SQLite database of another program, not a polypledger database; it was left untouched", path)
+	}
+	if h.applicationID == 0 && h.userVersion != 0 {
+		return fmt.Errorf("%s is a SQLite database of another program, not a polypledger database; it was left untouched", path)
+	}
+	if h.userVersion > known {
+		return fmt.Errorf("%s was written by a newer version of polypledger (schema %d; this program knows up to %d); it was left untouched — use the newer program", path, h.userVersion, known)
+	}
+	return nil
+}
+
+// schemaVersion reads the schema version kept in user_version.
+func schemaVersion(ctx context.Context, q querier) (int, error) {
+	var v int
+	err := q.QueryRowContext(ctx, "PRAGMA user_version").Scan(&v)
+	return v, err
+}
+
+// setSchemaVersion records the schema version inside the migration's
+// transaction, and stamps the application id.
+func setSchemaVersion(ctx context.Context, tx *sql.Tx, v int) error {
+	if _, err := tx.ExecContext(ctx, fmt.Sprintf("PRAGMA user_version = %d", v)); err != nil {
+		return err
+	}
+	_, err := tx.ExecContext(ctx, fmt.Sprintf("PRAGMA application_id = %d", applicationID))
+	return err
+}
+
+// applicationIDOf reads the database's application id.
+func applicationIDOf(ctx context.Context, q querier) (uint32, error) {
+	var v int64
+	err := q.QueryRowContext(ctx, "PRAGMA application_id").Scan(&v)
+	return uint32(v), err
+}
+
+// useWAL switches the database to write-ahead logging, which lets readers go
+// on while one writer commits, and survives a crash at any point.
+func useWAL(ctx context.Context, db *sql.DB) error {
+	var mode string
+	if err := db.QueryRowContext(ctx, "PRAGMA journal_mode=WAL").Scan(&mode); err != nil {
+		return err
+	}
+	if !strings.EqualFold(mode, "wal") {
+		return fmt.Errorf("journal mode is %s, not WAL", mode)
+	}
+	return nil
+}
+
+// integrityFindings runs SQLite's own integrity and foreign-key checks.
+func integrityFindings(ctx context.Context, db *sql.DB) ([]string, error) {
+	var out []string
+	rows, err := db.QueryContext(ctx, "PRAGMA integrity_check")
+	if err != nil {
+		return nil, err
+	}
+	for rows.Next() {
+		var s string
+		if err := rows.Scan(&s); err != nil {
+			rows.Close()
+			return nil, err
+		}
+		if s != "ok" {
+			out = append(out, "integrity: "+s)
+		}
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	rows, err = db.QueryContext(ctx, "PRAGMA foreign_key_check")
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var table, parent string
+		var rowid sql.NullInt64
+		var fk int
+		if err := rows.Scan(&table, &rowid, &parent, &fk); err != nil {
+			return nil, err
+		}
+		out = append(out, fmt.Sprintf("foreign key: a row of %s (rowid %d) points to a missing %s", table, rowid.Int64, parent))
+	}
+	return out, rows.Err()
+}
+
+// vacuumInto writes a consistent copy of the database to path (which must
+// not exist) while other connections may be writing.
+func vacuumInto(ctx context.Context, db *sql.DB, path string) error {
+	_, err := db.ExecContext(ctx, "VACUUM INTO ?", path)
+	return err
+}
+
+// checkpoint folds the write-ahead log back into the main file.
+func checkpoint(ctx context.Context, db *sql.DB) error {
+	_, err := db.ExecContext(ctx, "PRAGMA wal_checkpoint(TRUNCATE)")
+	return err
+}
+
+// isBusy reports whether err is SQLite's "database is locked/busy".
+func isBusy(err error) bool {
+	var se *sqlite.Error
+	if errors.As(err, &se) {
+		c := se.Code() & 0xff
+		return c == sqlite3.SQLITE_BUSY || c == sqlite3.SQLITE_LOCKED
+	}
+	return false
+}
+
+// isFull reports whether err is SQLite's "database or disk is full".
+func isFull(err error) bool {
+	var se *sqlite.Error
+	if errors.As(err, &se) {
+		return se.Code()&0xff == sqlite3.SQLITE_FULL
+	}
+	return false
+}
+
+// isReadOnly reports whether err is SQLite's "attempt to write a readonly
+// database" or a failure to open for writing.
+func isReadOnly(err error) bool {
+	var se *sqlite.Error
+	if errors.As(err, &se) {
+		c := se.Code() & 0xff
+		return c == sqlite3.SQLITE_READONLY || c == sqlite3.SQLITE_CANTOPEN || c == sqlite3.SQLITE_PERM
+	}
+	return false
+}
+
+// isCorrupt reports whether err says the file is damaged or not a database.
+func isCorrupt(err error) bool {
+	var se *sqlite.Error
+	if errors.As(err, &se) {
+		c := se.Code() & 0xff
+		return c == sqlite3.SQLITE_CORRUPT || c == sqlite3.SQLITE_NOTADB
+	}
+	return false
+}
