@@ -51,8 +51,10 @@ func (t BinaryTable) Matrix() [][]int {
 // coefficient of agreement for nominal scales", Educ Psychol Meas
 // 1960;20:37–46): κ = (po − pe)/(1 − pe), with po the observed and pe the
 // chance agreement from the margins. SE is the large-sample standard error
-// Cohen gives, √(po(1−po) / (n(1−pe)²)), and CI is κ ± 1.96·SE, clamped to
-// [−1, 1]. Kappa, SE and CI are NaN when n is 0 or pe is 1 (every item in
+// Cohen gives, √(po(1−po) / (n(1−pe)²)), and CI is κ ± z·SE with z the
+// 97.5% normal quantile (1.959964), not clamped, so that the interval is
+// exactly the stated formula (it can pass 1 in small samples with high
+// agreement). Kappa, SE and CI are NaN when n is 0 or pe is 1 (every item in
 // one category for both ratings, where kappa is undefined).
 type Kappa struct {
 	Agreements int      `json:"agreements"`
@@ -114,7 +116,7 @@ func CohenKappa(table [][]int) Kappa {
 	k.Kappa = (k.Po - k.Pe) / (1 - k.Pe)
 	k.SE = math.Sqrt(k.Po * (1 - k.Po) / (n * (1 - k.Pe) * (1 - k.Pe)))
 	half := z95 * k.SE
-	k.CI = Interval{math.Max(-1, k.Kappa-half), math.Min(1, k.Kappa+half)}
+	k.CI = Interval{k.Kappa - half, k.Kappa + half}
 	return k
 }
 

@@ -37,6 +37,10 @@ func TestCohenKappa(t *testing.T) {
 		// columns 11, 12, 7 give pe = (132+120+56)/900 = 0.342222;
 		// κ = 0.457778/0.657778 = 0.695946; SE = √(0.16/(30·0.432672)) = 0.111027.
 		{"three classes", [][]int{{10, 2, 0}, {1, 8, 1}, {0, 2, 6}}, 0.8, 0.342222, 0.695946, 0.111027, 0.478337, 0.913555, 24, 30},
+		// Hand count: po 19/20, pe (9·10+11·10)/400 = 0.5, κ 0.9,
+		// SE = √(0.95·0.05/(20·0.25)) = 0.097468; the upper limit passes 1
+		// and is left as the formula gives it.
+		{"upper limit above 1", [][]int{{9, 0}, {1, 10}}, 0.95, 0.5, 0.9, 0.097468, 0.708966, 1.091034, 19, 20},
 		// Perfect agreement on two categories: κ 1, SE 0.
 		{"perfect", [][]int{{4, 0}, {0, 6}}, 1, 0.52, 1, 0, 1, 1, 10, 10},
 	}
