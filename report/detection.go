@@ -1,6 +1,7 @@
 package report
 
 import (
+	"math"
 	"slices"
 
 	"polypledger/logbook"
@@ -201,7 +202,7 @@ type counts struct {
 	comfortRec, discomfort int
 	perforation            int
 	bleedDen, bleedNum     int
-	sedation               [nDrugs][nBands]map[float64]int
+	sedation               [nDrugs][nBands]doseCounts
 	sedationN              [nDrugs][nBands]int
 	sedationSum            [nDrugs][nBands]float64
 }
@@ -283,16 +284,53 @@ func (s *counts) add(f *caseFacts) {
 			if v == logbook.NotRecorded {
 				continue
 			}
-			m := s.sedation[d][f.band]
-			if m == nil {
-				m = make(map[float64]int)
-				s.sedation[d][f.band] = m
-			}
-			m[v]++
+			s.sedation[d][f.band].add(v, maxDose[d])
 			s.sedationN[d][f.band]++
 			s.sedationSum[d][f.band] += v
 		}
 	}
+}
+
+// maxDose is the largest dose validation accepts for each drug, which sizes
+// the dose counts.
+var maxDose = [nDrugs]float64{logbook.MaxMidazolamMg, logbook.MaxFentanylUg, logbook.MaxPethidineMg}
+
+// doseCounts counts the doses of one drug in one age band for a median
+// without keeping a value per case: doses in whole or half units up to the
+// drug's maximum are counted in a slice indexed by twice the dose (made on
+// first use), any other value in a map. Adding a dose allocates nothing
+// after the first.
+type doseCounts struct {
+	halves []int32
+	other  map[float64]int
+}
+
+func (d *doseCounts) add(v, max float64) {
+	if h := v * 2; h == math.Trunc(h) && v <= max {
+		if d.halves == nil {
+			d.halves = make([]int32, int(2*max)+1)
+		}
+		d.halves[int(h)]++
+		return
+	}
+	if d.other == nil {
+		d.other = map[float64]int{}
+	}
+	d.other[v]++
+}
+
+// all returns every counted dose as value → count.
+func (d *doseCounts) all() map[float64]int {
+	m := make(map[float64]int, len(d.other)+8)
+	for v, k := range d.other {
+		m[v] += k
+	}
+	for i, k := range d.halves {
+		if k > 0 {
+			m[float64(i)/2] += int(k)
+		}
+	}
+	return m
 }
 
 // countIf is 1 when b holds, else 0.
@@ -429,7 +467,7 @@ func (s *counts) median(drug, band int, p *Profile) Indicator {
 	n := s.sedationN[drug][band]
 	ind := Indicator{ID: sedationID(drug, band), Numerator: s.sedationSum[drug][band], Denominator: n, Kind: KindMedian}
 	if n > 0 {
-		ind.Value = ptr(medianOfCounts(s.sedation[drug][band], n))
+		ind.Value = ptr(medianOfCounts(s.sedation[drug][band].all(), n))
 	}
 	ind.Judge(p.Target(ind.ID), p.MinCases)
 	return ind

@@ -38,11 +38,14 @@ type Metrics struct {
 	opt         MetricsOptions
 	unit        *population
 	ops         map[string]*population
-	first, last time.Time // observed dates, for open-ended periods
+	first, last time.Time   // observed dates, for open-ended periods
+	lastID      string      // the operator of the previous case, whose
+	lastOp      *population // population is reused without a map lookup
 }
 
 // population is the running state of the unit or one operator.
 type population struct {
+	id string // the operator, "" for the unit
 	counts
 	extra []Accumulator
 }
@@ -93,10 +96,15 @@ func (m *Metrics) Add(c *logbook.Case) {
 	var f caseFacts
 	f.read(m.prof, c)
 	m.unit.add(&f, c)
-	op := m.ops[c.OperatorID]
-	if op == nil {
-		op = newPopulation(m.opt.Extra)
-		m.ops[strings.Clone(c.OperatorID)] = op
+	op := m.lastOp
+	if op == nil || c.OperatorID != m.lastID {
+		op = m.ops[c.OperatorID]
+		if op == nil {
+			op = newPopulation(m.opt.Extra)
+			op.id = strings.Clone(c.OperatorID)
+			m.ops[op.id] = op
+		}
+		m.lastID, m.lastOp = op.id, op
 	}
 	op.add(&f, c)
 }

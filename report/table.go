@@ -17,13 +17,13 @@ func WriteTable(w io.Writer, r MetricsResult) error {
 	fmt.Fprintf(tw, "Quality indicators %s to %s, standard %s\n", r.From, r.To, r.Standard)
 	block := func(title string, inds []Indicator) {
 		fmt.Fprintf(tw, "\n%s\n", title)
-		fmt.Fprintln(tw, "indicator\tcases\tvalue\t95% interval\ttarget\tverdict\t")
+		fmt.Fprintln(tw, "indicator\tcases\tvalue\t95% interval\ttarget\tverdict")
 		for _, ind := range inds {
 			verdict := ind.Status.Words()
 			if ind.AwaitingHistology > 0 {
 				verdict += fmt.Sprintf("; %d awaiting histology", ind.AwaitingHistology)
 			}
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t\n", ind.ID, casesText(ind), valueText(ind, ind.Value),
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", ind.ID, casesText(ind), valueText(ind, ind.Value),
 				intervalText(ind), targetText(ind), verdict)
 		}
 	}
@@ -77,11 +77,26 @@ func valueText(ind Indicator, v *float64) string {
 	return fmt.Sprintf("%.1f%%", 100*x)
 }
 
+// intervalText prints the interval in brackets; percentages keep their
+// sign, other kinds print bare numbers in the value's unit.
 func intervalText(ind Indicator) string {
 	if ind.CILow == nil || ind.CIHigh == nil {
 		return ""
 	}
-	return "[" + valueText(ind, ind.CILow) + " to " + valueText(ind, ind.CIHigh) + "]"
+	lo, hi := *ind.CILow, *ind.CIHigh
+	switch {
+	case ind.Kind == KindMean:
+		return fmt.Sprintf("[%.1f to %.1f]", lo, hi)
+	case ind.Kind == KindDifference:
+		return fmt.Sprintf("[%+.1f to %+.1f]", 100*lo, 100*hi)
+	case ind.Kind == KindRatio || ind.Kind == "kappa":
+		return fmt.Sprintf("[%.2f to %.2f]", lo, hi)
+	case ind.Kind != "" && ind.Kind != "proportion":
+		return fmt.Sprintf("[%g to %g]", lo, hi)
+	case ind.Scale > 0:
+		return fmt.Sprintf("[%.1f to %.1f]", lo*float64(ind.Scale), hi*float64(ind.Scale))
+	}
+	return fmt.Sprintf("[%.1f%% to %.1f%%]", 100*lo, 100*hi)
 }
 
 func targetText(ind Indicator) string {
