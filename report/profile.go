@@ -95,6 +95,7 @@ type ProfileError struct {
 	File, Field, Reason string
 }
 
+// Error writes "file: field: reason" (without the field when it is empty).
 func (e ProfileError) Error() string {
 	if e.Field == "" {
 		return e.File + ": " + e.Reason
@@ -105,6 +106,7 @@ func (e ProfileError) Error() string {
 // ProfileErrors is every problem found in one profile file.
 type ProfileErrors []ProfileError
 
+// Error writes one problem per line.
 func (es ProfileErrors) Error() string {
 	parts := make([]string, len(es))
 	for i, e := range es {
