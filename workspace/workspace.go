@@ -1,0 +1,167 @@
+// Package workspace opens a unit the way both the command line and the
+// desktop app do: the database with the unit key, the shipped and user
+// standard profiles, the demo unit, and the one streaming pass that feeds
+// the indicator engine. It holds no arithmetic of its own; the figures come
+// from report and the records from store.
+package workspace
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"time"
+
+	"polypledger/assets"
+	"polypledger/demo"
+	"polypledger/logbook"
+	"polypledger/report"
+	"polypledger/store"
+)
+
+// OpenStore opens the database at path; withKey loads (or creates) the unit
+// key from the config folder so that hospital numbers typed or imported can
+// be pseudonymised.
+func OpenStore(ctx context.Context, path string, withKey bool) (*store.Store, error) {
+	opt := store.Options{}
+	if withKey {
+		key, err := UnitKey()
+		if err != nil {
+			return nil, err
+		}
+		opt.Key = key
+	}
+	return store.Open(ctx, path, opt)
+}
+
+// UnitKey returns the unit key kept in the config folder, creating it on
+// first use.
+func UnitKey() ([]byte, error) {
+	dir, err := store.ConfigDir()
+	if err != nil {
+		return nil, err
+	}
+	return store.LoadOrCreateKey(dir)
+}
+
+// DemoKey is the key the demo uses for its invented hospital numbers, so
+// that the same seed always gives the same pseudonyms.
+func DemoKey(seed uint64) []byte { return []byte(fmt.Sprintf("polypledger demo key %d", seed)) }
+
+// RecommendFor returns the function the demo uses to fill in the interval an
+// endoscopist recorded: the program's own suggestion under guideline g (an
+// unknown guideline is read as report.DefaultGuideline).
+func RecommendFor(g string) func(c *logbook.Case) logbook.Interval {
+	gl, err := report.ParseGuideline(g)
+	if err != nil {
+		gl = report.DefaultGuideline
+	}
+	return func(c *logbook.Case) logbook.Interval { return report.Suggest(gl, c).Interval }
+}
+
+// CreateDemo fills an empty database with the invented demo unit: its
+// roster, settings and n procedures drawn from seed, in one transaction.
+// progress, when set, is called every store.ProgressEvery procedures.
+func CreateDemo(ctx context.Context, st *store.Store, n int, seed uint64, progress func(done int)) (int, error) {
+	settings := store.DefaultSettings
+	settings.UnitName = demo.UnitName
+	var roster []logbook.RosterEntry
+	for _, s := range demo.StaffList() {
+		roster = append(roster, s.Entry)
+	}
+	opt := demo.Options{Procedures: n, Seed: seed, Key: DemoKey(seed), Recommend: RecommendFor(settings.DefaultGuideline)}
+	return st.InsertCases(ctx, settings, roster, func(emit func(*logbook.Case) error) error {
+		return demo.Generate(opt, emit)
+	}, progress)
+}
+
+// LoadProfiles reads the shipped standard profiles and the user's own copies
+// from the config folder's "standards" subfolder.
+func LoadProfiles() ([]*report.Profile, error) {
+	dir, err := store.ConfigDir()
+	if err != nil {
+		return nil, err
+	}
+	return report.LoadProfiles(assets.Standards, os.DirFS(filepath.Join(dir, "standards")))
+}
+
+// ErrUnknownStandard is returned (wrapped) by NewAudit when the standard
+// asked for is not among the profiles.
+var ErrUnknownStandard = errors.New("unknown standard")
+
+// ErrUnknownGuideline is returned (wrapped) by Audit.Guideline for a
+// guideline the program does not apply.
+var ErrUnknownGuideline = errors.New("unknown guideline")
+
+// Audit is what the metrics, report and interval work share: the open
+// database, its unit settings and the chosen standard profile.
+type Audit struct {
+	Store    *store.Store
+	Settings store.Settings
+	Profile  *report.Profile
+}
+
+// NewAudit reads the unit settings of st and picks the profile with id
+// standard from profiles (the unit's default standard when standard is "").
+func NewAudit(ctx context.Context, st *store.Store, standard string, profiles []*report.Profile) (*Audit, error) {
+	settings, err := st.Settings(ctx)
+	if err != nil {
+		return nil, err
+	}
+	if standard == "" {
+		standard = settings.DefaultStandard
+	}
+	p, err := report.FindProfile(profiles, standard)
+	if err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrUnknownStandard, err)
+	}
+	return &Audit{Store: st, Settings: settings, Profile: p}, nil
+}
+
+// Guideline returns the surveillance guideline named by choice, or the
+// unit's default when choice is "" (report.DefaultGuideline when the
+// setting names none the program knows).
+func (a *Audit) Guideline(choice string) (report.Guideline, error) {
+	g := choice
+	if g == "" {
+		g = a.Settings.DefaultGuideline
+	}
+	gl, err := report.ParseGuideline(g)
+	if err != nil {
+		if choice != "" {
+			return "", fmt.Errorf("%w: %v", ErrUnknownGuideline, err)
+		}
+		return report.DefaultGuideline, nil
+	}
+	return gl, nil
+}
+
+// Eligibility returns the unit's resect-and-discard settings.
+func (a *Audit) Eligibility() report.EligibilitySettings {
+	return report.EligibilitySettings{MinCases: a.Settings.DiscardMinCases, RuleSet: a.Settings.EligibilityRules}
+}
+
+// ExtraFigures are the figures counted beside the profile's indicators in
+// the same pass: the optical-diagnosis audit and interval adherence, under
+// guideline g and the unit's eligibility settings.
+func (a *Audit) ExtraFigures(g report.Guideline) []report.AccumulatorFactory {
+	return []report.AccumulatorFactory{
+		report.OpticalAuditFactory(g, a.Eligibility()),
+		report.AdherenceFactory(g, a.Profile.Target("interval_adherence"), a.Profile.MinCases),
+	}
+}
+
+// ComputeMetrics streams the period's cases once through the indicator
+// engine (both ends included; a zero time leaves that end open).
+func (a *Audit) ComputeMetrics(ctx context.Context, from, to time.Time, g report.Guideline) (report.MetricsResult, error) {
+	m := report.NewMetrics(a.Profile, report.MetricsOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
+	err := a.Store.ForEachCase(ctx, store.CaseFilter{From: from, To: to}, func(c *logbook.Case) error {
+		m.Add(c)
+		return nil
+	})
+	if err != nil {
+		return report.MetricsResult{}, err
+	}
+	return m.Result(), nil
+}
