@@ -31,6 +31,6 @@ func EligibilityCaution() string {
 // indicator screen.
 func AuditCaution() string {
 	return "These figures support audit and appraisal. They are only as good as the records behind " +
-		"them; small numbers are shown but not judged, and interval suggestions are for the " +
-		"responsible clinician to confirm. " + notDevice
+		"them; small numbers are shown but not judged, interval suggestions are for the " +
+		"responsible clinician to confirm, and local policy decides. " + notDevice
 }
