@@ -3,38 +3,22 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
 	"strings"
 	"time"
 
-	"polypledger/assets"
 	"polypledger/logbook"
 	"polypledger/report"
 	"polypledger/store"
+	"polypledger/workspace"
 )
-
-// recommendFor returns the function the demo uses to fill in the interval an
-// endoscopist recorded: the program's own suggestion under guideline g.
-func recommendFor(g string) func(c *logbook.Case) logbook.Interval {
-	gl, err := report.ParseGuideline(g)
-	if err != nil {
-		gl = report.DefaultGuideline
-	}
-	return func(c *logbook.Case) logbook.Interval { return report.Suggest(gl, c).Interval }
-}
 
 // loadProfiles reads the shipped standard profiles and the user's own copies
 // from the config folder's "standards" subfolder.
-func loadProfiles() ([]*report.Profile, error) {
-	dir, err := store.ConfigDir()
-	if err != nil {
-		return nil, err
-	}
-	return report.LoadProfiles(assets.Standards, os.DirFS(filepath.Join(dir, "standards")))
-}
+func loadProfiles() ([]*report.Profile, error) { return workspace.LoadProfiles() }
 
 // auditSetup is what the metrics, report and interval commands share: the
 // open database (read-only), its settings and the chosen profile.
@@ -52,41 +36,33 @@ func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
 	if err != nil {
 		return nil, err
 	}
-	settings, err := st.Settings(ctx)
-	if err != nil {
-		st.Close()
-		return nil, err
-	}
-	a := &auditSetup{st: st, settings: settings}
-	if standard == "" {
-		standard = settings.DefaultStandard
-	}
 	profiles, err := loadProfiles()
 	if err != nil {
 		st.Close()
 		return nil, err
 	}
-	a.profile, err = report.FindProfile(profiles, standard)
+	w, err := workspace.NewAudit(ctx, st, standard, profiles)
 	if err != nil {
 		st.Close()
-		return nil, usagef("--standard: %v", err)
+		if errors.Is(err, workspace.ErrUnknownStandard) {
+			return nil, usagef("--standard: %v", err)
+		}
+		return nil, err
 	}
-	return a, nil
+	return &auditSetup{st: st, settings: w.Settings, profile: w.Profile}, nil
+}
+
+// shared is the setup as the workspace package holds it.
+func (a *auditSetup) shared() *workspace.Audit {
+	return &workspace.Audit{Store: a.st, Settings: a.settings, Profile: a.profile}
 }
 
 func (a *auditSetup) guideline(flagValue string) (report.Guideline, error) {
-	g := flagValue
-	if g == "" {
-		g = a.settings.DefaultGuideline
+	gl, err := a.shared().Guideline(flagValue)
+	if errors.Is(err, workspace.ErrUnknownGuideline) {
+		return "", usagef("--guideline: %v", err)
 	}
-	gl, err := report.ParseGuideline(g)
-	if err != nil {
-		if flagValue != "" {
-			return "", usagef("--guideline: %v", err)
-		}
-		return report.DefaultGuideline, nil
-	}
-	return gl, nil
+	return gl, err
 }
 
 func cmdInterval(ctx context.Context, e *env, args []string) error {
@@ -167,25 +143,13 @@ func writeIntervalText[T any](w io.Writer, g report.Guideline, rows []T, fields 
 // the same pass: the optical-diagnosis audit and interval adherence, under
 // the unit's guideline and eligibility settings.
 func (a *auditSetup) extraFigures(g report.Guideline) []report.AccumulatorFactory {
-	elig := report.EligibilitySettings{MinCases: a.settings.DiscardMinCases, RuleSet: a.settings.EligibilityRules}
-	return []report.AccumulatorFactory{
-		report.OpticalAuditFactory(g, elig),
-		report.AdherenceFactory(g, a.profile.Target("interval_adherence"), a.profile.MinCases),
-	}
+	return a.shared().ExtraFigures(g)
 }
 
 // computeMetrics streams the period's cases once through the indicator
 // engine.
 func (a *auditSetup) computeMetrics(ctx context.Context, from, to time.Time, g report.Guideline) (report.MetricsResult, error) {
-	m := report.NewMetrics(a.profile, report.MetricsOptions{From: from, To: to, Extra: a.extraFigures(g)})
-	err := a.st.ForEachCase(ctx, store.CaseFilter{From: from, To: to}, func(c *logbook.Case) error {
-		m.Add(c)
-		return nil
-	})
-	if err != nil {
-		return report.MetricsResult{}, err
-	}
-	return m.Result(), nil
+	return a.shared().ComputeMetrics(ctx, from, to, g)
 }
 
 func cmdMetrics(ctx context.Context, e *env, args []string) error {

@@ -9,8 +9,8 @@ import (
 	"strings"
 
 	"polypledger/demo"
-	"polypledger/logbook"
 	"polypledger/store"
+	"polypledger/workspace"
 )
 
 // version is stamped at build time with -ldflags "-X main.version=…".
@@ -19,19 +19,7 @@ var version = "dev"
 // openStore opens the database named by --db, with the unit key when the
 // command needs to pseudonymise patient references.
 func openStore(ctx context.Context, path string, withKey bool) (*store.Store, error) {
-	opt := store.Options{}
-	if withKey {
-		dir, err := store.ConfigDir()
-		if err != nil {
-			return nil, err
-		}
-		key, err := store.LoadOrCreateKey(dir)
-		if err != nil {
-			return nil, err
-		}
-		opt.Key = key
-	}
-	return store.Open(ctx, path, opt)
+	return workspace.OpenStore(ctx, path, withKey)
 }
 
 func cmdVersion(ctx context.Context, e *env, args []string) error {
@@ -67,21 +55,12 @@ func cmdDemo(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	settings := store.DefaultSettings
-	settings.UnitName = demo.UnitName
-	var roster []logbook.RosterEntry
-	for _, s := range demo.StaffList() {
-		roster = append(roster, s.Entry)
-	}
-	opt := demo.Options{Procedures: *n, Seed: *seed, Key: demoKey(*seed), Recommend: recommendFor(settings.DefaultGuideline)}
 	progress := func(done int) {
 		if *n > store.ProgressEvery {
 			fmt.Fprintf(e.stderr, "demo: %d of %d procedures (%d%%)\n", done, *n, done*100 / *n)
 		}
 	}
-	count, err := st.InsertCases(ctx, settings, roster, func(emit func(*logbook.Case) error) error {
-		return demo.Generate(opt, emit)
-	}, progress)
+	count, err := workspace.CreateDemo(ctx, st, *n, *seed, progress)
 	cerr := st.Close()
 	if err != nil {
 		if created {
@@ -95,10 +74,6 @@ func cmdDemo(ctx context.Context, e *env, args []string) error {
 	fmt.Fprintf(e.stdout, "created %s: %s, %d procedures (invented data)\n", *db, demo.UnitName, count)
 	return nil
 }
-
-// demoKey is the key the demo uses for its invented hospital numbers, so
-// that the same seed always gives the same pseudonyms.
-func demoKey(seed uint64) []byte { return []byte(fmt.Sprintf("polypledger demo key %d", seed)) }
 
 // removeDB deletes a database file this command created and its journals.
 func removeDB(path string) {
