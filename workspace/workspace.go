@@ -86,13 +86,24 @@ func LoadProfiles() ([]*report.Profile, error) {
 	return report.LoadProfiles(assets.Standards, os.DirFS(filepath.Join(dir, "standards")))
 }
 
-// ErrUnknownStandard is returned (wrapped) by NewAudit when the standard
-// asked for is not among the profiles.
+// ErrUnknownStandard is matched (errors.Is) by the error NewAudit returns
+// when the standard asked for is not among the profiles.
 var ErrUnknownStandard = errors.New("unknown standard")
 
-// ErrUnknownGuideline is returned (wrapped) by Audit.Guideline for a
-// guideline the program does not apply.
+// ErrUnknownGuideline is matched (errors.Is) by the error Audit.Guideline
+// returns for a guideline the program does not apply.
 var ErrUnknownGuideline = errors.New("unknown guideline")
+
+// choiceError is a choice the program does not know; it prints as the
+// underlying message and matches its kind with errors.Is.
+type choiceError struct {
+	kind error
+	err  error
+}
+
+func (e choiceError) Error() string        { return e.err.Error() }
+func (e choiceError) Is(target error) bool { return target == e.kind }
+func (e choiceError) Unwrap() error        { return e.err }
 
 // Audit is what the metrics, report and interval work share: the open
 // database, its unit settings and the chosen standard profile.
@@ -114,7 +125,7 @@ func NewAudit(ctx context.Context, st *store.Store, standard string, profiles []
 	}
 	p, err := report.FindProfile(profiles, standard)
 	if err != nil {
-		return nil, fmt.Errorf("%w: %v", ErrUnknownStandard, err)
+		return nil, choiceError{ErrUnknownStandard, err}
 	}
 	return &Audit{Store: st, Settings: settings, Profile: p}, nil
 }
@@ -130,7 +141,7 @@ func (a *Audit) Guideline(choice string) (report.Guideline, error) {
 	gl, err := report.ParseGuideline(g)
 	if err != nil {
 		if choice != "" {
-			return "", fmt.Errorf("%w: %v", ErrUnknownGuideline, err)
+			return "", choiceError{ErrUnknownGuideline, err}
 		}
 		return report.DefaultGuideline, nil
 	}
