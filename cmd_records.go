@@ -56,7 +56,7 @@ func cmdDemo(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	progress := func(done int) {
-		if *n > store.ProgressEvery {
+		if *n >= 100_000 && done%(*n/10) < store.ProgressEvery {
 			fmt.Fprintf(e.stderr, "demo: %d of %d procedures (%d%%)\n", done, *n, done*100 / *n)
 		}
 	}

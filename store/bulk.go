@@ -5,17 +5,19 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
-	"time"
 
 	"polypledger/logbook"
 )
 
 // InsertCases stores many new cases in one transaction (all or none), with
-// their roster and unit settings: the path the demo unit and bulk loads take.
-// Every case is validated as an import row would be, and every insert is
-// written to the change log. The database must hold no procedures yet.
+// their roster and unit settings: the path the invented demo unit takes.
+// Every case is validated as an import row would be. The database must hold
+// no procedures yet. Because the whole load is one act on an empty
+// logbook, the change log records it as one entry — who, when, source (a
+// description such as the demo seed), how many procedures and the first and
+// last id — rather than one entry per record as imports and edits do.
 // progress, when set, is called every ProgressEvery cases.
-func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.RosterEntry,
+func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.RosterEntry, source string,
 	each func(emit func(*logbook.Case) error) error, progress func(n int)) (int, error) {
 	var n int
 	err := s.inTx(ctx, func(tx *sql.Tx) error {
@@ -57,14 +59,10 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			return err
 		}
 		defer ls.Close()
-		logs, err := tx.PrepareContext(ctx, "INSERT INTO change_log (at, os_user, action, record, old, new) VALUES (?, ?, 'insert', ?, NULL, ?)")
-		if err != nil {
-			return err
-		}
-		defer logs.Close()
-		at := s.now().UTC().Format(time.RFC3339Nano)
 		today := s.today()
-		return each(func(c *logbook.Case) error {
+		var first, last string
+		var lesions int
+		err = each(func(c *logbook.Case) error {
 			if err := ctx.Err(); err != nil {
 				return err
 			}
@@ -89,14 +87,22 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 					return fmt.Errorf("procedure %s lesion %d: %w", c.ID, c.Lesions[i].LesionNo, err)
 				}
 			}
-			if _, err := logs.ExecContext(ctx, at, s.user, "procedure "+c.ID, jsonText(caseJSON(c))); err != nil {
-				return err
+			if first == "" {
+				first = c.ID
 			}
+			last = c.ID
+			lesions += len(c.Lesions)
 			n++
 			if progress != nil && n%ProgressEvery == 0 {
 				progress(n)
 			}
 			return nil
+		})
+		if err != nil {
+			return err
+		}
+		return s.logChange(ctx, tx, "insert", "bulk load", nil, map[string]any{
+			"source": source, "procedures": n, "lesions": lesions, "first_procedure": first, "last_procedure": last,
 		})
 	})
 	if err != nil {

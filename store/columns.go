@@ -1,6 +1,7 @@
 package store
 
 import (
+	"encoding/json"
 	"fmt"
 	"strings"
 	"time"
@@ -244,15 +245,45 @@ func csvRow[T any](cols []column[T], r *T) []string {
 	return out
 }
 
-// asMap returns r's fields by CSV name, the form the change log records.
-func asMap[T any](cols []column[T], r *T) map[string]string {
-	m := make(map[string]string, len(cols))
+// recordJSON is the change-log form of one record.
+func recordJSON[T any](cols []column[T], r *T) json.RawMessage {
+	return appendJSON(make([]byte, 0, 512), cols, r)
+}
+
+// appendJSON appends r's non-empty fields as a JSON object in column
+// order, the form the change log records. Plain printable-ASCII values (all
+// codes, dates and numbers) are written directly; anything else is quoted
+// by encoding/json.
+func appendJSON[T any](b []byte, cols []column[T], r *T) []byte {
+	b = append(b, '{')
+	first := true
 	for _, c := range cols {
-		if v := c.get(r); v != "" {
-			m[c.name] = v
+		v := c.get(r)
+		if v == "" {
+			continue
+		}
+		if !first {
+			b = append(b, ',')
+		}
+		first = false
+		b = append(b, '"')
+		b = append(b, c.name...)
+		b = append(b, '"', ':')
+		b = appendJSONString(b, v)
+	}
+	return append(b, '}')
+}
+
+func appendJSONString(b []byte, v string) []byte {
+	for i := 0; i < len(v); i++ {
+		if c := v[i]; c < 0x20 || c > 0x7e || c == '"' || c == '\\' || c == '<' || c == '>' || c == '&' {
+			q, _ := json.Marshal(v) // a string always encodes
+			return append(b, q...)
 		}
 	}
-	return m
+	b = append(b, '"')
+	b = append(b, v...)
+	return append(b, '"')
 }
 
 // scanStored reads one stored row (as nullable strings, in the order of

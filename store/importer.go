@@ -411,13 +411,13 @@ func (im *importer) procedure(line int, p *logbook.Procedure) error {
 			return err
 		}
 		im.res.Updated++
-		return im.s.logChange(im.ctx, im.tx, "update", "procedure "+p.ID, asMap(procedureColumns, &old), asMap(procedureColumns, p))
+		return im.s.logChange(im.ctx, im.tx, "update", "procedure "+p.ID, recordJSON(procedureColumns, &old), recordJSON(procedureColumns, p))
 	}
 	if err := im.exec(procedureInsertSQL, storedArgs(procedureColumns, p)...); err != nil {
 		return err
 	}
 	im.res.Inserted++
-	return im.s.logChange(im.ctx, im.tx, "insert", "procedure "+p.ID, nil, asMap(procedureColumns, p))
+	return im.s.logChange(im.ctx, im.tx, "insert", "procedure "+p.ID, nil, recordJSON(procedureColumns, p))
 }
 
 // lesion checks and stores one lesions.csv row.
@@ -473,13 +473,13 @@ func (im *importer) lesion(line int, l *logbook.Lesion) error {
 			return err
 		}
 		im.res.Updated++
-		return im.s.logChange(im.ctx, im.tx, "update", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), asMap(lesionStoredColumns, &old), asMap(lesionStoredColumns, l))
+		return im.s.logChange(im.ctx, im.tx, "update", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, l))
 	}
 	if err := im.exec(lesionInsertSQL, storedArgs(lesionStoredColumns, l)...); err != nil {
 		return err
 	}
 	im.res.Inserted++
-	return im.s.logChange(im.ctx, im.tx, "insert", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), nil, asMap(lesionStoredColumns, l))
+	return im.s.logChange(im.ctx, im.tx, "insert", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), nil, recordJSON(lesionStoredColumns, l))
 }
 
 // histology checks and applies one histology.csv row.

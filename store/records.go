@@ -41,8 +41,14 @@ func (s *Store) logChange(ctx context.Context, tx *sql.Tx, action, record string
 // jsonText encodes a change-log value; nil stays NULL. The values are maps
 // of strings and cannot fail to encode.
 func jsonText(v any) any {
-	if v == nil {
+	switch v := v.(type) {
+	case nil:
 		return nil
+	case json.RawMessage:
+		if v == nil {
+			return nil
+		}
+		return string(v)
 	}
 	b, err := json.Marshal(v)
 	if err != nil {
@@ -51,13 +57,20 @@ func jsonText(v any) any {
 	return string(b)
 }
 
-// caseJSON is the change-log form of a case.
-func caseJSON(c *logbook.Case) map[string]any {
-	ls := make([]map[string]string, len(c.Lesions))
+// caseJSON is the change-log form of a case:
+// {"procedure":{…},"lesions":[{…},…]} with fields in column order.
+func caseJSON(c *logbook.Case) json.RawMessage {
+	b := make([]byte, 0, 1024)
+	b = append(b, `{"procedure":`...)
+	b = appendJSON(b, procedureColumns, &c.Procedure)
+	b = append(b, `,"lesions":[`...)
 	for i := range c.Lesions {
-		ls[i] = asMap(lesionStoredColumns, &c.Lesions[i])
+		if i > 0 {
+			b = append(b, ',')
+		}
+		b = appendJSON(b, lesionStoredColumns, &c.Lesions[i])
 	}
-	return map[string]any{"procedure": asMap(procedureColumns, &c.Procedure), "lesions": ls}
+	return append(b, "]}"...)
 }
 
 // ChangeLogEntry is one row of the change log.
@@ -511,7 +524,7 @@ func (s *Store) applyHistology(ctx context.Context, tx *sql.Tx, h logbook.Histol
 		return nil, err
 	}
 	return nil, s.logChange(ctx, tx, "update", fmt.Sprintf("lesion %s#%d", h.ProcedureID, h.LesionNo),
-		asMap(lesionStoredColumns, &old), asMap(lesionStoredColumns, &updated))
+		recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, &updated))
 }
 
 func nullIfEmpty(s string) any {

@@ -71,7 +71,7 @@ func CreateDemo(ctx context.Context, st *store.Store, n int, seed uint64, progre
 		roster = append(roster, s.Entry)
 	}
 	opt := demo.Options{Procedures: n, Seed: seed, Key: DemoKey(seed), Recommend: RecommendFor(settings.DefaultGuideline)}
-	return st.InsertCases(ctx, settings, roster, func(emit func(*logbook.Case) error) error {
+	return st.InsertCases(ctx, settings, roster, fmt.Sprintf("invented demo unit, seed %d", seed), func(emit func(*logbook.Case) error) error {
 		return demo.Generate(opt, emit)
 	}, progress)
 }
