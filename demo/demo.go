@@ -205,7 +205,7 @@ func (g *gen) procedure(c *logbook.Case, i int, date time.Time, progress float64
 		}
 	}
 	bbps := func() int {
-		return []int{0, 1, 2, 3}[g.pick(0.02, 0.08, 0.4, 0.5)]
+		return []int{0, 1, 2, 3}[g.pick(0.01, 0.04, 0.35, 0.6)]
 	}
 	if g.chance(0.97) {
 		p.BBPSRight, p.BBPSTransverse, p.BBPSLeft = bbps(), bbps(), bbps()
