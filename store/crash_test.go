@@ -31,7 +31,7 @@ func copyFile(t testing.TB, src, dst string) {
 }
 
 // killPoint says when to kill an import: after a delay from its start, or
-// as soon as it has printed the progress line for a number of rows.
+// a delay after it has printed the progress line for a number of rows.
 type killPoint struct {
 	name      string
 	after     time.Duration
@@ -81,8 +81,12 @@ func TestImportKilledLeavesNothingOrEverything(t *testing.T) {
 		{name: "150ms", after: 150 * time.Millisecond},
 		{name: "400ms", after: 400 * time.Millisecond},
 	}
-	points = append(points, killPoint{name: fmt.Sprintf("at %d rows", ProgressEvery), afterRows: ProgressEvery})
-	for _, pct := range []int{20, 50, 80, 95, 110} {
+	// From the progress line at ProgressEvery rows the last rows are read,
+	// then the commit and the checkpoint follow: kill at steps through them.
+	for _, d := range []time.Duration{0, 100 * time.Millisecond, 250 * time.Millisecond, 500 * time.Millisecond, time.Second} {
+		points = append(points, killPoint{name: fmt.Sprintf("%s after %d rows", d, ProgressEvery), afterRows: ProgressEvery, after: d})
+	}
+	for _, pct := range []int{50, 90, 110} {
 		points = append(points, killPoint{name: fmt.Sprintf("%d%% of the import time", pct), after: took * time.Duration(pct) / 100})
 	}
 
@@ -162,9 +166,8 @@ func importAndKill(t *testing.T, home, db, csvPath string, kp killPoint) bool {
 				break wait
 			}
 		}
-	} else {
-		time.Sleep(kp.after)
 	}
+	time.Sleep(kp.after)
 	cmd.Process.Signal(syscall.SIGKILL) // may have finished already: then this fails harmlessly
 	for range progress {
 	}

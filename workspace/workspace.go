@@ -22,9 +22,19 @@ import (
 
 // OpenStore opens the database at path; withKey loads (or creates) the unit
 // key from the config folder so that hospital numbers typed or imported can
-// be pseudonymised.
+// be pseudonymised. The environment variable POLYPLEDGER_BUSY_TIMEOUT (a
+// duration such as "250ms" or "30s") sets how long a writer waits for
+// another's lock before giving up with store.ErrBusy; the reliability tests
+// use it.
 func OpenStore(ctx context.Context, path string, withKey bool) (*store.Store, error) {
 	opt := store.Options{}
+	if v := os.Getenv("POLYPLEDGER_BUSY_TIMEOUT"); v != "" {
+		d, err := time.ParseDuration(v)
+		if err != nil || d <= 0 {
+			return nil, fmt.Errorf("POLYPLEDGER_BUSY_TIMEOUT %q is not a duration such as 30s", v)
+		}
+		opt.BusyTimeout = d
+	}
 	if withKey {
 		key, err := UnitKey()
 		if err != nil {
