@@ -44,9 +44,16 @@ var cli struct {
 // its path. It lives at a fixed place under the temporary folder, rebuilt
 // (to a temporary name, then renamed) on every run, so that it is never stale
 // and never accumulates.
+//
+// POLYPLEDGER_TEST_BINARY, when set, names a binary to use instead (for
+// example one built from a clean checkout while the tree is mid-edit).
 func cliBinary(t testing.TB) string {
 	t.Helper()
 	cli.once.Do(func() {
+		if p := os.Getenv("POLYPLEDGER_TEST_BINARY"); p != "" {
+			cli.path = p
+			return
+		}
 		goCmd, err := exec.LookPath("go")
 		if err != nil {
 			goCmd = filepath.Join(runtime.GOROOT(), "bin", "go")
@@ -292,4 +299,254 @@ func rawSQL(t testing.TB, path string) *sql.DB {
 		t.Fatal(err)
 	}
 	return db
+}
+
+// --- damaged or foreign databases ---
+
+// dirListing returns the names and sizes of the files in dir, to show that
+// a refused open created nothing beside the database.
+func dirListing(t testing.TB, dir string) string {
+	t.Helper()
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b strings.Builder
+	for _, e := range entries {
+		fi, err := e.Info()
+		if err != nil {
+			t.Fatal(err)
+		}
+		fmt.Fprintf(&b, "%s %d\n", e.Name(), fi.Size())
+	}
+	return b.String()
+}
+
+// populatedDB makes a polypledger database holding n invented procedures,
+// closed (its write-ahead log folded in).
+func populatedDB(t testing.TB, path string, n int) []logbook.Case {
+	t.Helper()
+	cases := inventedCases(t, n, "D", 21)
+	s := openTest(t, path, Options{})
+	if _, err := s.Import(context.Background(), Procedures, "p.csv", bytes.NewReader(proceduresCSV(t, cases)), ImportOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Close(); err != nil {
+		t.Fatal(err)
+	}
+	return cases
+}
+
+// TestForeignOrDamagedDatabaseLeftUntouched offers the program files that
+// are not sound polypledger databases. Opening each — in-process for
+// writing and for reading, and through the import and check commands —
+// must fail with a message saying what the file is, and leave it (and its
+// folder) byte-for-byte as it was.
+func TestForeignOrDamagedDatabaseLeftUntouched(t *testing.T) {
+	cases := []struct {
+		name string
+		make func(t *testing.T, path string)
+		want string // in every message
+	}{
+		{"truncated to a few whole pages", func(t *testing.T, path string) {
+			populatedDB(t, path, 300)
+			if err := os.Truncate(path, 4*4096); err != nil {
+				t.Fatal(err)
+			}
+		}, "damaged or truncated"},
+		{"truncated mid-page", func(t *testing.T, path string) {
+			populatedDB(t, path, 300)
+			fi, _ := os.Stat(path)
+			if err := os.Truncate(path, fi.Size()/2+123); err != nil {
+				t.Fatal(err)
+			}
+		}, "damaged or truncated"},
+		{"cut inside the header", func(t *testing.T, path string) {
+			populatedDB(t, path, 10)
+			if err := os.Truncate(path, 60); err != nil {
+				t.Fatal(err)
+			}
+		}, "not a polypledger database"},
+		{"a CSV file given as the database", func(t *testing.T, path string) {
+			os.WriteFile(path, proceduresCSV(t, inventedCases(t, 5, "X", 1)), 0o600)
+		}, "not a polypledger database"},
+		{"random bytes", func(t *testing.T, path string) {
+			b := make([]byte, 8192)
+			for i := range b {
+				b[i] = byte(i*7919 + i/13)
+			}
+			os.WriteFile(path, b, 0o600)
+		}, "not a polypledger database"},
+		{"SQLite file of another program", func(t *testing.T, path string) {
+			db := rawSQL(t, path)
+			defer db.Close()
+			if _, err := db.Exec("CREATE TABLE notes (id INTEGER PRIMARY KEY, body TEXT); INSERT INTO notes (body) VALUES ('shopping')"); err != nil {
+				t.Fatal(err)
+			}
+		}, "another program"},
+		{"SQLite file with another program's application id", func(t *testing.T, path string) {
+			db := rawSQL(t, path)
+			defer db.Close()
+			if _, err := db.Exec("PRAGMA application_id = 1234; PRAGMA user_version = 1; CREATE TABLE procedures (id TEXT)"); err != nil {
+				t.Fatal(err)
+			}
+		}, "another program"},
+		{"SQLite file with a schema version and no application id", func(t *testing.T, path string) {
+			db := rawSQL(t, path)
+			defer db.Close()
+			if _, err := db.Exec("PRAGMA user_version = 1; CREATE TABLE procedures (id TEXT)"); err != nil {
+				t.Fatal(err)
+			}
+		}, "another program"},
+		{"written by a newer schema", func(t *testing.T, path string) {
+			populatedDB(t, path, 10)
+			db := rawSQL(t, path)
+			defer db.Close()
+			if _, err := db.Exec(fmt.Sprintf("PRAGMA user_version = %d", SchemaVersion+1)); err != nil {
+				t.Fatal(err)
+			}
+			if _, err := db.Exec("PRAGMA wal_checkpoint(TRUNCATE)"); err != nil {
+				t.Fatal(err)
+			}
+		}, "newer version of polypledger"},
+	}
+	var csvPath, home string
+	if !testing.Short() {
+		home = t.TempDir()
+		csvPath = writeFile(t, home, "p.csv", proceduresCSV(t, inventedCases(t, 5, "I", 2)))
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			dir := t.TempDir()
+			path := filepath.Join(dir, "unit.db")
+			tc.make(t, path)
+			// Drop journals the builder left, so the file stands alone.
+			os.Remove(path + "-wal")
+			os.Remove(path + "-shm")
+			hash, listing := hashFile(t, path), dirListing(t, dir)
+			var msgs []string
+			for _, ro := range []bool{false, true} {
+				s, err := Open(context.Background(), path, Options{ReadOnly: ro, Key: testKey})
+				if err == nil {
+					s.Close()
+					t.Fatalf("Open (read-only %v) accepted it", ro)
+				}
+				msgs = append(msgs, err.Error())
+			}
+			if !testing.Short() {
+				for _, args := range [][]string{
+					{"import", "--db", path, "--kind", "procedures", csvPath},
+					{"check", "--db", path},
+				} {
+					r := runCLI(t, home, nil, args...)
+					if r.code != exitBadInput {
+						t.Errorf("%s: exit %d, want %d (%s)", args[0], r.code, exitBadInput, r.stderr)
+					}
+					msgs = append(msgs, r.stderr)
+				}
+			}
+			for _, m := range msgs {
+				if !strings.Contains(m, tc.want) {
+					t.Errorf("message %q does not say %q", m, tc.want)
+				}
+			}
+			if h := hashFile(t, path); h != hash {
+				t.Errorf("the file changed")
+			}
+			if l := dirListing(t, dir); l != listing {
+				t.Errorf("the folder changed:\nbefore:\n%safter:\n%s", listing, l)
+			}
+		})
+	}
+}
+
+// mountTmpfs mounts a tmpfs of the given size on a new folder for the test
+// (unmounted at its end), or skips the test where mounting is not allowed.
+func mountTmpfs(t *testing.T, size string) string {
+	t.Helper()
+	dir := filepath.Join(t.TempDir(), "mnt")
+	if err := os.Mkdir(dir, 0o700); err != nil {
+		t.Fatal(err)
+	}
+	if err := syscall.Mount("tmpfs", dir, "tmpfs", 0, "size="+size+",mode=0700"); err != nil {
+		t.Skipf("cannot mount a %s tmpfs here (needs root and mount rights): %v", size, err)
+	}
+	t.Cleanup(func() {
+		if err := syscall.Unmount(dir, 0); err != nil {
+			t.Errorf("unmount %s: %v", dir, err)
+		}
+	})
+	return dir
+}
+
+// TestReadOnlyLocation imports into a sound database that lies on a
+// read-only file system: a clear refusal, and the file unchanged.
+func TestReadOnlyLocation(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds and runs the binary; skipped with -short")
+	}
+	work := t.TempDir()
+	src := filepath.Join(work, "unit.db")
+	populatedDB(t, src, 50)
+	mnt := mountTmpfs(t, "4m")
+	path := filepath.Join(mnt, "unit.db")
+	copyFile(t, src, path)
+	if err := syscall.Mount("", mnt, "", syscall.MS_REMOUNT|syscall.MS_RDONLY, ""); err != nil {
+		t.Skipf("cannot remount the tmpfs read-only: %v", err)
+	}
+	hash := hashFile(t, path)
+	csvPath := writeFile(t, work, "more.csv", proceduresCSV(t, inventedCases(t, 20, "R", 4)))
+	r := runCLI(t, work, nil, "import", "--db", path, "--kind", "procedures", csvPath)
+	if r.code != exitBadInput {
+		t.Fatalf("import into a read-only location: exit %d, want %d (%s)", r.code, exitBadInput, r.stderr)
+	}
+	t.Logf("the import said: %s", r.stderr)
+	if !strings.Contains(r.stderr, "cannot be written") {
+		t.Errorf("message does not say the database cannot be written: %q", r.stderr)
+	}
+	if h := hashFile(t, path); h != hash {
+		t.Errorf("the database file changed")
+	}
+}
+
+// TestDiskFull imports a file too large for the space left: the import
+// fails saying the disk is full, the database file is unchanged and, once
+// space is freed, still holds exactly what it held and passes Check.
+func TestDiskFull(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds and runs the binary; skipped with -short")
+	}
+	mnt := mountTmpfs(t, "3m")
+	work := t.TempDir()
+	path := filepath.Join(mnt, "unit.db")
+	populatedDB(t, path, 100)
+	before := countsOf(t, path)
+	hash := hashFile(t, path)
+	// Leave about 256 KiB free.
+	var st syscall.Statfs_t
+	if err := syscall.Statfs(mnt, &st); err != nil {
+		t.Fatal(err)
+	}
+	free := int64(st.Bavail) * st.Bsize
+	filler := filepath.Join(mnt, "filler")
+	if err := os.WriteFile(filler, make([]byte, free-256<<10), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	csvPath := writeFile(t, work, "big.csv", proceduresCSV(t, inventedCases(t, 3000, "F", 8)))
+	r := runCLI(t, work, nil, "import", "--db", path, "--kind", "procedures", csvPath)
+	if r.code != exitBadInput {
+		t.Fatalf("import onto a full disk: exit %d, want %d (%s)", r.code, exitBadInput, r.stderr)
+	}
+	t.Logf("the import said: %s", r.stderr)
+	if !strings.Contains(r.stderr, "disk is full") || !strings.Contains(r.stderr, "nothing was stored") {
+		t.Errorf("message does not say the disk is full and nothing was stored: %q", r.stderr)
+	}
+	if h := hashFile(t, path); h != hash {
+		t.Errorf("the database file changed")
+	}
+	os.Remove(filler)
+	if got := countsOf(t, path); got != before {
+		t.Errorf("after the failed import: %+v, was %+v", got, before)
+	}
+	mustCheck(t, path)
 }
