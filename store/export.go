@@ -74,9 +74,9 @@ func writeAll[T any](cw *csv.Writer, cols []column[T], each func(emit func(*T) e
 }
 
 // SafeCell neutralises a cell that a spreadsheet would run as a formula: one
-// beginning with "=", "+", "-" (unless the whole cell is a number), "@", a
-// tab or a carriage return gets a leading apostrophe, which spreadsheets show
-// as text. Every other cell is returned unchanged.
+// beginning with "=", "+", "-" (unless the whole cell is a decimal number),
+// "@", a tab or a carriage return gets a leading apostrophe, which
+// spreadsheets show as text. Every other cell is returned unchanged.
 func SafeCell(v string) string {
 	if v == "" {
 		return v
@@ -85,10 +85,27 @@ func SafeCell(v string) string {
 	case '=', '+', '@', '\t', '\r':
 		return "'" + v
 	case '-':
-		if _, err := strconv.ParseFloat(v, 64); err == nil {
+		if plainNumber(v) {
 			return v
 		}
 		return "'" + v
 	}
 	return v
+}
+
+// plainNumber reports whether v is a decimal number as a spreadsheet reads
+// one ("-12", "-2.5", "-1e5"); strconv also accepts "-inf", "-nan" and hex
+// floats, which a spreadsheet would take as a formula.
+func plainNumber(v string) bool {
+	if _, err := strconv.ParseFloat(v, 64); err != nil {
+		return false
+	}
+	for i := 0; i < len(v); i++ {
+		switch c := v[i]; {
+		case c >= '0' && c <= '9', c == '.', c == 'e', c == 'E', c == '+', c == '-':
+		default:
+			return false
+		}
+	}
+	return true
 }

@@ -550,3 +550,122 @@ func TestDiskFull(t *testing.T) {
 	}
 	mustCheck(t, path)
 }
+
+// --- safe exports ---
+
+// TestSafeCell lists the cells a spreadsheet would run as formulas and the
+// ones it must leave alone (the characters are those of the OWASP "CSV
+// injection" guidance; common practice).
+func TestSafeCell(t *testing.T) {
+	for _, tc := range []struct{ in, want string }{
+		{"", ""},
+		{"E01", "E01"},
+		{"=1+1", "'=1+1"},
+		{`=HYPERLINK("http://example.invalid","open")`, `'=HYPERLINK("http://example.invalid","open")`},
+		{"+SUM(1)", "'+SUM(1)"},
+		{"@SUM(1)", "'@SUM(1)"},
+		{"\t=1", "'\t=1"},
+		{"\r=1", "'\r=1"},
+		{"-", "'-"},
+		{"-2+3", "'-2+3"},
+		{"-A1", "'-A1"},
+		{"-12", "-12"},
+		{"-2.5", "-2.5"},
+		{"-1e5", "-1e5"},
+		{"-inf", "'-inf"},
+		{"-NaN", "'-NaN"},
+		{"-0x1p3", "'-0x1p3"},
+		{"a=b", "a=b"},
+		{"'=1", "'=1"},
+	} {
+		if got := SafeCell(tc.in); got != tc.want {
+			t.Errorf("SafeCell(%q) = %q, want %q", tc.in, got, tc.want)
+		}
+	}
+}
+
+// formulaLike reports whether a cell would be read as a formula.
+func formulaLike(cell string) bool {
+	return cell != "" && SafeCell(cell) != cell
+}
+
+// TestExportNeutralisesHostileValues imports identifiers that validation
+// lets through but a spreadsheet would run ("=HYPERLINK(…)", "@SUM(1)",
+// "+…", "-2+3"), and ones with a leading tab or carriage return, then
+// exports every kind through the command: no exported cell may start a
+// formula, and each hostile value comes out behind an apostrophe.
+func TestExportNeutralisesHostileValues(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds and runs the binary; skipped with -short")
+	}
+	dir := t.TempDir()
+	db := filepath.Join(dir, "unit.db")
+	cases := inventedCases(t, 40, "S", 13)
+	hostileIDs := []string{`=HYPERLINK("http://example.invalid","open")`, "=1+1", "-2+3", "+SUM(1)", "@SUM(1)", "\t=3+3", "\r=4+4", "-inf"}
+	for i, id := range hostileIDs {
+		cases[i].ID = id
+	}
+	cases[len(hostileIDs)].ID = "-12" // a number: stays as it is
+	cases[10].OperatorID = "@SUM(2)"
+	cases[11].OperatorID = "=cmd|' /C calc'!A0"
+	for i := range cases {
+		for j := range cases[i].Lesions {
+			cases[i].Lesions[j].ProcedureID = cases[i].ID
+		}
+	}
+	pCSV := writeFile(t, dir, "p.csv", proceduresCSV(t, cases))
+	lCSV := writeFile(t, dir, "l.csv", lesionsCSV(t, cases))
+	for _, f := range [][2]string{{"procedures", pCSV}, {"lesions", lCSV}} {
+		if r := runCLI(t, dir, nil, "import", "--db", db, "--kind", f[0], f[1]); r.code != 0 {
+			t.Fatalf("import %s: exit %d: %s", f[0], r.code, r.stderr)
+		}
+	}
+	stored := map[string]bool{} // every stored id, operator and trainee
+	s := openTest(t, db, Options{ReadOnly: true})
+	s.ForEachCase(context.Background(), CaseFilter{}, func(c *logbook.Case) error {
+		stored[c.ID], stored[c.OperatorID], stored[c.TraineeID] = true, true, true
+		return nil
+	})
+	s.Close()
+	var hostileStored int
+	for v := range stored {
+		if formulaLike(v) {
+			hostileStored++
+		}
+	}
+	if hostileStored < 8 {
+		t.Fatalf("only %d formula-like values were stored; the test needs validation to let them through", hostileStored)
+	}
+	for _, kind := range []string{"procedures", "lesions", "histology"} {
+		out := filepath.Join(dir, kind+"-export.csv")
+		if r := runCLI(t, dir, nil, "export", "--db", db, "--kind", kind, "--out", out); r.code != 0 {
+			t.Fatalf("export %s: exit %d: %s", kind, r.code, r.stderr)
+		}
+		f, err := os.Open(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rows, err := csv.NewReader(f).ReadAll()
+		f.Close()
+		if err != nil {
+			t.Fatalf("export %s is not valid CSV: %v", kind, err)
+		}
+		neutralised := 0
+		for li, row := range rows {
+			for _, cell := range row {
+				if formulaLike(cell) {
+					t.Errorf("%s line %d: cell %q would run as a formula", kind, li+1, cell)
+				}
+				if v, ok := strings.CutPrefix(cell, "'"); ok && stored[v] && formulaLike(v) {
+					neutralised++
+				}
+				if cell == "-12" {
+					neutralised++ // the numeric id is exported as it is
+				}
+			}
+		}
+		if kind == "procedures" && neutralised < hostileStored+1 {
+			t.Errorf("procedures export: %d hostile or numeric values found, want at least %d", neutralised, hostileStored+1)
+		}
+	}
+}
