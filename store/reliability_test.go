@@ -21,6 +21,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"runtime"
 	"strings"
 	"sync"
@@ -102,7 +103,9 @@ func cliCommand(t testing.TB, home string, extraEnv []string, args ...string) *e
 	cmd := exec.Command(cliBinary(t), args...)
 	env := []string{"POLYPLEDGER_HOME=" + home, "HOME=" + home, "PATH=" + os.Getenv("PATH")}
 	cmd.Env = append(env, extraEnv...)
-	cmd.Dir = home
+	if fi, err := os.Stat(home); err == nil && fi.IsDir() {
+		cmd.Dir = home
+	}
 	return cmd
 }
 
@@ -668,4 +671,308 @@ func TestExportNeutralisesHostileValues(t *testing.T) {
 			t.Errorf("procedures export: %d hostile or numeric values found, want at least %d", neutralised, hostileStored+1)
 		}
 	}
+}
+
+// --- privacy ---
+
+// hospitalNumberPattern matches the invented hospital numbers in any bytes.
+var hospitalNumberPattern = regexp.MustCompile(`RXH[0-9]{7}`)
+
+// noHospitalNumbers fails if data holds any invented hospital number.
+func noHospitalNumbers(t testing.TB, what string, data []byte) {
+	t.Helper()
+	if m := hospitalNumberPattern.Find(data); m != nil {
+		t.Errorf("%s holds the hospital number %s in clear", what, m)
+	}
+}
+
+// readOrEmpty reads a file that may not exist.
+func readOrEmpty(t testing.TB, path string) []byte {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil && !errors.Is(err, os.ErrNotExist) {
+		t.Fatal(err)
+	}
+	return b
+}
+
+// TestNoHospitalNumberAtRest imports procedures whose patient_ref is a
+// recognisable hospital number and reads the raw bytes of the database, its
+// write-ahead log while the import is still in it, and a backup: none holds
+// a hospital number in clear.
+func TestNoHospitalNumberAtRest(t *testing.T) {
+	dir := t.TempDir()
+	db := filepath.Join(dir, "unit.db")
+	data := proceduresCSV(t, inventedCases(t, 400, "H", 17))
+	if hospitalNumberPattern.Find(data) == nil {
+		t.Fatal("the input holds no hospital number: the test would prove nothing")
+	}
+	s := openTest(t, db, Options{})
+	if _, err := s.Import(context.Background(), Procedures, "p.csv", bytes.NewReader(data), ImportOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	wal := readOrEmpty(t, db+"-wal")
+	if len(wal) == 0 {
+		t.Fatal("the write-ahead log is empty while the store is open: the WAL check would prove nothing")
+	}
+	noHospitalNumbers(t, "the write-ahead log", wal)
+	noHospitalNumbers(t, "the database file (store open)", readOrEmpty(t, db))
+	backup := filepath.Join(dir, "backup.db")
+	if err := s.Backup(context.Background(), backup); err != nil {
+		t.Fatal(err)
+	}
+	noHospitalNumbers(t, "the backup", readOrEmpty(t, backup))
+	// A refused import (a bad age on one row) keeps no trace either, not even
+	// in its message.
+	lines := bytes.Split(proceduresCSV(t, inventedCases(t, 3, "Z", 1)), []byte("\n"))
+	fields := bytes.Split(lines[2], []byte(","))
+	for i, c := range procedureColumns {
+		if c.name == "age" {
+			fields[i] = []byte("999")
+		}
+	}
+	lines[2] = bytes.Join(fields, []byte(","))
+	_, err := s.Import(context.Background(), Procedures, "bad.csv", bytes.NewReader(bytes.Join(lines, []byte("\n"))), ImportOptions{})
+	if err == nil {
+		t.Fatal("a row with age 999 was accepted")
+	}
+	noHospitalNumbers(t, "the refusal message", []byte(err.Error()))
+	if err := s.Close(); err != nil {
+		t.Fatal(err)
+	}
+	noHospitalNumbers(t, "the database file (closed)", readOrEmpty(t, db))
+	noHospitalNumbers(t, "the write-ahead log (closed)", readOrEmpty(t, db+"-wal"))
+}
+
+// fullPseudonym matches a stored pseudonym (64 hex digits).
+var fullPseudonym = regexp.MustCompile(`[0-9a-f]{64}`)
+
+// TestOutputsCarryPseudonymsOnly imports through the command into a fresh
+// configuration folder and checks what leaves the program: the export
+// carries "psn:" pseudonyms in patient_ref, and the interval and metrics
+// outputs carry neither hospital numbers nor full pseudonyms. The unit key
+// is created readable by its owner only (0600) in a folder only its owner
+// can enter (0700); the database, backup and export files are 0600.
+func TestOutputsCarryPseudonymsOnly(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds and runs the binary; skipped with -short")
+	}
+	work := t.TempDir()
+	home := filepath.Join(work, "config", "polypledger") // does not exist yet
+	db := filepath.Join(work, "unit.db")
+	cases := inventedCases(t, 300, "O", 19)
+	pCSV := writeFile(t, work, "p.csv", proceduresCSV(t, cases))
+	lCSV := writeFile(t, work, "l.csv", lesionsCSV(t, cases))
+	for _, f := range [][2]string{{"procedures", pCSV}, {"lesions", lCSV}} {
+		if r := runCLI(t, home, nil, "import", "--db", db, "--kind", f[0], f[1]); r.code != 0 {
+			t.Fatalf("import %s: exit %d: %s", f[0], r.code, r.stderr)
+		}
+	}
+	for _, m := range []struct {
+		path string
+		mode os.FileMode
+	}{
+		{home, 0o700 | os.ModeDir},
+		{filepath.Join(home, KeyFileName), 0o600},
+		{db, 0o600},
+	} {
+		fi, err := os.Stat(m.path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if fi.Mode() != m.mode {
+			t.Errorf("%s has mode %s, want %s", m.path, fi.Mode(), m.mode)
+		}
+	}
+
+	exported := filepath.Join(work, "export.csv")
+	if r := runCLI(t, home, nil, "export", "--db", db, "--kind", "procedures", "--out", exported); r.code != 0 {
+		t.Fatalf("export: exit %d: %s", r.code, r.stderr)
+	}
+	ex := readOrEmpty(t, exported)
+	noHospitalNumbers(t, "the export", ex)
+	rows, err := csv.NewReader(bytes.NewReader(ex)).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	ref := -1
+	for i, name := range rows[0] {
+		if name == "patient_ref" {
+			ref = i
+		}
+	}
+	for _, row := range rows[1:] {
+		if v := row[ref]; !strings.HasPrefix(v, "psn:") || !logbook.IsPatientKey(strings.TrimPrefix(v, "psn:")) {
+			t.Errorf("exported patient_ref %q is not a pseudonym", v)
+		}
+	}
+	backup := filepath.Join(work, "backup.db")
+	if r := runCLI(t, home, nil, "backup", "--db", db, "--out", backup); r.code != 0 {
+		t.Fatalf("backup: exit %d: %s", r.code, r.stderr)
+	}
+	for _, p := range []string{exported, backup} {
+		if fi, err := os.Stat(p); err != nil || fi.Mode() != 0o600 {
+			t.Errorf("%s: mode %v (%v), want 0600", p, fi.Mode(), err)
+		}
+	}
+	noHospitalNumbers(t, "the backup", readOrEmpty(t, backup))
+
+	for _, args := range [][]string{
+		{"interval", "--db", db, "--format", "json"},
+		{"interval", "--db", db, "--format", "text"},
+		{"metrics", "--db", db, "--from", "2020-01-01", "--to", "2025-12-31", "--format", "json"},
+		{"metrics", "--db", db, "--from", "2020-01-01", "--to", "2025-12-31", "--format", "table"},
+	} {
+		r := runCLI(t, home, nil, args...)
+		if r.code != 0 {
+			t.Fatalf("%v: exit %d: %s", args, r.code, r.stderr)
+		}
+		if len(r.stdout) < 100 {
+			t.Fatalf("%v printed almost nothing: %q", args, r.stdout)
+		}
+		out := []byte(r.stdout + r.stderr)
+		noHospitalNumbers(t, args[0]+" "+args[len(args)-1], out)
+		if m := fullPseudonym.Find(out); m != nil {
+			t.Errorf("%v prints a full pseudonym %s; screens and reports show short codes only", args, m)
+		}
+	}
+}
+
+// TestUnitKeyFileModes creates the unit key in a folder that does not exist
+// yet: 0600 for the key, 0700 for the folder; the same key comes back on
+// the next load, and a damaged key file is refused, not replaced.
+func TestUnitKeyFileModes(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "a", "polypledger")
+	key, err := LoadOrCreateKey(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(key) != 32 {
+		t.Errorf("key of %d bytes, want 32", len(key))
+	}
+	for _, m := range []struct {
+		path string
+		mode os.FileMode
+	}{{dir, 0o700 | os.ModeDir}, {filepath.Join(dir, KeyFileName), 0o600}} {
+		fi, err := os.Stat(m.path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if fi.Mode() != m.mode {
+			t.Errorf("%s has mode %s, want %s", m.path, fi.Mode(), m.mode)
+		}
+	}
+	again, err := LoadOrCreateKey(dir)
+	if err != nil || !bytes.Equal(again, key) {
+		t.Fatalf("second load gave another key (%v)", err)
+	}
+	path := filepath.Join(dir, KeyFileName)
+	os.WriteFile(path, []byte("not hex at all\n"), 0o600)
+	damaged := hashFile(t, path)
+	if _, err := LoadOrCreateKey(dir); err == nil || !strings.Contains(err.Error(), "damaged") {
+		t.Errorf("a damaged key file: got %v, want a refusal saying it is damaged", err)
+	}
+	if hashFile(t, path) != damaged {
+		t.Errorf("a damaged key file was overwritten; it must be restored from its backup instead")
+	}
+}
+
+// --- backups ---
+
+// TestBackupWhileAnotherProcessWrites takes backups with the command while
+// another process imports a large file: every backup passes Check and holds
+// every row committed before it (the first file's, and the second's once
+// that import has committed) and never part of the import. Restoring — with
+// nothing holding the database open, remove its -wal and -shm files and
+// copy the backup over it — gives back exactly the backup's records, and
+// the restored database takes new imports.
+func TestBackupWhileAnotherProcessWrites(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds and runs the binary; skipped with -short")
+	}
+	dir := t.TempDir()
+	home := filepath.Join(dir, "home")
+	os.Mkdir(home, 0o700)
+	db := filepath.Join(dir, "unit.db")
+	const first = 500
+	populatedDB(t, db, first)
+	bigCases := inventedCases(t, crashRows, "Q", 23)
+	big := writeFile(t, dir, "big.csv", proceduresCSV(t, bigCases))
+
+	beforeImport := filepath.Join(dir, "before.db")
+	if r := runCLI(t, home, nil, "backup", "--db", db, "--out", beforeImport); r.code != 0 {
+		t.Fatalf("backup: exit %d: %s", r.code, r.stderr)
+	}
+
+	imp := cliCommand(t, home, []string{"POLYPLEDGER_BUSY_TIMEOUT=2m"}, "import", "--db", db, "--kind", "procedures", big)
+	var impErr bytes.Buffer
+	imp.Stderr = &impErr
+	if err := imp.Start(); err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- imp.Wait() }()
+	var during []string
+	running := true
+	for i := 0; running && i < 200; i++ {
+		select {
+		case err := <-done:
+			running = false
+			if err != nil {
+				t.Fatalf("the import failed: %v: %s", err, impErr.String())
+			}
+			continue
+		case <-time.After(150 * time.Millisecond):
+		}
+		out := filepath.Join(dir, fmt.Sprintf("during%03d.db", i))
+		if r := runCLI(t, home, nil, "backup", "--db", db, "--out", out); r.code != 0 {
+			t.Fatalf("backup while importing: exit %d: %s", r.code, r.stderr)
+		}
+		during = append(during, out)
+	}
+	if running {
+		if err := <-done; err != nil {
+			t.Fatalf("the import failed: %v: %s", err, impErr.String())
+		}
+	}
+	if len(during) == 0 {
+		t.Fatal("the import finished before any backup was taken during it")
+	}
+	after := filepath.Join(dir, "after.db")
+	if r := runCLI(t, home, nil, "backup", "--db", db, "--out", after); r.code != 0 {
+		t.Fatalf("backup: exit %d: %s", r.code, r.stderr)
+	}
+	for _, b := range append(append([]string{beforeImport}, during...), after) {
+		n := countsOf(t, b).procedures
+		t.Logf("%s: %d procedures", filepath.Base(b), n)
+		if n != first && n != first+crashRows {
+			t.Errorf("%s holds %d procedures: not %d (before the import committed) nor %d (after)", filepath.Base(b), n, first, first+crashRows)
+		}
+		mustCheck(t, b)
+	}
+	if n := countsOf(t, after).procedures; n != first+crashRows {
+		t.Errorf("the backup after the import holds %d procedures, want %d", n, first+crashRows)
+	}
+	if n := countsOf(t, beforeImport).procedures; n != first {
+		t.Errorf("the backup before the import holds %d procedures, want %d", n, first)
+	}
+
+	// Restore the backup taken before the import.
+	for _, suffix := range []string{"-wal", "-shm"} {
+		os.Remove(db + suffix)
+	}
+	copyFile(t, beforeImport, db)
+	if r := runCLI(t, home, nil, "check", "--db", db); r.code != 0 {
+		t.Fatalf("check after restoring: exit %d: %s%s", r.code, r.stdout, r.stderr)
+	}
+	if got, want := countsOf(t, db), countsOf(t, beforeImport); got != want {
+		t.Fatalf("restored database %+v, backup %+v", got, want)
+	}
+	if r := runCLI(t, home, nil, "import", "--db", db, "--kind", "procedures", big); r.code != 0 {
+		t.Fatalf("import into the restored database: exit %d: %s", r.code, r.stderr)
+	}
+	if n := countsOf(t, db).procedures; n != first+crashRows {
+		t.Errorf("restored database after the import: %d procedures, want %d", n, first+crashRows)
+	}
+	mustCheck(t, db)
 }
