@@ -332,7 +332,6 @@ func importRows[T any](im *importer, cv *csv.Reader, cr *countingReader, cols []
 		if err == io.EOF {
 			return nil
 		}
-		line, _ := cv.FieldPos(0)
 		if err != nil {
 			var pe *csv.ParseError
 			if errors.As(err, &pe) {
@@ -344,6 +343,9 @@ func importRows[T any](im *importer, cv *csv.Reader, cr *countingReader, cols []
 			}
 			return err
 		}
+		// Only a record read without error has field positions; asking
+		// after a parse error panics.
+		line, _ := cv.FieldPos(0)
 		im.ie.Rows++
 		im.res.Rows++
 		if im.opt.Progress != nil && im.res.Rows%ProgressEvery == 0 {

@@ -1,0 +1,718 @@
+package store
+
+// Unit tests of the store on real SQLite files: opening and creating,
+// pragmas, migration from an earlier schema, refusal of files it must not
+// touch, the change log, hand-entered cases, pathology results, the
+// integrity check and the backup. Helpers here carry a "ut" prefix so they
+// cannot clash with the reliability suite's helpers in the same package.
+
+import (
+	"context"
+	"crypto/sha256"
+	"database/sql"
+	"encoding/json"
+	"errors"
+	"os"
+	"path/filepath"
+	"reflect"
+	"slices"
+	"strings"
+	"testing"
+	"time"
+
+	"polypledger/logbook"
+)
+
+// utNow is the fixed clock of these tests.
+var utNow = time.Date(2026, 11, 15, 10, 30, 0, 0, time.UTC)
+
+func utOpen(t *testing.T, path string, opt Options) *Store {
+	t.Helper()
+	if opt.Now == nil {
+		opt.Now = func() time.Time { return utNow }
+	}
+	if opt.User == "" {
+		opt.User = "tester"
+	}
+	s, err := Open(context.Background(), path, opt)
+	if err != nil {
+		t.Fatalf("Open(%s): %v", path, err)
+	}
+	t.Cleanup(func() { s.Close() })
+	return s
+}
+
+// utRaw opens the file with the bare driver: no foreign keys, no guards, for
+// planting what the program itself would refuse.
+func utRaw(t *testing.T, path string) *sql.DB {
+	t.Helper()
+	db, err := sql.Open(driverName, "file:"+path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { db.Close() })
+	return db
+}
+
+func utHash(t *testing.T, path string) [32]byte {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return sha256.Sum256(b)
+}
+
+func utDate(s string) time.Time {
+	d, err := logbook.ParseDate(s)
+	if err != nil {
+		panic(err)
+	}
+	return d
+}
+
+var utRoster = []logbook.RosterEntry{
+	{ID: "E01", Name: "Dr Invented One", Role: logbook.RoleEndoscopist},
+	{ID: "E02", Name: "Dr Invented Two", Role: logbook.RoleEndoscopist},
+	{ID: "T01", Name: "Dr Invented Trainee", Role: logbook.RoleTrainee},
+}
+
+func utAddRoster(t *testing.T, s *Store) {
+	t.Helper()
+	for _, r := range utRoster {
+		if err := s.SaveRosterEntry(context.Background(), r); err != nil {
+			t.Fatal(err)
+		}
+	}
+}
+
+// utCase is a valid case with one reported adenoma and one lesion awaiting
+// histology.
+func utCase(id string) logbook.Case {
+	p := logbook.NewProcedure()
+	p.ID, p.PerformedOn, p.OperatorID = id, utDate("2026-10-01"), "E01"
+	p.Age, p.Sex, p.Indication, p.Setting, p.Exclusion = 61, logbook.SexMale, logbook.Screening, logbook.Outpatient, logbook.ExclusionNone
+	p.Extent, p.CaecalPhoto, p.WithdrawalSeconds = logbook.ExtentCaecum, logbook.Yes, 540
+	p.BBPSRight, p.BBPSTransverse, p.BBPSLeft = 2, 3, 3
+	l1 := logbook.NewLesion()
+	l1.ProcedureID, l1.LesionNo, l1.Segment, l1.SizeMM = id, 1, logbook.Ascending, 6
+	l1.OpticalClass, l1.Confidence, l1.Resection = logbook.OpticalAdenoma, logbook.HighConfidence, logbook.ColdSnare
+	l1.Retrieved, l1.SentToPathology = logbook.Yes, logbook.Yes
+	l1.Histology, l1.Dysplasia, l1.ReportedOn = logbook.TubularAdenoma, logbook.DysplasiaLow, utDate("2026-10-09")
+	l2 := logbook.NewLesion()
+	l2.ProcedureID, l2.LesionNo, l2.Segment, l2.SizeMM = id, 2, logbook.Rectum, 3
+	l2.OpticalClass, l2.Confidence, l2.Resection = logbook.OpticalHyperplastic, logbook.LowConfidence, logbook.ColdForceps
+	l2.Retrieved, l2.SentToPathology, l2.Histology = logbook.Yes, logbook.Yes, logbook.HistPending
+	return logbook.Case{Procedure: p, Lesions: []logbook.Lesion{l1, l2}}
+}
+
+func utPragma(t *testing.T, q querier, pragma string) string {
+	t.Helper()
+	var v string
+	if err := q.QueryRowContext(context.Background(), "PRAGMA "+pragma).Scan(&v); err != nil {
+		t.Fatalf("PRAGMA %s: %v", pragma, err)
+	}
+	return v
+}
+
+func utNames(t *testing.T, q querier, kind string) []string {
+	t.Helper()
+	rows, err := q.QueryContext(context.Background(), "SELECT name FROM sqlite_master WHERE type = ? AND name NOT LIKE 'sqlite_%' ORDER BY name", kind)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	var out []string
+	for rows.Next() {
+		var n string
+		if err := rows.Scan(&n); err != nil {
+			t.Fatal(err)
+		}
+		out = append(out, n)
+	}
+	return out
+}
+
+func TestOpenCreatesDatabase(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "new", "folder", "unit.db")
+	s := utOpen(t, path, Options{})
+
+	st, err := os.Stat(path)
+	if err != nil {
+		t.Fatalf("database file not created: %v", err)
+	}
+	if m := st.Mode().Perm(); m != 0o600 {
+		t.Errorf("database file mode %o, want 600 (owner only)", m)
+	}
+	if s.Path() != path {
+		t.Errorf("Path() = %q, want %q", s.Path(), path)
+	}
+	if v, err := s.Version(ctx); err != nil || v != SchemaVersion || SchemaVersion != 2 {
+		t.Errorf("Version() = %d, %v; want %d (and SchemaVersion 2, the number of migrations)", v, err, SchemaVersion)
+	}
+	if got := utPragma(t, s.db, "journal_mode"); got != "wal" {
+		t.Errorf("journal_mode = %q, want wal", got)
+	}
+	if got := utPragma(t, s.db, "foreign_keys"); got != "1" {
+		t.Errorf("foreign_keys = %q, want 1", got)
+	}
+	if got := utPragma(t, s.db, "application_id"); got != "1349275751" { // 0x506c5067, "PlPg"
+		t.Errorf("application_id = %s, want 1349275751", got)
+	}
+	// Foreign keys are enforced on every pooled connection, not just one.
+	for i := 0; i < 3; i++ {
+		_, err := s.db.ExecContext(ctx, "INSERT INTO lesions (procedure_id, lesion_no) VALUES ('NOPE', ?)", i+1)
+		if err == nil || !strings.Contains(err.Error(), "FOREIGN KEY") {
+			t.Errorf("lesion for a missing procedure: error %v, want a foreign key failure", err)
+		}
+	}
+	if err := s.Close(); err != nil {
+		t.Fatal(err)
+	}
+	// Reopening an existing, current database changes nothing about it.
+	s2 := utOpen(t, path, Options{})
+	if v, _ := s2.Version(ctx); v != SchemaVersion {
+		t.Errorf("reopened version %d", v)
+	}
+	if _, err := Open(ctx, "", Options{}); err == nil {
+		t.Error("Open with no path succeeded")
+	}
+}
+
+func TestOpenReadOnlyNeedsExistingFile(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "missing.db")
+	_, err := Open(context.Background(), path, Options{ReadOnly: true})
+	if err == nil || !strings.Contains(err.Error(), "does not exist") {
+		t.Fatalf("read-only open of a missing file: %v", err)
+	}
+	if _, err := os.Stat(path); !errors.Is(err, os.ErrNotExist) {
+		t.Error("read-only open created the file")
+	}
+}
+
+// TestMigrateFromSchema1 makes a database with the first schema only, fills
+// it, and opens it with this program: it must reach the current schema with
+// every row intact and the indexes and guards of schema 2 in place.
+func TestMigrateFromSchema1(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "old.db")
+	old := utOpen(t, path, Options{migrateTo: 1})
+	if v, _ := old.Version(ctx); v != 1 {
+		t.Fatalf("migrateTo 1 gave schema %d", v)
+	}
+	if idx := utNames(t, old.db, "index"); len(idx) != 0 {
+		t.Fatalf("schema 1 already has indexes %v", idx)
+	}
+	utAddRoster(t, old)
+	want := []logbook.Case{utCase("P1"), utCase("P2")}
+	for _, c := range want {
+		if err := old.SaveCase(ctx, c, true); err != nil {
+			t.Fatal(err)
+		}
+	}
+	oldLog, err := old.ChangeLog(ctx, 100)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := old.Close(); err != nil {
+		t.Fatal(err)
+	}
+
+	// A read-only open refuses an old schema rather than reading it half-way.
+	before := utHash(t, path)
+	if _, err := Open(ctx, path, Options{ReadOnly: true}); err == nil || !strings.Contains(err.Error(), "must be upgraded") {
+		t.Errorf("read-only open of schema 1: %v", err)
+	}
+	if utHash(t, path) != before {
+		t.Error("read-only open changed the schema-1 file")
+	}
+
+	s := utOpen(t, path, Options{})
+	if v, _ := s.Version(ctx); v != SchemaVersion {
+		t.Fatalf("after migration: schema %d, want %d", v, SchemaVersion)
+	}
+	for _, w := range want {
+		got, err := s.Case(ctx, w.ID)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(got, w) {
+			t.Errorf("case %s after migration:\n got %+v\nwant %+v", w.ID, got, w)
+		}
+	}
+	roster, err := s.Roster(ctx)
+	if err != nil || !reflect.DeepEqual(roster, utRoster) {
+		t.Errorf("roster after migration = %+v, %v", roster, err)
+	}
+	newLog, err := s.ChangeLog(ctx, 100)
+	if err != nil || !reflect.DeepEqual(newLog, oldLog) {
+		t.Errorf("change log changed by the migration: %d entries before, %d after (%v)", len(oldLog), len(newLog), err)
+	}
+	wantIdx := []string{"lesions_awaiting", "procedures_by_date", "procedures_by_operator", "procedures_by_trainee"}
+	if got := utNames(t, s.db, "index"); !reflect.DeepEqual(got, wantIdx) {
+		t.Errorf("indexes after migration = %v, want %v", got, wantIdx)
+	}
+	if got := utNames(t, s.db, "trigger"); !reflect.DeepEqual(got, []string{"change_log_no_delete", "change_log_no_update"}) {
+		t.Errorf("triggers after migration = %v", got)
+	}
+	if findings, err := s.Check(ctx); err != nil || len(findings) != 0 {
+		t.Errorf("Check after migration: %v, %v", findings, err)
+	}
+}
+
+func TestRefuseNewerSchema(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "newer.db")
+	s := utOpen(t, path, Options{})
+	utAddRoster(t, s)
+	if err := s.Close(); err != nil {
+		t.Fatal(err)
+	}
+	raw := utRaw(t, path)
+	if _, err := raw.ExecContext(ctx, "PRAGMA user_version = 3"); err != nil {
+		t.Fatal(err)
+	}
+	if err := raw.Close(); err != nil {
+		t.Fatal(err)
+	}
+	before := utHash(t, path)
+	for _, ro := range []bool{false, true} {
+		_, err := Open(ctx, path, Options{ReadOnly: ro})
+		if err == nil || !strings.Contains(err.Error(), "newer version of polypledger (schema 3; this program knows up to 2)") {
+			t.Errorf("Open (read-only %v) of a schema-3 file: %v", ro, err)
+		}
+	}
+	if utHash(t, path) != before {
+		t.Error("the newer database was modified")
+	}
+}
+
+func TestRefuseNonDatabase(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "notes.db")
+	text := strings.Repeat("These are somebody's notes, not a database.\n", 50)
+	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, err := Open(context.Background(), path, Options{})
+	if err == nil || !strings.Contains(err.Error(), "is not a polypledger database") || !strings.Contains(err.Error(), "left untouched") {
+		t.Errorf("Open of a text file: %v", err)
+	}
+	b, _ := os.ReadFile(path)
+	if string(b) != text {
+		t.Error("the text file was modified")
+	}
+	for _, suffix := range []string{"-wal", "-shm"} {
+		if _, err := os.Stat(path + suffix); err == nil {
+			t.Errorf("a %s file was left beside the text file", suffix)
+		}
+	}
+}
+
+// utLastChange returns the newest change-log entry with its JSON decoded.
+func utLastChange(t *testing.T, s *Store) (ChangeLogEntry, map[string]any, map[string]any) {
+	t.Helper()
+	es, err := s.ChangeLog(context.Background(), 1)
+	if err != nil || len(es) != 1 {
+		t.Fatalf("ChangeLog: %v, %v", es, err)
+	}
+	e := es[0]
+	decode := func(s string) map[string]any {
+		if s == "" {
+			return nil
+		}
+		var m map[string]any
+		if err := json.Unmarshal([]byte(s), &m); err != nil {
+			t.Fatalf("change log JSON %q: %v", s, err)
+		}
+		return m
+	}
+	return e, decode(e.Old), decode(e.New)
+}
+
+// lookup follows a path of keys and indexes through decoded JSON.
+func lookup(v any, path ...any) any {
+	for _, p := range path {
+		switch k := p.(type) {
+		case string:
+			m, _ := v.(map[string]any)
+			v = m[k]
+		case int:
+			a, _ := v.([]any)
+			if k >= len(a) {
+				return nil
+			}
+			v = a[k]
+		}
+	}
+	return v
+}
+
+// TestChangeLogRecordsEveryChange makes one change of each kind and checks
+// the row each one adds: when, who, what, and the record before and after.
+func TestChangeLogRecordsEveryChange(t *testing.T) {
+	ctx := context.Background()
+	s := utOpen(t, filepath.Join(t.TempDir(), "log.db"), Options{User: "dr.lead"})
+	count := func() int {
+		es, err := s.ChangeLog(ctx, 1000)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return len(es)
+	}
+	type step struct {
+		name           string
+		do             func() error
+		action, record string
+		old, new       [][]any // (path..., want) pairs checked in the decoded JSON
+	}
+	steps := []step{
+		{"roster insert", func() error { return s.SaveRosterEntry(ctx, utRoster[0]) }, "insert", "roster E01",
+			nil, [][]any{{"id", "E01"}, {"role", "endoscopist"}}},
+		{"roster update", func() error {
+			r := utRoster[0]
+			r.Retired = true
+			return s.SaveRosterEntry(ctx, r)
+		}, "update", "roster E01", [][]any{{"retired", false}}, [][]any{{"retired", true}}},
+		{"settings", func() error {
+			st := DefaultSettings
+			st.UnitName = "Invented Unit"
+			return s.SaveSettings(ctx, st)
+		}, "update", "settings", [][]any{{"unit_name", DefaultSettings.UnitName}}, [][]any{{"unit_name", "Invented Unit"}}},
+		{"case insert", func() error { return s.SaveCase(ctx, utCase("P1"), true) }, "insert", "procedure P1",
+			nil, [][]any{{"procedure", "age", "61"}, {"lesions", 1, "histology", "pending"}}},
+		{"case update", func() error {
+			c := utCase("P1")
+			c.Age = 62
+			return s.SaveCase(ctx, c, false)
+		}, "update", "procedure P1", [][]any{{"procedure", "age", "61"}}, [][]any{{"procedure", "age", "62"}}},
+		{"histology result", func() error {
+			return s.RecordHistology(ctx, logbook.HistologyResult{ProcedureID: "P1", LesionNo: 2, Histology: logbook.HistHyperplastic, Dysplasia: logbook.DysplasiaNone, ReportedOn: utDate("2026-10-20")}, false)
+		}, "update", "lesion P1#2", [][]any{{"histology", "pending"}}, [][]any{{"histology", "hyperplastic"}, {"reported_on", "2026-10-20"}}},
+		{"case delete", func() error { return s.DeleteCase(ctx, "P1") }, "delete", "procedure P1",
+			[][]any{{"procedure", "age", "62"}, {"lesions", 1, "histology", "hyperplastic"}}, nil},
+	}
+	for _, st := range steps {
+		n := count()
+		if err := st.do(); err != nil {
+			t.Fatalf("%s: %v", st.name, err)
+		}
+		if got := count(); got != n+1 {
+			t.Errorf("%s: change log grew by %d rows, want 1", st.name, got-n)
+		}
+		e, old, nw := utLastChange(t, s)
+		if e.Action != st.action || e.Record != st.record || e.User != "dr.lead" || !e.At.Equal(utNow) {
+			t.Errorf("%s: entry %q %q by %q at %v; want %q %q by dr.lead at %v", st.name, e.Action, e.Record, e.User, e.At, st.action, st.record, utNow)
+		}
+		for _, side := range []struct {
+			label string
+			doc   map[string]any
+			want  [][]any
+		}{{"old", old, st.old}, {"new", nw, st.new}} {
+			if side.want == nil && side.doc != nil {
+				t.Errorf("%s: %s = %v, want none", st.name, side.label, side.doc)
+			}
+			if side.want != nil && side.doc == nil {
+				t.Errorf("%s: %s is empty", st.name, side.label)
+			}
+			for _, pw := range side.want {
+				path, want := pw[:len(pw)-1], pw[len(pw)-1]
+				if got := lookup(side.doc, path...); got != want {
+					t.Errorf("%s: %s%v = %v, want %v", st.name, side.label, path, got, want)
+				}
+			}
+		}
+	}
+	// A save that changes nothing writes nothing.
+	n := count()
+	if err := s.SaveRosterEntry(ctx, logbook.RosterEntry{ID: "E01", Name: utRoster[0].Name, Role: logbook.RoleEndoscopist, Retired: true}); err != nil {
+		t.Fatal(err)
+	}
+	if count() != n {
+		t.Error("an unchanged roster entry was logged")
+	}
+}
+
+func TestChangeLogIsAppendOnly(t *testing.T) {
+	ctx := context.Background()
+	s := utOpen(t, filepath.Join(t.TempDir(), "guard.db"), Options{})
+	utAddRoster(t, s)
+	before, err := s.ChangeLog(ctx, 100)
+	if err != nil || len(before) != len(utRoster) {
+		t.Fatalf("change log %v, %v", before, err)
+	}
+	for _, q := range []string{
+		"UPDATE change_log SET os_user = 'someone else'",
+		"UPDATE change_log SET new = NULL WHERE id = 1",
+		"DELETE FROM change_log",
+		"DELETE FROM change_log WHERE id = 1",
+	} {
+		_, err := s.db.ExecContext(ctx, q)
+		if err == nil || !strings.Contains(err.Error(), "the change log is append-only") {
+			t.Errorf("%s: error %v, want the append-only guard", q, err)
+		}
+	}
+	after, _ := s.ChangeLog(ctx, 100)
+	if !reflect.DeepEqual(before, after) {
+		t.Error("the change log changed")
+	}
+}
+
+func TestSaveCaseRefusals(t *testing.T) {
+	ctx := context.Background()
+	s := utOpen(t, filepath.Join(t.TempDir(), "cases.db"), Options{})
+	utAddRoster(t, s)
+	if err := s.SaveCase(ctx, utCase("P1"), true); err != nil {
+		t.Fatal(err)
+	}
+	tests := []struct {
+		name       string
+		c          func() logbook.Case
+		isNew      bool
+		field, why string
+	}{
+		{"id already used", func() logbook.Case { return utCase("P1") }, true, "procedure_id", "P1 is already in the logbook"},
+		{"lesion of another procedure", func() logbook.Case {
+			c := utCase("P2")
+			c.Lesions[1].ProcedureID = "P9"
+			return c
+		}, true, "procedure_id", "lesion 2 belongs to P9, not P2"},
+		{"lesion number used twice", func() logbook.Case {
+			c := utCase("P2")
+			c.Lesions[1].LesionNo = 1
+			return c
+		}, true, "lesion_no", "1 is used twice in procedure P2"},
+		{"operator not on the roster", func() logbook.Case {
+			c := utCase("P2")
+			c.OperatorID = "E99"
+			return c
+		}, true, "operator_id", "E99 is not on the unit roster"},
+		{"trainee not on the roster", func() logbook.Case {
+			c := utCase("P2")
+			c.TraineeID = "T99"
+			return c
+		}, true, "trainee_id", "T99 is not on the unit roster"},
+		{"lesion rule", func() logbook.Case {
+			c := utCase("P2")
+			c.Lesions[0].Dysplasia = ""
+			return c
+		}, true, "dysplasia", "lesion 1: must be low or high for tubular_adenoma"},
+		{"procedure in the future", func() logbook.Case {
+			c := utCase("P2")
+			c.PerformedOn = utDate("2026-11-16")
+			return c
+		}, true, "performed_on", "2026-11-16 is in the future"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			before, _ := s.ChangeLog(ctx, 1000)
+			err := s.SaveCase(ctx, tt.c(), tt.isNew)
+			var ve *ValidationError
+			if !errors.As(err, &ve) {
+				t.Fatalf("SaveCase: %v, want a ValidationError", err)
+			}
+			if !slices.Contains(ve.Problems, logbook.FieldError{Field: tt.field, Reason: tt.why}) {
+				t.Errorf("problems %q do not include %s: %s", ve.Problems, tt.field, tt.why)
+			}
+			after, _ := s.ChangeLog(ctx, 1000)
+			if len(after) != len(before) {
+				t.Error("a refused case was logged")
+			}
+			if _, err := s.Case(ctx, "P2"); !errors.Is(err, ErrNotFound) {
+				t.Errorf("a refused case was stored: %v", err)
+			}
+		})
+	}
+	if err := s.SaveCase(ctx, utCase("P7"), false); !errors.Is(err, ErrNotFound) {
+		t.Errorf("update of a missing case: %v, want ErrNotFound", err)
+	}
+	if err := s.DeleteCase(ctx, "P7"); !errors.Is(err, ErrNotFound) {
+		t.Errorf("delete of a missing case: %v, want ErrNotFound", err)
+	}
+	// Deleting a case removes its lesions too.
+	if err := s.DeleteCase(ctx, "P1"); err != nil {
+		t.Fatal(err)
+	}
+	var lesions int
+	s.db.QueryRowContext(ctx, "SELECT count(*) FROM lesions").Scan(&lesions)
+	if lesions != 0 {
+		t.Errorf("%d lesions left after deleting their procedure", lesions)
+	}
+}
+
+func TestRecordHistology(t *testing.T) {
+	ctx := context.Background()
+	s := utOpen(t, filepath.Join(t.TempDir(), "path.db"), Options{})
+	utAddRoster(t, s)
+	if err := s.SaveCase(ctx, utCase("P1"), true); err != nil {
+		t.Fatal(err)
+	}
+	if n, _ := s.CountAwaitingHistology(ctx); n != 1 {
+		t.Fatalf("awaiting histology = %d, want 1", n)
+	}
+	res := func(no int, h logbook.Histology, d logbook.Dysplasia) logbook.HistologyResult {
+		return logbook.HistologyResult{ProcedureID: "P1", LesionNo: no, Histology: h, Dysplasia: d, ReportedOn: utDate("2026-10-15")}
+	}
+	refused := func(err error, field, why string) {
+		t.Helper()
+		var ve *ValidationError
+		if !errors.As(err, &ve) || !slices.Contains(ve.Problems, logbook.FieldError{Field: field, Reason: why}) {
+			t.Errorf("error %v, want %s: %s", err, field, why)
+		}
+	}
+	refused(s.RecordHistology(ctx, res(9, logbook.HistSSL, logbook.DysplasiaNone), false), "lesion_no", "procedure P1 has no lesion 9")
+	r := res(1, logbook.HistSSL, logbook.DysplasiaNone)
+	r.ProcedureID = "P404"
+	refused(s.RecordHistology(ctx, r, false), "procedure_id", "P404 is not in the logbook")
+	refused(s.RecordHistology(ctx, res(1, logbook.VillousAdenoma, logbook.DysplasiaHigh), false),
+		"histology", "lesion already has histology tubular_adenoma (reported 2026-10-09); use --update to correct it")
+	refused(s.RecordHistology(ctx, res(2, logbook.TubularAdenoma, ""), false), "dysplasia", "must be low or high for tubular_adenoma")
+
+	if err := s.RecordHistology(ctx, res(2, logbook.HistSSL, logbook.DysplasiaNone), false); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.RecordHistology(ctx, res(1, logbook.VillousAdenoma, logbook.DysplasiaHigh), true); err != nil {
+		t.Fatalf("correction: %v", err)
+	}
+	c, err := s.Case(ctx, "P1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := [][3]string{}
+	for _, l := range c.Lesions {
+		got = append(got, [3]string{string(l.Histology), string(l.Dysplasia), logbook.FormatDate(l.ReportedOn)})
+	}
+	want := [][3]string{{"villous_adenoma", "high", "2026-10-15"}, {"ssl", "none", "2026-10-15"}}
+	if !reflect.DeepEqual(got, want) {
+		t.Errorf("lesions after results = %v, want %v", got, want)
+	}
+	if n, _ := s.CountAwaitingHistology(ctx); n != 0 {
+		t.Errorf("awaiting histology = %d, want 0", n)
+	}
+}
+
+func TestCheckFindsPlantedProblems(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "check.db")
+	s := utOpen(t, path, Options{})
+	utAddRoster(t, s)
+	if err := s.SaveCase(ctx, utCase("P1"), true); err != nil {
+		t.Fatal(err)
+	}
+	if findings, err := s.Check(ctx); err != nil || len(findings) != 0 {
+		t.Fatalf("Check of a sound database: %q, %v", findings, err)
+	}
+
+	// Plant, with a bare connection that has no foreign keys: a procedure
+	// with an impossible age and an operator missing from the roster, an
+	// adenoma without a grade, a lesion whose procedure does not exist, and
+	// a missing change-log guard.
+	raw := utRaw(t, path)
+	for _, q := range []string{
+		"INSERT INTO procedures (id, performed_on, operator_id, age, sex, indication, extent) VALUES ('BAD1', '2026-09-01', 'ZZ', 200, 'F', 'screening', 'caecum')",
+		"UPDATE lesions SET dysplasia = NULL WHERE procedure_id = 'P1' AND lesion_no = 1",
+		"INSERT INTO lesions (procedure_id, lesion_no, segment, size_mm) VALUES ('GHOST', 1, 'rectum', 3)",
+		"DROP TRIGGER change_log_no_delete",
+	} {
+		if _, err := raw.ExecContext(ctx, q); err != nil {
+			t.Fatalf("%s: %v", q, err)
+		}
+	}
+	findings, err := s.Check(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{
+		"change log: the append-only guards are missing",
+		"procedure BAD1: age: 200 is outside 18–110",
+		"procedure BAD1: ZZ is not on the roster",
+		"lesion P1#1: dysplasia: must be low or high for tubular_adenoma",
+	} {
+		if !slices.Contains(findings, want) {
+			t.Errorf("Check did not report %q; findings:\n%s", want, strings.Join(findings, "\n"))
+		}
+	}
+	var fk int
+	for _, f := range findings {
+		if strings.HasPrefix(f, "foreign key: a row of lesions") && strings.HasSuffix(f, "points to a missing procedures") {
+			fk++
+		}
+		if strings.HasPrefix(f, "foreign key: a row of procedures") && strings.HasSuffix(f, "points to a missing roster") {
+			fk++
+		}
+	}
+	if fk != 2 {
+		t.Errorf("Check found %d of the 2 broken references; findings:\n%s", fk, strings.Join(findings, "\n"))
+	}
+}
+
+func TestBackup(t *testing.T) {
+	ctx := context.Background()
+	dir := t.TempDir()
+	s := utOpen(t, filepath.Join(dir, "unit.db"), Options{})
+	utAddRoster(t, s)
+	for _, id := range []string{"P1", "P2", "P3"} {
+		if err := s.SaveCase(ctx, utCase(id), true); err != nil {
+			t.Fatal(err)
+		}
+	}
+	out := filepath.Join(dir, "copy.db")
+	if err := s.Backup(ctx, out); err != nil {
+		t.Fatal(err)
+	}
+	st, err := os.Stat(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m := st.Mode().Perm(); m != 0o600 {
+		t.Errorf("backup mode %o, want 600", m)
+	}
+	if _, err := os.Stat(out + ".partial"); err == nil {
+		t.Error("the temporary .partial file was left behind")
+	}
+	b := utOpen(t, out, Options{ReadOnly: true})
+	if findings, err := b.Check(ctx); err != nil || len(findings) != 0 {
+		t.Errorf("Check of the backup: %q, %v", findings, err)
+	}
+	for _, id := range []string{"P1", "P2", "P3"} {
+		orig, _ := s.Case(ctx, id)
+		copied, err := b.Case(ctx, id)
+		if err != nil || !reflect.DeepEqual(orig, copied) {
+			t.Errorf("case %s in the backup differs: %v", id, err)
+		}
+	}
+	origLog, _ := s.ChangeLog(ctx, 1000)
+	copyLog, _ := b.ChangeLog(ctx, 1000)
+	if !reflect.DeepEqual(origLog, copyLog) {
+		t.Error("the backup's change log differs")
+	}
+	before := utHash(t, out)
+	if err := s.Backup(ctx, out); err == nil || !strings.Contains(err.Error(), "already exists") {
+		t.Errorf("backup over an existing file: %v", err)
+	}
+	if utHash(t, out) != before {
+		t.Error("a refused backup changed the existing file")
+	}
+}
+
+func TestSettingsRoundTrip(t *testing.T) {
+	ctx := context.Background()
+	s := utOpen(t, filepath.Join(t.TempDir(), "settings.db"), Options{})
+	got, err := s.Settings(ctx)
+	if err != nil || got != DefaultSettings {
+		t.Fatalf("settings of a new database = %+v, %v; want the defaults", got, err)
+	}
+	want := Settings{UnitName: "Invented Unit", DefaultStandard: "bsg-jag-2016", DefaultGuideline: "bsg-2020", DiscardMinCases: 50, EligibilityRules: "esge-2022"}
+	if err := s.SaveSettings(ctx, want); err != nil {
+		t.Fatal(err)
+	}
+	if got, _ := s.Settings(ctx); got != want {
+		t.Errorf("settings = %+v, want %+v", got, want)
+	}
+	for _, bad := range []Settings{{UnitName: " ", DiscardMinCases: 1}, {UnitName: "U", DiscardMinCases: 0}} {
+		var ve *ValidationError
+		if err := s.SaveSettings(ctx, bad); !errors.As(err, &ve) {
+			t.Errorf("SaveSettings(%+v) = %v, want a ValidationError", bad, err)
+		}
+	}
+}
