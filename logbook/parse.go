@@ -89,10 +89,37 @@ func ParseDose(s string) (float64, error) {
 		return NotRecorded, nil
 	}
 	v, err := strconv.ParseFloat(s, 64)
-	if err != nil || v < 0 || math.IsInf(v, 0) || math.IsNaN(v) {
+	if err != nil || !decimal(s) || v < 0 || math.IsInf(v, 0) || math.IsNaN(v) {
 		return NotRecorded, fmt.Errorf("%q is not an amount of zero or more", s)
 	}
 	return v, nil
+}
+
+// decimal reports whether s is written with decimal digits, a point and an
+// exponent only: strconv.ParseFloat also reads hex floats ("0x10"), digit
+// separators and "inf", which no record should carry.
+func decimal(s string) bool {
+	for i := 0; i < len(s); i++ {
+		switch c := s[i]; {
+		case c >= '0' && c <= '9', c == '.', c == 'e', c == 'E', c == '+', c == '-':
+		default:
+			return false
+		}
+	}
+	return true
+}
+
+// digits reports whether s is one or more ASCII digits.
+func digits(s string) bool {
+	if s == "" {
+		return false
+	}
+	for i := 0; i < len(s); i++ {
+		if s[i] < '0' || s[i] > '9' {
+			return false
+		}
+	}
+	return true
 }
 
 // FormatCount writes a whole number, or "" for NotRecorded.
@@ -134,15 +161,18 @@ func ParseMinSec(s string) (int, error) {
 	}
 	m, sec, found := strings.Cut(s, ":")
 	mins, err := strconv.Atoi(m)
-	if err != nil || mins < 0 || mins > MaxWithdrawalSeconds/60 {
+	if err != nil || !digits(m) || mins > MaxWithdrawalSeconds/60 {
 		return NotRecorded, fmt.Errorf("%q is not minutes:seconds", s)
 	}
 	secs := 0
 	if found {
 		secs, err = strconv.Atoi(sec)
-		if err != nil || secs < 0 || secs > 59 || len(sec) != 2 {
+		if err != nil || !digits(sec) || secs > 59 || len(sec) != 2 {
 			return NotRecorded, fmt.Errorf("%q is not minutes:seconds (seconds 00–59)", s)
 		}
+	}
+	if mins*60+secs > MaxWithdrawalSeconds {
+		return NotRecorded, fmt.Errorf("%q is longer than %d minutes", s, MaxWithdrawalSeconds/60)
 	}
 	return mins*60 + secs, nil
 }
