@@ -501,8 +501,26 @@ func TestImportHistology(t *testing.T) {
 		t.Errorf("lesions after results: %s", got)
 	}
 
+	// The same result again is not a correction: it may add the report date
+	// the lesion lacks, or change nothing (and log nothing); a different
+	// date for it is a correction.
+	mustImport(t, s, store.Histology, "again.csv", head+"P1,4,tubular_adenoma,low,2026-03-11\n")
+	c, _ = s.Case(ctx, "P1")
+	if got := logbook.FormatDate(c.Lesions[3].ReportedOn); got != "2026-03-11" {
+		t.Errorf("report date after the repeated result: %q", got)
+	}
+	logged := counts(t, s)
+	mustImport(t, s, store.Histology, "again.csv", head+"P1,4,tubular_adenoma,low,2026-03-11\n")
+	if counts(t, s) != logged {
+		t.Error("an identical result was logged as a change")
+	}
+	_, err := importText(s, store.Histology, "again.csv", head+"P1,4,tubular_adenoma,low,2026-03-12\n", false)
+	if got := errorLines(importError(t, err)); !reflect.DeepEqual(got, []string{"again.csv:2: histology: lesion already has histology tubular_adenoma (reported 2026-03-11); use --update to correct it"}) {
+		t.Errorf("a new date for a reported result: %q", got)
+	}
+
 	// A correction needs --update; the change log keeps the old result.
-	res, err := importText(s, store.Histology, "fix.csv", head+"P1,4,villous_adenoma,high,2026-03-20\n", true)
+	res, err = importText(s, store.Histology, "fix.csv", head+"P1,4,villous_adenoma,high,2026-03-20\n", true)
 	if err != nil || res.Updated != 1 {
 		t.Fatalf("correction: %+v, %v", res, err)
 	}

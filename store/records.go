@@ -500,7 +500,7 @@ func (s *Store) checkHistology(ctx context.Context, q querier, h logbook.Histolo
 		}
 		return old, updated, logbook.Problems{{Field: "lesion_no", Reason: fmt.Sprintf("procedure %s has no lesion %d", h.ProcedureID, h.LesionNo)}}, nil
 	}
-	if old.Histology.IsFinal() && !correct {
+	if old.Histology.IsFinal() && !correct && !sameResult(old, h) {
 		when := "no report date recorded"
 		if !old.ReportedOn.IsZero() {
 			when = "reported " + logbook.FormatDate(old.ReportedOn)
@@ -512,12 +512,25 @@ func (s *Store) checkHistology(ctx context.Context, q querier, h logbook.Histolo
 	return old, updated, logbook.ValidateLesion(updated, s.today()), nil
 }
 
+// sameResult reports whether h repeats the lesion's recorded result: the
+// same histology and dysplasia, with the same report date or adding one the
+// lesion lacks (lesions.csv carries no report date, so re-importing an
+// export's histology.csv after its lesions.csv does exactly this). Such a
+// result is not a correction and needs no --update.
+func sameResult(l logbook.Lesion, h logbook.HistologyResult) bool {
+	return l.Histology == h.Histology && l.Dysplasia == h.Dysplasia &&
+		(l.ReportedOn.IsZero() || l.ReportedOn.Equal(h.ReportedOn))
+}
+
 // applyHistology checks a result and, when it is acceptable, writes it and
 // its change-log row inside tx; problems are returned, not stored.
 func (s *Store) applyHistology(ctx context.Context, tx *sql.Tx, h logbook.HistologyResult, correct bool) (logbook.Problems, error) {
 	old, updated, ps, err := s.checkHistology(ctx, tx, h, correct)
 	if err != nil || len(ps) > 0 {
 		return ps, err
+	}
+	if sameResult(old, h) && old.ReportedOn.Equal(h.ReportedOn) {
+		return nil, nil // nothing changes, nothing to log
 	}
 	if _, err := tx.ExecContext(ctx, "UPDATE lesions SET histology = ?, dysplasia = ?, reported_on = ? WHERE procedure_id = ? AND lesion_no = ?",
 		string(h.Histology), nullIfEmpty(string(h.Dysplasia)), logbook.FormatDate(h.ReportedOn), h.ProcedureID, h.LesionNo); err != nil {
