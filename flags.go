@@ -34,7 +34,7 @@ func parse(fs *flag.FlagSet, args []string) ([]string, error) {
 			if errors.Is(err, flag.ErrHelp) {
 				return nil, errHelp
 			}
-			return nil, usageError{err.Error()}
+			return nil, usageError{msg: err.Error(), shown: true} // the flag package printed the usage
 		}
 		args = fs.Args()
 		if len(args) == 0 {

@@ -10,6 +10,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strings"
 	"syscall"
 
 	_ "polypledger/internal/plainlocale" // before the UI toolkit reads the locale
@@ -39,12 +40,37 @@ const (
 	exitUsage = 2
 )
 
-// usageError is a mistake in the command line itself.
-type usageError struct{ msg string }
+// usageError is a mistake in the command line itself. shown is set when
+// the flag package has already printed the command's usage.
+type usageError struct {
+	msg   string
+	shown bool
+}
 
 func (e usageError) Error() string { return e.msg }
 
-func usagef(format string, args ...any) error { return usageError{fmt.Sprintf(format, args...)} }
+func usagef(format string, args ...any) error { return usageError{msg: fmt.Sprintf(format, args...)} }
+
+// commandUsage returns the usage line of one command, taken from its line
+// in usageText: the command's synopsis (the words up to the run of spaces
+// before its description, if they are flags or arguments at all).
+func commandUsage(name string) string {
+	for _, line := range strings.Split(usageText, "\n") {
+		rest, ok := strings.CutPrefix(line, "  "+name+" ")
+		if !ok {
+			continue
+		}
+		rest = strings.TrimSpace(rest)
+		if i := strings.Index(rest, "   "); i >= 0 {
+			rest = rest[:i]
+		}
+		if !strings.HasPrefix(rest, "-") && !strings.HasPrefix(rest, "[") {
+			rest = ""
+		}
+		return strings.TrimSpace("usage: polypledger " + name + " " + rest)
+	}
+	return "usage: polypledger " + name
+}
 
 // command runs one subcommand with its arguments.
 type command func(ctx context.Context, env *env, args []string) error
@@ -107,6 +133,9 @@ func run(ctx context.Context, args []string, e *env) (code int) {
 		return exitOK
 	case errors.As(err, &ue):
 		fmt.Fprintf(e.stderr, "polypledger %s: %s\n", name, ue.msg)
+		if !ue.shown {
+			fmt.Fprintln(e.stderr, commandUsage(name))
+		}
 		return exitUsage
 	default:
 		fmt.Fprintf(e.stderr, "polypledger %s: %v\n", name, err)
