@@ -216,7 +216,3 @@ func cmdMetrics(ctx context.Context, e *env, args []string) error {
 	}
 	return report.WriteTable(e.stdout, res)
 }
-
-func cmdReport(ctx context.Context, e *env, args []string) error {
-	return usagef("the PDF report is not available in this build yet")
-}

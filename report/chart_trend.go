@@ -1,0 +1,186 @@
+package report
+
+import (
+	"math"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+)
+
+// TrendPoint is one period of a trend: its label (such as "2026-Q1") and
+// the indicator over that period.
+type TrendPoint struct {
+	Label     string
+	Indicator Indicator
+}
+
+// TrendData is what TrendChart draws: one indicator over consecutive
+// periods for a population, and optionally the same for a comparison
+// population (the whole unit) over the same periods.
+type TrendData struct {
+	// IndicatorID names the indicator for the title and axis.
+	IndicatorID string
+	// Name is the legend name of the population followed (an operator id,
+	// "you", or "unit").
+	Name   string
+	Points []TrendPoint
+	// ComparisonName and Comparison are the comparison series; Comparison
+	// may be empty. Its labels must match Points' by position.
+	ComparisonName string
+	Comparison     []TrendPoint
+}
+
+// TrendChart draws an indicator period by period: each period's value with
+// its 95% interval as a whisker and its verdict as the marker shape (filled
+// circle meets, downward triangle below, open circle too few cases), the
+// target as a dash-dot reference line, and the comparison series as a
+// dashed line with square marks.
+func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
+	opt = opt.withDefaults(80)
+	var sample Indicator
+	if len(t.Points) > 0 {
+		sample = t.Points[0].Indicator
+	}
+	factor, _ := axisScale(sample)
+	p := newPlot(opt.title(IndicatorTitle(t.IndicatorID)+" by quarter"), "Period", axisTitle(t.IndicatorID, sample))
+	labels := make([]string, len(t.Points))
+	ys := newSpan()
+	var pts []chartPoint
+	var line plotter.XYs
+	seen := map[Status]bool{}
+	var target *float64
+	for i, tp := range t.Points {
+		labels[i] = tp.Label
+		ind := tp.Indicator
+		if ind.Target != nil {
+			target = ind.Target
+		}
+		v := valueOr(ind.Value, factor)
+		if math.IsNaN(v) {
+			continue
+		}
+		m := verdictMark(ind.Status)
+		seen[ind.Status] = true
+		lo, hi := valueOr(ind.CILow, factor), valueOr(ind.CIHigh, factor)
+		pts = append(pts, chartPoint{X: float64(i), Y: v, Lo: lo, Hi: hi, Mark: m})
+		line = append(line, plotter.XY{X: float64(i), Y: v})
+		ys.add(v, lo, hi)
+	}
+	var cmpLine plotter.XYs
+	var cmpPts []chartPoint
+	for i, tp := range t.Comparison {
+		if i >= len(t.Points) {
+			break
+		}
+		v := valueOr(tp.Indicator.Value, factor)
+		if math.IsNaN(v) {
+			continue
+		}
+		cmpLine = append(cmpLine, plotter.XY{X: float64(i), Y: v})
+		cmpPts = append(cmpPts, chartPoint{X: float64(i), Y: v, Lo: math.NaN(), Hi: math.NaN(),
+			Mark: mark{draw.SquareGlyph{}, shadeBlack, ""}, Radius: vg.Points(2.6)})
+		ys.add(v)
+	}
+	if target != nil {
+		ys.add(*target * factor)
+	}
+	floor, ceil := math.NaN(), math.NaN()
+	if factor == 100 && sample.Kind != KindDifference {
+		floor, ceil = 0, 100
+	} else if sample.Kind == KindMean {
+		floor = 0
+	}
+	p.Y.Min, p.Y.Max = ys.padded(10, floor, ceil)
+	p.X.Min, p.X.Max = -0.5, math.Max(0.5, float64(len(t.Points))-0.5)
+	p.X.Tick.Marker = nominalTicks{labels: labels, max: 12}
+
+	targetSty := lineStyle(shadeOrange, 1.4, dashDot())
+	mainSty := lineStyle(shadeBlack, 1, nil)
+	cmpSty := lineStyle(shadeGrey, 1, dashed())
+	if target != nil {
+		p.Add(refLine{at: *target * factor, sty: targetSty, label: "target " + valueText(sample, target)})
+	}
+	p.Add(curve{cmpLine, cmpSty}, &points{pts: cmpPts}, curve{line, mainSty}, &points{pts: pts})
+
+	name := t.Name
+	if name == "" {
+		name = "this population"
+	}
+	legend := []legendItem{lineItem(name+" (bars: 95% interval)", mainSty)}
+	if len(cmpLine) > 0 {
+		legend = append(legend, legendItem{t.ComparisonName, comboThumb{cmpSty, draw.GlyphStyle{Color: shadeBlack.rgba(), Radius: vg.Points(2.6), Shape: draw.SquareGlyph{}}}})
+	}
+	if target != nil {
+		legend = append(legend, lineItem("standard's target", targetSty))
+	}
+	for _, s := range []Status{Meets, Below, TooFew, Reported} {
+		if seen[s] {
+			legend = append(legend, markItem(verdictMark(s), ""))
+		}
+	}
+	return render(p, legend, opt)
+}
+
+// comboThumb is a line sample with a mark on it, for the legend.
+type comboThumb struct {
+	line  draw.LineStyle
+	glyph draw.GlyphStyle
+}
+
+// Thumbnail implements plot.Thumbnailer.
+func (c comboThumb) Thumbnail(cv *draw.Canvas) {
+	lineThumb{c.line}.Thumbnail(cv)
+	cv.DrawGlyph(c.glyph, cv.Center())
+}
+
+// TraineeCasesChart draws a trainee's cumulative cases month by month: the
+// total and each supervision level, told apart by dash pattern and mark.
+func TraineeCasesChart(months []MonthCount, opt ChartOptions) ([]byte, error) {
+	opt = opt.withDefaults(80)
+	p := newPlot(opt.title("Cumulative cases by supervision level"), "Month", "Cumulative cases")
+	labels := make([]string, len(months))
+	type series struct {
+		name  string
+		count func(MonthCount) int
+		sty   draw.LineStyle
+		glyph draw.GlyphDrawer
+		col   shade
+	}
+	all := []series{
+		{"all cases", func(m MonthCount) int { return m.Total }, lineStyle(shadeBlack, 1.4, nil), draw.CircleGlyph{}, shadeBlack},
+		{"independent", func(m MonthCount) int { return m.Independent }, lineStyle(shadeBlue, 1.1, dashed()), draw.BoxGlyph{}, shadeBlue},
+		{"supervised, hands on", func(m MonthCount) int { return m.SupervisedHandsOn }, lineStyle(shadeVermilion, 1.1, dotted()), upTriangle{}, shadeVermilion},
+		{"supervised, observed", func(m MonthCount) int { return m.SupervisedObserved }, lineStyle(shadeGreen, 1.1, dashDot()), downTriangle{}, shadeGreen},
+		{"supervision not recorded", func(m MonthCount) int { return m.Unrecorded }, lineStyle(shadeGrey, 1, dashed()), thickRing{}, shadeGrey},
+	}
+	ys := newSpan()
+	ys.add(0)
+	var legend []legendItem
+	for si, s := range all {
+		var line plotter.XYs
+		var pts []chartPoint
+		cum, any := 0, false
+		for i, m := range months {
+			labels[i] = m.Month
+			cum += s.count(m)
+			any = any || s.count(m) > 0
+			line = append(line, plotter.XY{X: float64(i), Y: float64(cum)})
+			pts = append(pts, chartPoint{X: float64(i), Y: float64(cum), Lo: math.NaN(), Hi: math.NaN(),
+				Mark: mark{s.glyph, s.col, ""}, Radius: vg.Points(2.4)})
+			ys.add(float64(cum))
+		}
+		if !any && si > 0 {
+			continue
+		}
+		p.Add(curve{line, s.sty}, &points{pts: pts})
+		legend = append(legend, legendItem{s.name, comboThumb{s.sty, draw.GlyphStyle{Color: s.col.rgba(), Radius: vg.Points(2.4), Shape: s.glyph}}})
+	}
+	p.Y.Min, p.Y.Max = ys.padded(10, 0, math.NaN())
+	p.X.Min, p.X.Max = -0.5, math.Max(0.5, float64(len(months))-0.5)
+	p.X.Tick.Marker = nominalTicks{labels: labels, max: 12}
+	return render(p, legend, opt)
+}
+
+var _ plot.Thumbnailer = comboThumb{}

@@ -1,0 +1,442 @@
+package report
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"strings"
+	"time"
+
+	"github.com/jung-kurt/gofpdf"
+)
+
+// ReportKind is which PDF report is written.
+type ReportKind string
+
+// Report kinds.
+const (
+	// UnitReport is the unit audit: every endoscopist by name and id.
+	UnitReport ReportKind = "unit"
+	// PersonalReport is one endoscopist's own report: everyone else appears
+	// only as an anonymous peer.
+	PersonalReport ReportKind = "personal"
+	// TraineeReport is a trainee's logbook: cases by supervision level, the
+	// learning curve and the trainee's own indicators.
+	TraineeReport ReportKind = "trainee"
+)
+
+// ReportFonts are the TrueType bytes of the report's regular and bold
+// faces; they must cover ≥, ±, µ and accented letters (the Go fonts do).
+type ReportFonts struct {
+	Regular, Bold []byte
+}
+
+// ReportInput is everything WritePDF prints: the computed figures and the
+// context a reader needs to trust them.
+type ReportInput struct {
+	Kind        ReportKind
+	UnitName    string
+	Profile     *Profile
+	Guideline   Guideline
+	Eligibility EligibilitySettings
+	// From and To are the period asked for, both days included.
+	From, To time.Time
+	// GeneratedOn is printed on the cover and stored as the PDF's creation
+	// date, so that a report can be reproduced byte for byte.
+	GeneratedOn time.Time
+	// Names maps roster ids to staff names (staff names may be printed;
+	// patient names never exist in the data).
+	Names map[string]string
+	// SubjectID is the endoscopist of a personal report or the trainee of a
+	// trainee logbook.
+	SubjectID string
+	Data      ReportData
+	Fonts     ReportFonts
+}
+
+// WritePDF writes the report to w. A personal report is stripped of every
+// other operator's id before anything is drawn (see anonymise), so no
+// other operator's id or name can reach the page. A period without
+// procedures gives a short report that says so.
+func WritePDF(w io.Writer, in ReportInput) error {
+	if in.Profile == nil {
+		return errors.New("write PDF report: no standard profile")
+	}
+	if len(in.Fonts.Regular) == 0 || len(in.Fonts.Bold) == 0 {
+		return errors.New("write PDF report: no font")
+	}
+	switch in.Kind {
+	case UnitReport:
+	case PersonalReport, TraineeReport:
+		if in.SubjectID == "" {
+			return fmt.Errorf("write PDF report: a %s report needs the id of its subject", in.Kind)
+		}
+	default:
+		return fmt.Errorf("write PDF report: unknown kind %q", in.Kind)
+	}
+	if in.Kind == PersonalReport {
+		in = anonymise(in)
+	}
+	d := newDoc(in)
+	switch in.Kind {
+	case UnitReport:
+		d.unitReport()
+	case PersonalReport:
+		d.personalReport()
+	case TraineeReport:
+		d.traineeReport()
+	}
+	d.methods()
+	if err := d.pdf.Error(); err != nil {
+		return fmt.Errorf("write PDF report: %w", err)
+	}
+	var buf bytes.Buffer
+	if err := d.pdf.Output(&buf); err != nil {
+		return fmt.Errorf("write PDF report: %w", err)
+	}
+	if _, err := w.Write(buf.Bytes()); err != nil {
+		return fmt.Errorf("write PDF report: %w", err)
+	}
+	return nil
+}
+
+// Page geometry in millimetres (A4 portrait).
+const (
+	pageW        = 210.0
+	pageH        = 297.0
+	marginL      = 15.0
+	marginR      = 15.0
+	marginT      = 16.0
+	footerSpace  = 20.0
+	contentW     = pageW - marginL - marginR
+	contentBotto = pageH - footerSpace
+	rowH         = 4.3
+)
+
+// footerCaution is printed at the foot of every page.
+func footerCaution() string {
+	return "These figures support audit and appraisal. Surveillance intervals and eligibility figures are suggestions under the " +
+		"named guideline for the responsible clinician to confirm; local policy decides. " + notDevice +
+		" No patient identifiers: procedure ids and short codes only."
+}
+
+// doc is a report being laid out.
+type doc struct {
+	pdf    *gofpdf.Fpdf
+	in     ReportInput
+	title  string
+	images int
+	// sections are the contents entries: title and alias of its page
+	// number.
+	sections []section
+	// contentsPage is the page reserved for the contents, 0 for none.
+	contentsPage int
+	// compact tightens tables so that the unit summary fits one page.
+	compact bool
+}
+
+type section struct{ title, alias string }
+
+func newDoc(in ReportInput) *doc {
+	pdf := gofpdf.New("P", "mm", "A4", "")
+	pdf.SetMargins(marginL, marginT, marginR)
+	pdf.SetAutoPageBreak(true, footerSpace)
+	pdf.AddUTF8FontFromBytes("go", "", in.Fonts.Regular)
+	pdf.AddUTF8FontFromBytes("go", "B", in.Fonts.Bold)
+	pdf.AliasNbPages("{nb}")
+	pdf.SetCreationDate(in.GeneratedOn)
+	pdf.SetModificationDate(in.GeneratedOn)
+	pdf.SetCreator("polypledger", true)
+	d := &doc{pdf: pdf, in: in}
+	switch in.Kind {
+	case UnitReport:
+		d.title = "Colonoscopy quality audit"
+	case PersonalReport:
+		d.title = "Personal colonoscopy audit"
+	case TraineeReport:
+		d.title = "Trainee colonoscopy logbook"
+	}
+	pdf.SetTitle(d.title+", "+in.UnitName, true)
+	pdf.SetHeaderFuncMode(func() {
+		if pdf.PageNo() == 1 {
+			return
+		}
+		pdf.SetFont("go", "", 7)
+		pdf.SetTextColor(110, 110, 110)
+		pdf.SetXY(marginL, 8)
+		pdf.CellFormat(contentW, 4, d.fit(in.UnitName+"  ·  "+d.title+"  ·  "+d.periodText(), contentW), "", 0, "L", false, 0, "")
+		pdf.SetDrawColor(200, 200, 200)
+		pdf.Line(marginL, 12.5, pageW-marginR, 12.5)
+		pdf.SetTextColor(0, 0, 0)
+		pdf.SetXY(marginL, marginT)
+	}, false)
+	pdf.SetFooterFunc(func() {
+		pdf.SetDrawColor(200, 200, 200)
+		pdf.Line(marginL, pageH-17, pageW-marginR, pageH-17)
+		pdf.SetFont("go", "", 6.5)
+		pdf.SetTextColor(80, 80, 80)
+		pdf.SetXY(marginL, pageH-16)
+		pdf.MultiCell(contentW-28, 2.9, footerCaution(), "", "L", false)
+		pdf.SetXY(pageW-marginR-28, pageH-16)
+		pdf.SetFont("go", "B", 7)
+		pdf.CellFormat(28, 3, fmt.Sprintf("page %d of {nb}", pdf.PageNo()), "", 0, "R", false, 0, "")
+		pdf.SetTextColor(0, 0, 0)
+	})
+	return d
+}
+
+// periodText is the period as printed.
+func (d *doc) periodText() string {
+	return formatDay(d.in.From) + " to " + formatDay(d.in.To)
+}
+
+// formatDay prints a date as "3 March 2026"; a zero date as "open".
+func formatDay(t time.Time) string {
+	if t.IsZero() {
+		return "open"
+	}
+	return t.Format("2 January 2006")
+}
+
+// name returns "E03, Dr A Name" or the bare id.
+func (d *doc) name(id string) string {
+	if n := d.in.Names[id]; n != "" {
+		return id + ", " + n
+	}
+	return id
+}
+
+// newPage starts a page; a title adds a heading, a bookmark and, with an
+// alias, a contents entry.
+func (d *doc) newPage(title string, contents bool) {
+	d.pdf.AddPage()
+	if title == "" {
+		return
+	}
+	if contents {
+		alias := fmt.Sprintf("{s%02d}", len(d.sections))
+		d.sections = append(d.sections, section{title, alias})
+		d.pdf.RegisterAlias(alias, fmt.Sprint(d.pdf.PageNo()))
+	}
+	d.pdf.Bookmark(title, 0, -1)
+	d.heading(title)
+}
+
+// heading prints a section heading.
+func (d *doc) heading(s string) {
+	d.pdf.SetFont("go", "B", 14)
+	d.pdf.SetX(marginL)
+	d.pdf.MultiCell(contentW, 6.5, s, "", "L", false)
+	d.pdf.Ln(1.5)
+}
+
+// subheading prints a heading within a section, starting a page when less
+// than need millimetres remain.
+func (d *doc) subheading(s string, need float64) {
+	d.space(need + 8)
+	d.pdf.Ln(1.5)
+	d.pdf.SetFont("go", "B", 10.5)
+	d.pdf.SetX(marginL)
+	d.pdf.MultiCell(contentW, 5, s, "", "L", false)
+	d.pdf.Ln(0.8)
+}
+
+// para prints a paragraph of body text.
+func (d *doc) para(s string) {
+	d.pdf.SetFont("go", "", 8.5)
+	d.pdf.SetX(marginL)
+	d.pdf.MultiCell(contentW, 3.9, s, "", "L", false)
+	d.pdf.Ln(1.2)
+}
+
+// note prints small explanatory text.
+func (d *doc) note(s string) {
+	d.pdf.SetFont("go", "", 7.5)
+	d.pdf.SetTextColor(60, 60, 60)
+	d.pdf.SetX(marginL)
+	d.pdf.MultiCell(contentW, 3.4, s, "", "L", false)
+	d.pdf.SetTextColor(0, 0, 0)
+	d.pdf.Ln(1)
+}
+
+// boxed prints text in a light frame, for cautions.
+func (d *doc) boxed(s string) {
+	d.pdf.SetFont("go", "", 8)
+	d.pdf.SetFillColor(245, 245, 245)
+	d.pdf.SetDrawColor(150, 150, 150)
+	d.pdf.SetX(marginL)
+	d.pdf.MultiCell(contentW, 3.8, s, "1", "L", true)
+	d.pdf.Ln(2)
+}
+
+// space starts a new page when less than h millimetres remain.
+func (d *doc) space(h float64) {
+	if d.pdf.GetY()+h > contentBotto {
+		d.pdf.AddPage()
+	}
+}
+
+// fit trims s with an ellipsis so that it fits w millimetres in the current
+// font.
+func (d *doc) fit(s string, w float64) string {
+	if d.pdf.GetStringWidth(s) <= w {
+		return s
+	}
+	r := []rune(s)
+	for len(r) > 1 && d.pdf.GetStringWidth(string(r)+"…") > w {
+		r = r[:len(r)-1]
+	}
+	return string(r) + "…"
+}
+
+// column is one column of a table.
+type column struct {
+	title string
+	width float64
+	align string // "L", "R" or "C"
+}
+
+// table prints a table with a bold header, wrapped onto several lines when
+// a title is wider than its column and repeated on each new page, and light
+// banding. A row whose first cell starts with "§" is a group heading
+// spanning the table. Cells are trimmed with an ellipsis to their column.
+func (d *doc) table(cols []column, rows [][]string) {
+	rh, fs := rowH, 7.5
+	if d.compact {
+		rh, fs = 3.72, 7
+	}
+	total := 0.0
+	for _, c := range cols {
+		total += c.width
+	}
+	header := func() {
+		d.pdf.SetFont("go", "B", fs)
+		split := make([][]string, len(cols))
+		lines := 1
+		for i, c := range cols {
+			split[i] = d.pdf.SplitText(c.title, c.width-1.5)
+			lines = max(lines, len(split[i]))
+		}
+		const lh = 3.2
+		h := float64(lines)*lh + 1.4
+		y0 := d.pdf.GetY()
+		d.pdf.SetFillColor(225, 225, 225)
+		d.pdf.Rect(marginL, y0, total, h, "F")
+		x := marginL
+		for i, c := range cols {
+			for j, l := range split[i] {
+				d.pdf.SetXY(x, y0+0.7+float64(j)*lh)
+				d.pdf.CellFormat(c.width, lh, l, "", 0, c.align, false, 0, "")
+			}
+			x += c.width
+		}
+		d.pdf.SetXY(marginL, y0+h)
+	}
+	d.space(2*rh + 8)
+	header()
+	for i, row := range rows {
+		if d.pdf.GetY()+rh > contentBotto {
+			d.pdf.AddPage()
+			header()
+		}
+		d.pdf.SetX(marginL)
+		if len(row) > 0 && strings.HasPrefix(row[0], "§") {
+			d.pdf.SetFont("go", "B", fs)
+			d.pdf.CellFormat(total, rh, strings.TrimPrefix(row[0], "§"), "B", 1, "L", false, 0, "")
+			continue
+		}
+		d.pdf.SetFont("go", "", fs)
+		fill := i%2 == 1
+		d.pdf.SetFillColor(246, 246, 246)
+		for j, c := range cols {
+			s := ""
+			if j < len(row) {
+				s = row[j]
+			}
+			d.pdf.CellFormat(c.width, rh, d.fit(s, c.width-1.5), "", 0, c.align, fill, 0, "")
+		}
+		d.pdf.Ln(-1)
+	}
+	d.pdf.Ln(1.5)
+}
+
+// image places a PNG chart of the given printed size at the left margin,
+// starting a page when it does not fit.
+func (d *doc) image(png []byte, err error, w, h float64) {
+	if err != nil {
+		d.note("Chart not drawn: " + err.Error())
+		return
+	}
+	d.space(h + 1)
+	d.images++
+	name := fmt.Sprintf("chart%d", d.images)
+	opt := gofpdf.ImageOptions{ImageType: "PNG"}
+	d.pdf.RegisterImageOptionsReader(name, opt, bytes.NewReader(png))
+	y := d.pdf.GetY()
+	d.pdf.ImageOptions(name, marginL+(contentW-w)/2, y, w, h, false, opt, 0, "")
+	d.pdf.SetY(y + h + 1.5)
+}
+
+// chart renders a chart at full text width and places it.
+func (d *doc) chart(h float64, draw func(ChartOptions) ([]byte, error), opt ChartOptions) {
+	opt.WidthMM, opt.HeightMM = contentW, h
+	png, err := draw(opt)
+	d.image(png, err, contentW, h)
+}
+
+// keyValues prints aligned label/value lines.
+func (d *doc) keyValues(rows [][2]string, labelW float64) {
+	for _, r := range rows {
+		d.pdf.SetX(marginL)
+		d.pdf.SetFont("go", "B", 8.5)
+		d.pdf.CellFormat(labelW, 4.4, r[0], "", 0, "L", false, 0, "")
+		d.pdf.SetFont("go", "", 8.5)
+		d.pdf.MultiCell(contentW-labelW, 4.4, r[1], "", "L", false)
+	}
+	d.pdf.Ln(1.5)
+}
+
+// verdictCell prints a verdict with a shape before the words, so that it
+// reads without colour: ● meets, ▼ below, ○ too few, ■ reported.
+func verdictCell(s Status) string {
+	switch s {
+	case Meets:
+		return "● " + s.Words()
+	case Below:
+		return "▼ " + s.Words()
+	case TooFew:
+		return "○ " + s.Words()
+	}
+	return "■ " + Reported.Words()
+}
+
+// shortVerdict is a verdict mark and value for dense tables.
+func shortVerdict(ind Indicator) string {
+	if ind.Value == nil {
+		return "–"
+	}
+	v := FormatValue(ind)
+	switch ind.Status {
+	case Meets:
+		return v + " ●"
+	case Below:
+		return v + " ▼"
+	case TooFew:
+		return v + " ○"
+	}
+	return v
+}
+
+// indicatorRow is the standard row of an indicator table.
+func indicatorRow(ind Indicator) []string {
+	return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)}
+}
+
+// indicatorColumns are the columns of indicatorRow.
+func indicatorColumns() []column {
+	return []column{
+		{"Indicator", 62, "L"}, {"Cases", 25, "R"}, {"Value", 20, "R"}, {"95% interval", 27, "R"},
+		{"Target", 19, "R"}, {"Verdict", 27, "L"},
+	}
+}

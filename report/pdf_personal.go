@@ -1,0 +1,210 @@
+package report
+
+import (
+	"cmp"
+	"fmt"
+	"slices"
+	"strconv"
+)
+
+// anonymise returns a copy of a personal report's input in which the
+// subject keeps their id and every other operator is "peer 1" … "peer n",
+// numbered by procedure volume (largest first, ties by a stable order), so
+// that the numbering tells nothing the funnel plots do not already show.
+// Everything that could name another operator is dropped: their names,
+// their optical-diagnosis and adherence detail, the unit's lists of
+// individual procedures (which carry operator ids) and the trainees.
+func anonymise(in ReportInput) ReportInput {
+	subject := in.SubjectID
+	type vol struct {
+		id string
+		n  float64
+	}
+	var peers []vol
+	for _, o := range in.Data.Metrics.Operators {
+		if o.OperatorID == subject {
+			continue
+		}
+		v, _ := Find(o.Indicators, "volume")
+		peers = append(peers, vol{o.OperatorID, v.Numerator})
+	}
+	slices.SortFunc(peers, func(a, b vol) int {
+		if c := cmp.Compare(b.n, a.n); c != 0 {
+			return c
+		}
+		return cmp.Compare(a.id, b.id)
+	})
+	label := map[string]string{subject: subject}
+	order := map[string]int{subject: 0}
+	for i, p := range peers {
+		label[p.id] = "peer " + strconv.Itoa(i+1)
+		order[p.id] = i + 1
+	}
+	relabel := func(ops []OperatorResult) []OperatorResult {
+		out := make([]OperatorResult, 0, len(ops))
+		for _, o := range ops {
+			l, ok := label[o.OperatorID]
+			if !ok {
+				continue
+			}
+			out = append(out, OperatorResult{OperatorID: l, Indicators: o.Indicators})
+		}
+		slices.SortStableFunc(out, func(a, b OperatorResult) int {
+			return cmp.Compare(orderOf(order, label, a.OperatorID), orderOf(order, label, b.OperatorID))
+		})
+		return out
+	}
+	src := in.Data
+	var d ReportData
+	d.Metrics = src.Metrics
+	d.Metrics.Operators = relabel(src.Metrics.Operators)
+	d.Trends = TrendsResult{Standard: src.Trends.Standard}
+	for _, q := range src.Trends.Quarters {
+		m := q.Metrics
+		m.Operators = relabel(q.Metrics.Operators)
+		d.Trends.Quarters = append(d.Trends.Quarters, QuarterResult{Quarter: q.Quarter, Metrics: m})
+	}
+	for _, s := range src.Trends.RollingADR {
+		if s.OperatorID == "" || s.OperatorID == subject {
+			d.Trends.RollingADR = append(d.Trends.RollingADR, s)
+		}
+	}
+	for _, p := range src.Details {
+		switch p.OperatorID {
+		case "":
+			u := PopulationDetail{}
+			if p.Optical != nil {
+				o := *p.Optical
+				o.PIVI1.Disagreements = nil
+				u.Optical = &o
+			}
+			d.Details = append(d.Details, u)
+		case subject:
+			d.Details = append(d.Details, p)
+		}
+	}
+	d.Completeness = src.Completeness
+	in.Data = d
+	names := in.Names
+	in.Names = map[string]string{}
+	if n := names[subject]; n != "" {
+		in.Names[subject] = n
+	}
+	return in
+}
+
+// orderOf returns the sort position of a relabelled operator.
+func orderOf(order map[string]int, label map[string]string, l string) int {
+	for id, lab := range label {
+		if lab == l {
+			return order[id]
+		}
+	}
+	return len(order)
+}
+
+// subjectResult returns the subject's indicators, if they have any
+// procedure in the period.
+func (d *doc) subjectResult() (OperatorResult, bool) {
+	for _, o := range d.in.Data.Metrics.Operators {
+		if o.OperatorID == d.in.SubjectID {
+			return o, true
+		}
+	}
+	return OperatorResult{}, false
+}
+
+// personalReport lays out one endoscopist's own report.
+func (d *doc) personalReport() {
+	d.cover()
+	me, ok := d.subjectResult()
+	if !ok {
+		d.noProcedures("by this endoscopist")
+		return
+	}
+	d.reserveContents()
+	d.newPage("Your figures: every indicator", true)
+	d.note("Your value beside the whole unit's. Verdicts in words and by shape: ● meets the target, ▼ below it, " +
+		"○ too few cases to judge, ■ reported without a target. Other endoscopists appear in this report only as " +
+		"anonymous peers.")
+	unit := d.in.Data.Metrics.Unit.Indicators
+	cols := []column{{"Indicator", 55, "L"}, {"Cases", 23, "R"}, {"Value", 19, "R"}, {"95% interval", 26, "R"},
+		{"Unit", 19, "R"}, {"Target", 16, "R"}, {"Verdict", 22, "L"}}
+	d.table(cols, groupedRows(me.Indicators, func(ind Indicator) []string {
+		u, _ := Find(unit, ind.ID)
+		v := verdictCell(ind.Status)
+		switch ind.Status {
+		case Reported:
+			v = "■ reported"
+		case TooFew:
+			v = "○ too few to judge"
+		}
+		return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v}
+	}))
+	d.newPage("Your trends by quarter", true)
+	for _, id := range []string{"adr", "cir", "withdrawal_negative"} {
+		d.trend(me.OperatorID, "you ("+me.OperatorID+")", id, 72)
+	}
+	d.funnels(me.OperatorID)
+	d.aidComparison()
+	d.optical()
+	d.adherence()
+}
+
+// traineeReport lays out a trainee's logbook.
+func (d *doc) traineeReport() {
+	d.cover()
+	var tr *TraineeResult
+	for i := range d.in.Data.Trainees {
+		if d.in.Data.Trainees[i].TraineeID == d.in.SubjectID {
+			tr = &d.in.Data.Trainees[i]
+		}
+	}
+	if tr == nil {
+		d.noProcedures("performed by this trainee")
+		return
+	}
+	d.newPage("Cases by supervision level", true)
+	var rows [][]string
+	for _, m := range tr.Months {
+		rows = append(rows, []string{m.Month, strconv.Itoa(m.Independent), strconv.Itoa(m.SupervisedHandsOn),
+			strconv.Itoa(m.SupervisedObserved), strconv.Itoa(m.Unrecorded), strconv.Itoa(m.Total), strconv.Itoa(m.Cumulative)})
+	}
+	d.table([]column{{"Month", 30, "L"}, {"Independent", 25, "R"}, {"Supervised, hands on", 32, "R"},
+		{"Supervised, observed", 32, "R"}, {"Not recorded", 21, "R"}, {"Total", 18, "R"}, {"Cumulative", 22, "R"}}, rows)
+	d.chart(80, func(o ChartOptions) ([]byte, error) { return TraineeCasesChart(tr.Months, o) }, ChartOptions{})
+
+	d.newPage("Learning curve: unassisted caecal intubation (CUSUM)", true)
+	c := tr.CUSUM
+	d.note("Each case where the trainee reached the caecum without the trainer taking over subtracts s; each case where " +
+		"they did not adds 1 − s. Cases without the outcome recorded are left out. " + c.Note)
+	if len(c.Points) == 0 {
+		d.para("No case in this period records whether the trainee reached the caecum unassisted, so no learning curve can be drawn.")
+	} else {
+		d.chart(95, func(o ChartOptions) ([]byte, error) { return CUSUMChart(c, o) }, ChartOptions{})
+	}
+	at := func(n int) string {
+		if n == 0 {
+			return "not reached in this period"
+		}
+		return fmt.Sprintf("at case %d", n)
+	}
+	d.keyValues([][2]string{
+		{"Acceptable failure rate p0", fmt.Sprintf("%.2f", c.Params.P0)},
+		{"Unacceptable failure rate p1", fmt.Sprintf("%.2f", c.Params.P1)},
+		{"Error rates α and β", fmt.Sprintf("α = %.2f, β = %.2f (a local choice: no colonoscopy paper fixes them)", c.Params.Alpha, c.Params.Beta)},
+		{"Step s", fmt.Sprintf("%.4f  (P = ln(p1/p0), Q = ln((1−p0)/(1−p1)), s = Q/(P+Q))", c.S)},
+		{"Decision limits", fmt.Sprintf("h0 = %.4f (crossing below −h0 suggests acceptable), h1 = %.4f (crossing above +h1 suggests unacceptable)", c.H0, c.H1)},
+		{"Cases with an outcome", strconv.Itoa(len(c.Points))},
+		{"Crossed −h0", at(c.AcceptableAt)},
+		{"Crossed +h1", at(c.UnacceptableAt)},
+	}, 55)
+
+	d.subheading("The trainee's own indicators", 40)
+	d.note("Over the cases the trainee performed (held the scope), whoever was the accountable endoscopist.")
+	var irows [][]string
+	for _, ind := range tr.Indicators {
+		irows = append(irows, indicatorRow(ind))
+	}
+	d.table(indicatorColumns(), irows)
+}
