@@ -6,6 +6,7 @@ package store_test
 
 import (
 	"context"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -45,13 +46,11 @@ func firstDifference(a, b string) string {
 			y = bl[i]
 		}
 		if x != y {
-			return "line " + itoa(i+1) + ":\n got  " + x + "\n want " + y
+			return "line " + strconv.Itoa(i+1) + ":\n got  " + x + "\n want " + y
 		}
 	}
 	return "no difference"
 }
-
-func itoa(n int) string { return logbook.FormatCount(n) }
 
 func TestRoundTripFixture(t *testing.T) {
 	s := openUnit(t)
