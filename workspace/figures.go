@@ -9,35 +9,13 @@ import (
 	"polypledger/store"
 )
 
-// Population chooses whose figures are looked at: the whole unit (both ids
-// empty), one accountable endoscopist, or one trainee (the cases the trainee
-// held the scope for).
-type Population struct {
-	OperatorID string
-	TraineeID  string
-}
-
-// Includes reports whether a case belongs to the population.
-func (p Population) Includes(c *logbook.Case) bool {
-	switch {
-	case p.TraineeID != "":
-		return c.TraineeID == p.TraineeID
-	case p.OperatorID != "":
-		return c.OperatorID == p.OperatorID
-	}
-	return true
-}
-
-// Figures is everything a scorecard shows for one period, computed in one
-// streaming pass: the indicators of the unit and every operator, their
-// quarterly trends and rolling ADR, every trainee's progress, and the
-// optical-diagnosis audit of the chosen population.
+// Figures is everything a scorecard or report shows for one period,
+// computed in one streaming pass (report.ReportPass): the indicators of the
+// unit and every operator with the optical-diagnosis and interval figures,
+// the quarterly trends, every trainee's progress and the data completeness.
 type Figures struct {
 	Guideline report.Guideline
-	Metrics   report.MetricsResult
-	Trends    report.TrendsResult
-	Trainees  []report.TraineeResult
-	Optical   report.OpticalDetail
+	Data      report.ReportData
 	// Cases is how many procedures of the period were read.
 	Cases int
 }
@@ -45,26 +23,18 @@ type Figures struct {
 // progressEvery is how many cases pass between progress reports.
 const progressEvery = 5000
 
-// ComputeFigures reads the period's cases once and feeds every accumulator a
-// scorecard needs. progress, when set, is called with the number of cases
-// read so far every few thousand cases; cancelling ctx stops the pass.
-func (a *Audit) ComputeFigures(ctx context.Context, from, to time.Time, g report.Guideline, pop Population, progress func(cases int)) (Figures, error) {
-	opt := report.MetricsOptions{From: from, To: to}
-	m := report.NewMetrics(a.Profile, report.MetricsOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
-	tr := report.NewTrends(a.Profile, opt)
-	tp, err := report.NewTraineeProgress(a.Profile, report.DefaultCUSUM(), opt)
+// ComputeFigures reads the period's cases once (both ends included; a zero
+// time leaves that end open) and feeds every accumulator a scorecard needs.
+// progress, when set, is called with the number of cases read so far every
+// few thousand cases; cancelling ctx stops the pass.
+func (a *Audit) ComputeFigures(ctx context.Context, from, to time.Time, g report.Guideline, progress func(cases int)) (Figures, error) {
+	pass, err := report.NewReportPass(a.Profile, report.ReportPassOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
 	if err != nil {
 		return Figures{}, err
 	}
-	oa := report.NewOpticalAudit(g, a.Eligibility())
 	n := 0
 	err = a.Store.ForEachCase(ctx, store.CaseFilter{From: from, To: to}, func(c *logbook.Case) error {
-		m.Add(c)
-		tr.Add(c)
-		tp.Add(c)
-		if pop.Includes(c) {
-			oa.Add(c)
-		}
+		pass.Add(c)
 		n++
 		if n%progressEvery == 0 {
 			if err := ctx.Err(); err != nil {
@@ -79,5 +49,13 @@ func (a *Audit) ComputeFigures(ctx context.Context, from, to time.Time, g report
 	if err != nil {
 		return Figures{}, err
 	}
-	return Figures{Guideline: g, Metrics: m.Result(), Trends: tr.Result(), Trainees: tp.Result(), Optical: oa.Detail(), Cases: n}, nil
+	return Figures{Guideline: g, Data: pass.Result(), Cases: n}, nil
+}
+
+// Population chooses whose figures are looked at: the whole unit (both ids
+// empty), one accountable endoscopist, or one trainee (the cases the trainee
+// held the scope for).
+type Population struct {
+	OperatorID string
+	TraineeID  string
 }

@@ -1,0 +1,163 @@
+package app
+
+import (
+	"testing"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/test"
+
+	"polypledger/logbook"
+	"polypledger/store"
+)
+
+// fillValidCase types a complete, valid case into the form.
+func fillValidCase(f *caseForm, id string) {
+	test.Type(f.id, id)
+	f.date.SetText("2026-11-02")
+	f.setOperator("E01")
+	test.Type(f.patient, "rx 4471")
+	f.age.SetText("58")
+	f.sex.Set(logbook.SexFemale)
+	f.indication.Set(logbook.Screening)
+	f.extent.Set(logbook.ExtentCaecum)
+	f.withdrawal.SetText("8:15")
+	for i, v := range []string{"3", "2", "2"} {
+		f.bbps[i].SetSelected(v)
+	}
+}
+
+func TestEntryValidationAndSave(t *testing.T) {
+	u := newTestUI(t, 50)
+	u.win.SetContent(u.form.content)
+	u.win.Resize(fyne.NewSize(1200, 900))
+	f := u.form
+
+	// An empty form cannot be saved and says what is missing beside each field.
+	if !f.save.Disabled() {
+		t.Fatal("Save is enabled on an empty form")
+	}
+	for _, field := range []string{"procedure_id", "operator_id", "age", "sex", "indication", "extent"} {
+		if got := f.fields.message(field); got != "is required" {
+			t.Errorf("message beside %s = %q, want %q", field, got, "is required")
+		}
+	}
+
+	fillValidCase(f, "NEW-1")
+	if f.save.Disabled() {
+		t.Fatalf("Save stays disabled on a valid case: %v", f.problems)
+	}
+	if got, want := f.bbpsTotal.Text, "Total 7 of 9 – adequate (every segment 2 or more)"; got != want {
+		t.Errorf("Boston total = %q, want %q", got, want)
+	}
+
+	// Values the import would refuse are refused here with the same words.
+	tests := []struct {
+		name, field string
+		set, undo   func()
+	}{
+		{"age not a number", "age", func() { f.age.SetText("fifty") }, func() { f.age.SetText("58") }},
+		{"age out of range", "age", func() { f.age.SetText("12") }, func() { f.age.SetText("58") }},
+		{"withdrawal not m:ss", "withdrawal_seconds", func() { f.withdrawal.SetText("7:75") }, func() { f.withdrawal.SetText("8:15") }},
+		{"date in the future", "performed_on", func() { f.date.SetText("2027-01-01") }, func() { f.date.SetText("2026-11-02") }},
+		{"photo with incomplete extent", "caecal_photo", func() {
+			f.extent.Set(logbook.ExtentIncomplete)
+			f.photo.Set(logbook.Yes)
+		}, func() {
+			f.extent.Set(logbook.ExtentCaecum)
+			f.photo.Set(logbook.Unrecorded)
+		}},
+	}
+	for _, tc := range tests {
+		tc.set()
+		if f.fields.message(tc.field) == "" {
+			t.Errorf("%s: no message beside %s", tc.name, tc.field)
+		}
+		if !f.save.Disabled() {
+			t.Errorf("%s: Save is enabled", tc.name)
+		}
+		tc.undo()
+		if f.save.Disabled() {
+			t.Errorf("%s: Save stays disabled after the fix: %v", tc.name, f.problems)
+		}
+	}
+
+	// A lesion added through the list is saved with the case.
+	f.lesions = append(f.lesions, logbook.Lesion{LesionNo: 1, Segment: logbook.Sigmoid, SizeMM: 4,
+		Resection: logbook.ColdSnare, Retrieved: logbook.Yes, SentToPathology: logbook.Yes, Histology: logbook.HistPending})
+	f.changed()
+
+	// Enter in a field saves.
+	f.age.TypedKey(&fyne.KeyEvent{Name: fyne.KeyReturn})
+	c, err := u.st.Case(u.ctx, "NEW-1")
+	if err != nil {
+		t.Fatalf("the case was not saved: %v", err)
+	}
+	want, _ := u.st.Pseudonymise("RX 4471")
+	if c.PatientKey != want {
+		t.Errorf("stored patient key = %q, want the pseudonym of the hospital number", c.PatientKey)
+	}
+	if c.Age != 58 || c.WithdrawalSeconds != 495 || c.BBPSTotal() != 7 || len(c.Lesions) != 1 {
+		t.Errorf("stored case = age %d, withdrawal %d s, BBPS %d, %d lesions", c.Age, c.WithdrawalSeconds, c.BBPSTotal(), len(c.Lesions))
+	}
+	if f.id.Text != "" || f.operatorValue() != "E01" || f.date.Text != "2026-11-02" {
+		t.Errorf("after saving, the form should be ready for the next case of the same list")
+	}
+
+	// Editing shows the short code only, never the hospital number.
+	f.edit(c)
+	if f.patient.Text != "" || f.patientCode.Text != "Kept as "+logbook.ShortCode(c.PatientKey) {
+		t.Errorf("edit shows patient %q / %q", f.patient.Text, f.patientCode.Text)
+	}
+	f.age.SetText("59")
+	test.Tap(f.save)
+	if c, _ = u.st.Case(u.ctx, "NEW-1"); c.Age != 59 || c.PatientKey != want {
+		t.Errorf("edited case: age %d, key kept %v", c.Age, c.PatientKey == want)
+	}
+
+	// A duplicate id is refused by the store and shown beside the id.
+	fillValidCase(f, "NEW-1")
+	f.submit()
+	if got := f.fields.message("procedure_id"); got == "" {
+		t.Error("a duplicate procedure id gave no message beside the field")
+	}
+
+	// Deleting is recorded in the change log.
+	f.edit(c)
+	f.deleteNow("NEW-1")
+	if _, err := u.st.Case(u.ctx, "NEW-1"); err == nil {
+		t.Error("the case is still there after delete")
+	}
+	log, err := u.st.ChangeLog(u.ctx, 1)
+	if err != nil || len(log) != 1 || log[0].Action != "delete" || log[0].Record != "procedure NEW-1" {
+		t.Errorf("change log after delete = %+v, %v", log, err)
+	}
+	if n, _ := u.st.CountProcedures(u.ctx, store.ListQuery{}); n != 50 {
+		t.Errorf("procedures after delete = %d, want 50", n)
+	}
+}
+
+func TestLesionEditorValidates(t *testing.T) {
+	u := newTestUI(t, 0)
+	l := logbook.NewLesion()
+	l.LesionNo = 1
+	e := newLesionEditor(u, l)
+	if !e.keep.Disabled() {
+		t.Fatal("an empty lesion can be kept")
+	}
+	e.segment.Set(logbook.Rectum)
+	e.size.SetText("3")
+	e.optical.Set(logbook.OpticalUncertain)
+	e.confidence.Set(logbook.HighConfidence)
+	if e.fields.message("confidence") == "" || !e.keep.Disabled() {
+		t.Error("an uncertain call with high confidence is accepted")
+	}
+	e.confidence.Set(logbook.LowConfidence)
+	e.retrieved.Set(logbook.Yes)
+	e.sent.Set(logbook.Yes)
+	if e.histology.Value() != logbook.HistPending {
+		t.Errorf("a specimen sent starts as %q, want pending", e.histology.Value())
+	}
+	if e.keep.Disabled() {
+		t.Errorf("a valid lesion cannot be kept: %v", e.problems)
+	}
+}

@@ -1,0 +1,350 @@
+package app
+
+import (
+	"fmt"
+	"strings"
+	"sync"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/widget"
+
+	"polypledger/logbook"
+	"polypledger/store"
+)
+
+// listPageSize is how many procedures one query of the case list reads.
+const listPageSize = 100
+
+// listPagesKept is how many pages the case list keeps; the rest are read
+// again when scrolled back to, so memory stays small on any database.
+const listPagesKept = 12
+
+// listColumn is one column of the case list.
+type listColumn struct {
+	title string
+	sort  string // store.ListQuery.SortBy, "" when not sortable
+	width float32
+	text  func(r *store.ProcedureRow) string
+}
+
+var listColumns = []listColumn{
+	{"Date", "performed_on", 100, func(r *store.ProcedureRow) string { return logbook.FormatDate(r.Procedure.PerformedOn) }},
+	{"Case", "id", 110, func(r *store.ProcedureRow) string { return r.Procedure.ID }},
+	{"Endoscopist", "operator_id", 110, func(r *store.ProcedureRow) string { return r.Procedure.OperatorID }},
+	{"Trainee", "", 80, func(r *store.ProcedureRow) string { return r.Procedure.TraineeID }},
+	{"Patient", "", 130, func(r *store.ProcedureRow) string { return logbook.ShortCode(r.Procedure.PatientKey) }},
+	{"Age", "age", 55, func(r *store.ProcedureRow) string { return logbook.FormatCount(r.Procedure.Age) }},
+	{"Sex", "", 45, func(r *store.ProcedureRow) string { return string(r.Procedure.Sex) }},
+	{"Reason", "indication", 220, func(r *store.ProcedureRow) string { return indicationWords[r.Procedure.Indication] }},
+	{"Reached", "extent", 170, func(r *store.ProcedureRow) string { return extentWords[r.Procedure.Extent] }},
+	{"Withdrawal", "", 90, func(r *store.ProcedureRow) string { return logbook.FormatMinSec(r.Procedure.WithdrawalSeconds) }},
+	{"Boston", "", 65, func(r *store.ProcedureRow) string {
+		if !r.Procedure.BBPSRecorded() {
+			return ""
+		}
+		return fmt.Sprint(r.Procedure.BBPSTotal())
+	}},
+	{"Lesions", "", 65, func(r *store.ProcedureRow) string { return fmt.Sprint(r.Lesions) }},
+	{"Histology awaited", "", 150, func(r *store.ProcedureRow) string {
+		if r.AwaitingHist == 0 {
+			return ""
+		}
+		return fmt.Sprintf("%d lesion(s)", r.AwaitingHist)
+	}},
+}
+
+// caseList is the "Cases" screen: every procedure in a table that reads one
+// page at a time, with filters and sortable columns.
+type caseList struct {
+	u *ui
+
+	from, to    *widget.Entry
+	operator    *widget.Select
+	operatorIDs []string
+	indication  *choice[logbook.Indication]
+	pending     *widget.Check
+	countLabel  *widget.Label
+	table       *widget.Table
+	content     fyne.CanvasObject
+
+	mu      sync.Mutex // guards query, pages, loading, gen and count
+	query   store.ListQuery
+	pages   map[int][]store.ProcedureRow
+	loading map[int]bool
+	gen     int
+	count   int
+}
+
+func newCaseList(u *ui) *caseList {
+	l := &caseList{u: u, pages: map[int][]store.ProcedureRow{}, loading: map[int]bool{}}
+	l.query.SortBy, l.query.Descending = "performed_on", true
+	apply := func() { l.applyFilters() }
+	l.from = submitEntry("from YYYY-MM-DD", apply, nil)
+	l.to = submitEntry("to YYYY-MM-DD", apply, nil)
+	l.operator = widget.NewSelect(nil, func(string) { apply() })
+	l.indication = newChoice(logbook.Indications, indicationWords, false, apply)
+	l.indication.PlaceHolder = "any reason"
+	clearReason := widget.NewButton("Any reason", func() { l.indication.ClearSelected(); apply() })
+	l.pending = widget.NewCheck("Only cases awaiting histology", func(bool) { apply() })
+	l.countLabel = widget.NewLabel("")
+	l.refreshRoster()
+
+	l.table = widget.NewTableWithHeaders(
+		func() (int, int) {
+			l.mu.Lock()
+			defer l.mu.Unlock()
+			return l.count, len(listColumns)
+		},
+		func() fyne.CanvasObject {
+			t := widget.NewLabel("")
+			t.Truncation = fyne.TextTruncateEllipsis
+			return t
+		},
+		func(id widget.TableCellID, o fyne.CanvasObject) { o.(*widget.Label).SetText(l.cellText(id)) })
+	l.table.ShowHeaderColumn = false
+	l.table.CreateHeader = func() fyne.CanvasObject { return widget.NewButton("", nil) }
+	l.table.UpdateHeader = func(id widget.TableCellID, o fyne.CanvasObject) {
+		b := o.(*widget.Button)
+		if id.Col < 0 || id.Col >= len(listColumns) {
+			return
+		}
+		c := listColumns[id.Col]
+		b.SetText(l.headerText(c))
+		b.OnTapped = func() { l.sortBy(c.sort) }
+		if c.sort == "" {
+			b.Disable()
+		} else {
+			b.Enable()
+		}
+	}
+	for i, c := range listColumns {
+		l.table.SetColumnWidth(i, c.width)
+	}
+	l.table.OnSelected = func(id widget.TableCellID) {
+		l.table.UnselectAll()
+		if r, ok := l.rowAt(id.Row); ok {
+			l.open(r.Procedure.ID)
+		}
+	}
+	help := widget.NewLabel("Click a case to open it. Click a column title to sort.")
+	help.Importance = widget.LowImportance
+	filters := container.NewHBox(widget.NewLabel("Period"), sized(l.from, 130), sized(l.to, 130),
+		widget.NewLabel("Endoscopist"), sized(l.operator, 240),
+		widget.NewLabel("Reason"), sized(l.indication, 240), clearReason)
+	l.content = container.NewBorder(container.NewVBox(filters, container.NewHBox(l.pending, l.countLabel, help)), nil, nil, nil, l.table)
+	return l
+}
+
+// sized gives an object a fixed minimum width inside a row.
+func sized(o fyne.CanvasObject, w float32) fyne.CanvasObject {
+	return container.NewGridWrap(fyne.NewSize(w, o.MinSize().Height), o)
+}
+
+func (l *caseList) headerText(c listColumn) string {
+	l.mu.Lock()
+	q := l.query
+	l.mu.Unlock()
+	if c.sort != "" && c.sort == q.SortBy {
+		if q.Descending {
+			return c.title + " ▼"
+		}
+		return c.title + " ▲"
+	}
+	return c.title
+}
+
+// refreshRoster offers the roster's endoscopists and trainees as filters.
+func (l *caseList) refreshRoster() {
+	opts := []string{"Everyone"}
+	l.operatorIDs = []string{""}
+	for _, r := range l.u.roster {
+		if r.Role == logbook.RoleEndoscopist {
+			opts = append(opts, l.u.rosterLabel(r.ID))
+			l.operatorIDs = append(l.operatorIDs, r.ID)
+		}
+	}
+	sel := l.operator.SelectedIndex()
+	l.operator.Options = opts
+	if sel < 0 || sel >= len(opts) {
+		sel = 0
+	}
+	l.operator.SetSelectedIndex(sel)
+}
+
+// applyFilters reads the filter widgets into the query; bad dates are
+// pointed out and not applied.
+func (l *caseList) applyFilters() {
+	if l.countLabel == nil || l.table == nil {
+		return
+	}
+	from, err1 := logbook.ParseDate(strings.TrimSpace(l.from.Text))
+	to, err2 := logbook.ParseDate(strings.TrimSpace(l.to.Text))
+	if err1 != nil || err2 != nil {
+		l.countLabel.SetText("Dates are written YYYY-MM-DD.")
+		return
+	}
+	l.mu.Lock()
+	q := l.query
+	q.From, q.To = from, to
+	q.OperatorID = ""
+	if i := l.operator.SelectedIndex(); i > 0 && i < len(l.operatorIDs) {
+		q.OperatorID = l.operatorIDs[i]
+	}
+	q.Indication = l.indication.Value()
+	q.HistologyPending = l.pending.Checked
+	l.query = q
+	l.mu.Unlock()
+	l.invalidate()
+	l.reload()
+}
+
+func (l *caseList) sortBy(col string) {
+	if col == "" {
+		return
+	}
+	l.mu.Lock()
+	if l.query.SortBy == col {
+		l.query.Descending = !l.query.Descending
+	} else {
+		l.query.SortBy, l.query.Descending = col, false
+	}
+	l.mu.Unlock()
+	l.invalidate()
+	l.reload()
+}
+
+// invalidate forgets every page read so far.
+func (l *caseList) invalidate() {
+	l.mu.Lock()
+	l.gen++
+	l.pages = map[int][]store.ProcedureRow{}
+	l.loading = map[int]bool{}
+	l.mu.Unlock()
+}
+
+// reload counts the selected procedures again and redraws the table.
+func (l *caseList) reload() {
+	l.mu.Lock()
+	q, gen := l.query, l.gen
+	l.mu.Unlock()
+	var n int
+	l.u.jobs.background(func() (err error) {
+		n, err = l.u.st.CountProcedures(l.u.ctx, q)
+		return err
+	}, func(err error) {
+		if err != nil {
+			l.countLabel.SetText("The list could not be read: " + err.Error())
+			return
+		}
+		l.mu.Lock()
+		if gen != l.gen {
+			l.mu.Unlock()
+			return
+		}
+		l.count = n
+		l.mu.Unlock()
+		l.countLabel.SetText(fmt.Sprintf("%d cases.", n))
+		l.table.Refresh()
+	})
+}
+
+// rowAt returns row i if its page has been read.
+func (l *caseList) rowAt(i int) (store.ProcedureRow, bool) {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	p := l.pages[i/listPageSize]
+	if k := i % listPageSize; k < len(p) {
+		return p[k], true
+	}
+	return store.ProcedureRow{}, false
+}
+
+// cellText returns a cell's text, asking for its page when not yet read.
+func (l *caseList) cellText(id widget.TableCellID) string {
+	r, ok := l.rowAt(id.Row)
+	if !ok {
+		l.request(id.Row / listPageSize)
+		return "…"
+	}
+	return listColumns[id.Col].text(&r)
+}
+
+// request reads a page in the background, once.
+func (l *caseList) request(page int) {
+	l.mu.Lock()
+	if l.loading[page] {
+		l.mu.Unlock()
+		return
+	}
+	l.loading[page] = true
+	q, gen := l.query, l.gen
+	l.mu.Unlock()
+	q.Limit, q.Offset = listPageSize, page*listPageSize
+	var rows []store.ProcedureRow
+	l.u.jobs.background(func() (err error) {
+		rows, err = l.u.st.ListProcedures(l.u.ctx, q)
+		return err
+	}, func(err error) {
+		l.mu.Lock()
+		if gen != l.gen {
+			l.mu.Unlock()
+			return
+		}
+		if err != nil {
+			delete(l.loading, page)
+			l.mu.Unlock()
+			l.countLabel.SetText("The list could not be read: " + err.Error())
+			return
+		}
+		l.pages[page] = rows
+		for len(l.pages) > listPagesKept {
+			far, dist := -1, -1
+			for k := range l.pages {
+				if d := abs(k - page); d > dist {
+					far, dist = k, d
+				}
+			}
+			delete(l.pages, far)
+			delete(l.loading, far)
+		}
+		l.mu.Unlock()
+		l.table.Refresh()
+	})
+}
+
+func abs(x int) int {
+	if x < 0 {
+		return -x
+	}
+	return x
+}
+
+// open loads a case into the entry screen.
+func (l *caseList) open(id string) {
+	c, err := l.u.st.Case(l.u.ctx, id)
+	if err != nil {
+		dialog.ShowError(err, l.u.win)
+		return
+	}
+	l.u.form.edit(c)
+	l.u.tabs.SelectIndex(1)
+}
+
+// visibleIDs returns the procedure ids of the rows read so far, in order
+// (tests).
+func (l *caseList) visibleIDs() []string {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	var ids []string
+	for p := 0; ; p++ {
+		rows, ok := l.pages[p]
+		if !ok {
+			return ids
+		}
+		for _, r := range rows {
+			ids = append(ids, r.Procedure.ID)
+		}
+	}
+}

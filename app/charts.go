@@ -1,0 +1,89 @@
+package app
+
+import (
+	"polypledger/report"
+	"polypledger/workspace"
+)
+
+// chartOptions is the size the scorecard draws its charts at.
+var chartOptions = report.ChartOptions{WidthMM: 160, HeightMM: 90, DPI: 96}
+
+// scorecardCharts draws the charts of one population with the report's
+// own chart functions: for the unit or an endoscopist the quarterly ADR
+// trend, the ADR funnel and the detection-aid comparison; for a trainee the
+// cases by supervision and the CUSUM learning curve.
+func scorecardCharts(figs workspace.Figures, prof *report.Profile, pop workspace.Population) []chartImage {
+	var out []chartImage
+	add := func(name string, png []byte, err error) {
+		out = append(out, chartImage{name: name, png: png, err: err})
+	}
+	if pop.TraineeID != "" {
+		for _, t := range figs.Data.Trainees {
+			if t.TraineeID != pop.TraineeID {
+				continue
+			}
+			png, err := report.TraineeCasesChart(t.Months, chartOptions)
+			add("trainee-cases", png, err)
+			png, err = report.CUSUMChart(t.CUSUM, chartOptions)
+			add("cusum", png, err)
+		}
+		return out
+	}
+	name := "unit"
+	if pop.OperatorID != "" {
+		name = pop.OperatorID
+	}
+	td := report.TrendData{IndicatorID: "adr", Name: name}
+	for _, q := range figs.Data.Trends.Quarters {
+		inds := q.Metrics.Unit.Indicators
+		if pop.OperatorID != "" {
+			inds = nil
+			for _, o := range q.Metrics.Operators {
+				if o.OperatorID == pop.OperatorID {
+					inds = o.Indicators
+				}
+			}
+			unit, _ := report.Find(q.Metrics.Unit.Indicators, "adr")
+			td.ComparisonName = "unit"
+			td.Comparison = append(td.Comparison, report.TrendPoint{Label: q.Quarter, Indicator: unit})
+		}
+		ind, ok := report.Find(inds, "adr")
+		if !ok {
+			ind = report.Indicator{ID: "adr", Status: report.TooFew}
+		}
+		td.Points = append(td.Points, report.TrendPoint{Label: q.Quarter, Indicator: ind})
+	}
+	png, err := report.TrendChart(td, chartOptions)
+	add("trend", png, err)
+
+	if f, err := report.NewFunnel(figs.Data.Metrics, "adr"); err == nil {
+		var target *float64
+		if t := prof.Target("adr"); t != nil {
+			target = t.Minimum
+		}
+		opt := chartOptions
+		opt.Highlight = pop.OperatorID
+		png, err := report.FunnelChart(report.FunnelData{Funnel: f, Target: target}, opt)
+		add("funnel", png, err)
+	} else {
+		add("funnel", nil, err)
+	}
+
+	for _, c := range report.AidComparisons(figs.Data.Metrics) {
+		if c.OperatorID != pop.OperatorID {
+			continue
+		}
+		fd := report.ForestData{IndicatorID: "adr", Rows: []report.ForestRow{
+			{Label: "with computer aid", Indicator: c.With},
+			{Label: "without", Indicator: c.Without},
+		}, ReferenceLabel: "ADR target"}
+		if t := prof.Target("adr"); t != nil {
+			fd.Reference = t.Minimum
+		}
+		opt := chartOptions
+		opt.Title = "ADR with and without computer-aided detection (difference " + report.FormatValue(c.Difference) + ")"
+		png, err := report.ForestChart(fd, opt)
+		add("aid", png, err)
+	}
+	return out
+}

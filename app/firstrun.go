@@ -1,0 +1,256 @@
+package app
+
+import (
+	"context"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/widget"
+
+	"polypledger/logbook"
+	"polypledger/store"
+	"polypledger/workspace"
+)
+
+// firstRun is the screen shown when there is no database yet: where the
+// file will be, and the choice between an invented demo unit and an empty
+// unit of one's own.
+type firstRun struct {
+	u        *ui
+	path     *widget.Entry
+	problem  *widget.Label
+	demoSize *widget.Entry
+	unitName *widget.Entry
+	roster   []logbook.RosterEntry
+	rosterUI *fyne.Container
+	newID    *widget.Entry
+	newName  *widget.Entry
+	newRole  *choice[logbook.Role]
+}
+
+// showFirstRun shows the first-run choices for path; problem, when not
+// empty, says why the file could not be opened.
+func (u *ui) showFirstRun(path, problem string) {
+	fr := &firstRun{u: u}
+	fr.path = widget.NewEntry()
+	fr.path.SetText(path)
+	choose := widget.NewButton("Choose another place…", func() {
+		d := dialog.NewFileSave(func(w fyne.URIWriteCloser, err error) {
+			if err != nil || w == nil {
+				return
+			}
+			p := w.URI().Path()
+			w.Close()
+			os.Remove(p) // the dialog creates the file; the store creates its own
+			fr.path.SetText(p)
+		}, u.win)
+		d.SetFileName(filepath.Base(path))
+		d.Show()
+	})
+	openOther := widget.NewButton("Open an existing database…", func() {
+		dialog.ShowFileOpen(func(r fyne.URIReadCloser, err error) {
+			if err != nil || r == nil {
+				return
+			}
+			p := r.URI().Path()
+			r.Close()
+			fr.path.SetText(p)
+			fr.openExisting()
+		}, u.win)
+	})
+	fr.problem = widget.NewLabel(problem)
+	fr.problem.Importance = widget.DangerImportance
+	fr.problem.Wrapping = fyne.TextWrapWord
+	if problem != "" {
+		fr.problem.SetText("This database could not be opened: " + problem)
+	}
+
+	fr.demoSize = widget.NewEntry()
+	fr.demoSize.SetText("4000")
+	demoBtn := widget.NewButton("Open a demo unit", fr.makeDemo)
+	demoBtn.Importance = widget.HighImportance
+	demoText := widget.NewLabel("A made-up unit with eight endoscopists, two trainees and two years of invented cases, to try every screen. None of it is real patient data.")
+	demoText.Wrapping = fyne.TextWrapWord
+	demoBox := container.NewVBox(
+		widget.NewLabelWithStyle("Try it with invented data", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		demoText,
+		container.NewBorder(nil, nil, widget.NewLabel("Number of cases"), nil, fr.demoSize),
+		demoBtn)
+
+	fr.unitName = widget.NewEntry()
+	fr.unitName.SetPlaceHolder("e.g. Riverside Hospital Endoscopy")
+	fr.newID = widget.NewEntry()
+	fr.newID.SetPlaceHolder("short id, e.g. E01")
+	fr.newName = widget.NewEntry()
+	fr.newName.SetPlaceHolder("name as it appears on reports")
+	fr.newRole = newChoice(logbook.Roles, roleWords, false, nil)
+	fr.newRole.Set(logbook.RoleEndoscopist)
+	fr.rosterUI = container.NewVBox()
+	add := widget.NewButton("Add to the roster", fr.addPerson)
+	fr.newName.OnSubmitted = func(string) { fr.addPerson() }
+	create := widget.NewButton("Start an empty unit", fr.makeEmpty)
+	create.Importance = widget.HighImportance
+	emptyBox := container.NewVBox(
+		widget.NewLabelWithStyle("Start your own unit", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		container.NewBorder(nil, nil, widget.NewLabel("Unit name"), nil, fr.unitName),
+		widget.NewLabel("Who performs or learns colonoscopy here (you can add more later):"),
+		fr.rosterUI,
+		container.NewGridWithColumns(4, fr.newID, fr.newName, fr.newRole, add),
+		create)
+	fr.showRoster()
+
+	title := widget.NewLabelWithStyle("Welcome to polypledger", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
+	intro := widget.NewLabel("There is no logbook database here yet. It will be kept in this file:")
+	body := container.NewVBox(title, intro,
+		container.NewBorder(nil, nil, nil, container.NewHBox(choose, openOther), fr.path),
+		fr.problem,
+		widget.NewSeparator(),
+		container.NewGridWithColumns(2, widget.NewCard("", "", demoBox), widget.NewCard("", "", emptyBox)))
+	u.win.SetContent(container.NewVScroll(container.NewPadded(body)))
+}
+
+func (fr *firstRun) showRoster() {
+	fr.rosterUI.RemoveAll()
+	if len(fr.roster) == 0 {
+		l := widget.NewLabel("Nobody yet.")
+		l.Importance = widget.LowImportance
+		fr.rosterUI.Add(l)
+	}
+	for i, r := range fr.roster {
+		i := i
+		fr.rosterUI.Add(container.NewBorder(nil, nil, nil, widget.NewButton("Remove", func() {
+			fr.roster = append(fr.roster[:i:i], fr.roster[i+1:]...)
+			fr.showRoster()
+		}), widget.NewLabel(fmt.Sprintf("%s – %s (%s)", r.ID, r.Name, strings.ToLower(roleWords[r.Role])))))
+	}
+}
+
+func (fr *firstRun) addPerson() {
+	r := logbook.RosterEntry{ID: strings.TrimSpace(fr.newID.Text), Name: strings.TrimSpace(fr.newName.Text), Role: fr.newRole.Value()}
+	if ps := logbook.ValidateRosterEntry(r); len(ps) > 0 {
+		fr.problem.SetText("Roster: " + ps[0].Error())
+		return
+	}
+	for _, x := range fr.roster {
+		if x.ID == r.ID {
+			fr.problem.SetText("Roster: " + r.ID + " is already on the list")
+			return
+		}
+	}
+	fr.problem.SetText("")
+	fr.roster = append(fr.roster, r)
+	fr.newID.SetText("")
+	fr.newName.SetText("")
+	fr.showRoster()
+	fr.u.win.Canvas().Focus(fr.newID)
+}
+
+// target returns the chosen path if no file is there yet.
+func (fr *firstRun) target() (string, bool) {
+	p := strings.TrimSpace(fr.path.Text)
+	if p == "" {
+		fr.problem.SetText("Say where the database file should be kept.")
+		return "", false
+	}
+	if _, err := os.Stat(p); err == nil {
+		fr.problem.SetText(p + " already exists; open it, or choose another place for a new unit.")
+		return "", false
+	}
+	return p, true
+}
+
+func (fr *firstRun) openExisting() {
+	p := strings.TrimSpace(fr.path.Text)
+	if err := fr.u.open(p); err != nil {
+		fr.problem.SetText("This database could not be opened: " + err.Error())
+	}
+}
+
+// makeDemo creates the invented demo unit at the chosen path.
+func (fr *firstRun) makeDemo() {
+	p, ok := fr.target()
+	if !ok {
+		return
+	}
+	n, err := strconv.Atoi(strings.TrimSpace(fr.demoSize.Text))
+	if err != nil || n < 1 || n > 2_000_000 {
+		fr.problem.SetText("The number of cases must be a whole number from 1 to 2000000.")
+		return
+	}
+	fr.u.jobs.run("Making the demo unit", func(ctx context.Context, report progressFunc) error {
+		st, err := workspace.OpenStore(ctx, p, true)
+		if err != nil {
+			return err
+		}
+		_, err = workspace.CreateDemo(ctx, st, n, 1, func(done int) {
+			report(float64(done)/float64(n), fmt.Sprintf("%d of %d invented cases", done, n))
+		})
+		if cerr := st.Close(); err == nil {
+			err = cerr
+		}
+		if err != nil {
+			removeDatabase(p)
+		}
+		return err
+	}, func(err error) {
+		switch {
+		case cancelled(err):
+			fr.problem.SetText("Stopped; nothing was kept.")
+		case err != nil:
+			fr.problem.SetText("The demo unit could not be made: " + err.Error())
+		default:
+			if err := fr.u.open(p); err != nil {
+				fr.problem.SetText(err.Error())
+			}
+		}
+	})
+}
+
+// makeEmpty creates a new unit with its name and roster.
+func (fr *firstRun) makeEmpty() {
+	p, ok := fr.target()
+	if !ok {
+		return
+	}
+	name := strings.TrimSpace(fr.unitName.Text)
+	if name == "" {
+		fr.problem.SetText("Give the unit a name; it is printed on every report.")
+		return
+	}
+	st, err := workspace.OpenStore(fr.u.ctx, p, true)
+	if err == nil {
+		s := store.DefaultSettings
+		s.UnitName = name
+		err = st.SaveSettings(fr.u.ctx, s)
+		for _, r := range fr.roster {
+			if err == nil {
+				err = st.SaveRosterEntry(fr.u.ctx, r)
+			}
+		}
+		if cerr := st.Close(); err == nil {
+			err = cerr
+		}
+	}
+	if err != nil {
+		removeDatabase(p)
+		fr.problem.SetText("The unit could not be created: " + err.Error())
+		return
+	}
+	if err := fr.u.open(p); err != nil {
+		fr.problem.SetText(err.Error())
+	}
+}
+
+// removeDatabase deletes a database file this screen created and its
+// journals.
+func removeDatabase(path string) {
+	for _, suffix := range []string{"", "-wal", "-shm"} {
+		os.Remove(path + suffix)
+	}
+}

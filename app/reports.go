@@ -1,0 +1,233 @@
+package app
+
+import (
+	"context"
+	"fmt"
+	"net/url"
+	"path/filepath"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/widget"
+
+	"polypledger/logbook"
+	"polypledger/report"
+	"polypledger/workspace"
+)
+
+// reportKinds are the reports offered, in plain words.
+var reportKinds = []struct {
+	kind  report.ReportKind
+	words string
+}{
+	{report.UnitReport, "Unit audit (every endoscopist)"},
+	{report.PersonalReport, "Personal report for one endoscopist"},
+	{report.TraineeReport, "Trainee logbook"},
+}
+
+// reportScreen is the "Reports" screen: choose the kind, period, standard
+// and person, then where to save; the report is made off the UI thread and
+// its path shown with a button to open it.
+type reportScreen struct {
+	u        *ui
+	kind     *widget.Select
+	period   *periodPicker
+	standard *widget.Select
+	person   *widget.Select
+	personID []string
+	make     *widget.Button
+	result   *widget.Label
+	openBtn  *widget.Button
+	saved    string
+	content  fyne.CanvasObject
+}
+
+func newReportScreen(u *ui) *reportScreen {
+	r := &reportScreen{u: u}
+	var kinds []string
+	for _, k := range reportKinds {
+		kinds = append(kinds, k.words)
+	}
+	r.kind = widget.NewSelect(kinds, func(string) { r.refreshPeople() })
+	r.period = newPeriodPicker(u)
+	r.standard = widget.NewSelect(nil, nil)
+	r.person = widget.NewSelect(nil, nil)
+	r.make = widget.NewButton("Make the report…", r.chooseFile)
+	r.make.Importance = widget.HighImportance
+	r.result = widget.NewLabel("")
+	r.result.Wrapping = fyne.TextWrapWord
+	r.openBtn = widget.NewButton("Open the report", r.openSaved)
+	r.openBtn.Hide()
+	r.refreshChoices()
+	r.kind.SetSelectedIndex(0)
+	form := widget.NewForm(
+		widget.NewFormItem("Kind of report", r.kind),
+		widget.NewFormItem("Period", r.period.content),
+		widget.NewFormItem("Standard", r.standard),
+		widget.NewFormItem("For", r.person),
+	)
+	note := widget.NewLabel("A personal report shows everyone else only as anonymous peers. " + report.AuditCaution())
+	note.Wrapping = fyne.TextWrapWord
+	note.Importance = widget.LowImportance
+	r.content = container.NewVBox(heading("Make a PDF report"), form, container.NewHBox(r.make), r.result, container.NewHBox(r.openBtn), note)
+	return r
+}
+
+// shown is called when the screen is opened.
+func (r *reportScreen) shown() {}
+
+func (r *reportScreen) kindValue() report.ReportKind {
+	if i := r.kind.SelectedIndex(); i >= 0 {
+		return reportKinds[i].kind
+	}
+	return report.UnitReport
+}
+
+// refreshChoices offers the profiles and the people.
+func (r *reportScreen) refreshChoices() {
+	var stds []string
+	def := 0
+	for i, p := range r.u.profiles {
+		stds = append(stds, p.Title)
+		if p.ID == r.u.settings.DefaultStandard {
+			def = i
+		}
+	}
+	sel := r.standard.SelectedIndex()
+	r.standard.SetOptions(stds)
+	if sel < 0 {
+		sel = def
+	}
+	r.standard.SetSelectedIndex(sel)
+	r.refreshPeople()
+}
+
+// refreshPeople offers endoscopists or trainees as the kind needs.
+func (r *reportScreen) refreshPeople() {
+	if r.person == nil {
+		return
+	}
+	want := logbook.RoleEndoscopist
+	switch r.kindValue() {
+	case report.UnitReport:
+		r.person.SetOptions([]string{"The whole unit"})
+		r.personID = []string{""}
+		r.person.SetSelectedIndex(0)
+		r.person.Disable()
+		return
+	case report.TraineeReport:
+		want = logbook.RoleTrainee
+	}
+	r.person.Enable()
+	var opts []string
+	r.personID = nil
+	for _, p := range r.u.roster {
+		if p.Role == want {
+			opts = append(opts, r.u.rosterLabel(p.ID))
+			r.personID = append(r.personID, p.ID)
+		}
+	}
+	r.person.SetOptions(opts)
+	if len(opts) > 0 {
+		r.person.SetSelectedIndex(0)
+	} else {
+		r.person.ClearSelected()
+	}
+}
+
+// request reads the screen's choices.
+func (r *reportScreen) request() (workspace.ReportRequest, *report.Profile, error) {
+	from, to, err := r.period.read()
+	if err != nil {
+		return workspace.ReportRequest{}, nil, err
+	}
+	i := r.standard.SelectedIndex()
+	if i < 0 || i >= len(r.u.profiles) {
+		return workspace.ReportRequest{}, nil, fmt.Errorf("choose a standard")
+	}
+	req := workspace.ReportRequest{Kind: r.kindValue(), From: from, To: to, Now: r.u.now()}
+	if req.Kind != report.UnitReport {
+		j := r.person.SelectedIndex()
+		if j < 0 || j >= len(r.personID) {
+			return req, nil, fmt.Errorf("choose who the report is for")
+		}
+		req.SubjectID = r.personID[j]
+	}
+	return req, r.u.profiles[i], nil
+}
+
+// fileName suggests a file name for the report.
+func fileName(req workspace.ReportRequest) string {
+	who := "unit"
+	if req.SubjectID != "" {
+		who = req.SubjectID
+	}
+	return fmt.Sprintf("audit-%s-%s-to-%s.pdf", strings.ToLower(who), logbook.FormatDate(req.From), logbook.FormatDate(req.To))
+}
+
+func (r *reportScreen) chooseFile() {
+	req, _, err := r.request()
+	if err != nil {
+		r.result.SetText(err.Error())
+		return
+	}
+	d := dialog.NewFileSave(func(w fyne.URIWriteCloser, err error) {
+		if err != nil || w == nil {
+			return
+		}
+		path := w.URI().Path()
+		w.Close()
+		r.makeReport(path, nil)
+	}, r.u.win)
+	d.SetFileName(fileName(req))
+	d.Show()
+}
+
+// makeReport writes the chosen report to path off the UI thread; done,
+// when set, is called afterwards (tests).
+func (r *reportScreen) makeReport(path string, done func(error)) {
+	req, prof, err := r.request()
+	if err != nil {
+		r.result.SetText(err.Error())
+		return
+	}
+	audit := &workspace.Audit{Store: r.u.st, Settings: r.u.settings, Profile: prof}
+	req.Guideline, _ = audit.Guideline("")
+	r.openBtn.Hide()
+	r.make.Disable()
+	r.result.SetText("Making the report…")
+	r.u.jobs.run("Making the report", func(ctx context.Context, progress progressFunc) error {
+		return audit.WriteReportFile(ctx, path, req, func(n int) { progress(-1, fmt.Sprintf("%d cases read", n)) })
+	}, func(err error) {
+		r.make.Enable()
+		switch {
+		case cancelled(err):
+			r.result.SetText("Stopped; no report was saved.")
+		case err != nil:
+			r.result.SetText("The report could not be made: " + err.Error())
+		default:
+			r.saved = path
+			r.result.SetText("Saved " + path)
+			r.openBtn.Show()
+		}
+		if done != nil {
+			done(err)
+		}
+	})
+}
+
+// openSaved opens the saved report in the system's PDF viewer.
+func (r *reportScreen) openSaved() {
+	if r.saved == "" {
+		return
+	}
+	abs, err := filepath.Abs(r.saved)
+	if err != nil {
+		abs = r.saved
+	}
+	if err := r.u.app.OpenURL(&url.URL{Scheme: "file", Path: abs}); err != nil {
+		r.result.SetText("Saved " + r.saved + " (it could not be opened here: " + err.Error() + ")")
+	}
+}

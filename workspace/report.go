@@ -1,0 +1,88 @@
+package workspace
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"time"
+
+	"polypledger/assets"
+	"polypledger/report"
+)
+
+// ReportRequest is what a PDF report is made for.
+type ReportRequest struct {
+	Kind report.ReportKind
+	// SubjectID is the endoscopist of a personal report or the trainee of a
+	// trainee logbook ("" for the unit audit).
+	SubjectID string
+	From, To  time.Time
+	Guideline report.Guideline
+	// Now is the generation time printed on the cover.
+	Now time.Time
+}
+
+// ReportInput gathers what report.WritePDF prints for req from figures
+// already computed over the same period.
+func (a *Audit) ReportInput(ctx context.Context, req ReportRequest, figs Figures) (report.ReportInput, error) {
+	roster, err := a.Store.Roster(ctx)
+	if err != nil {
+		return report.ReportInput{}, err
+	}
+	names := map[string]string{}
+	for _, r := range roster {
+		names[r.ID] = r.Name
+	}
+	return report.ReportInput{
+		Kind: req.Kind, UnitName: a.Settings.UnitName, Profile: a.Profile,
+		Guideline: figs.Guideline, Eligibility: a.Eligibility(),
+		From: req.From, To: req.To, GeneratedOn: req.Now, Names: names, SubjectID: req.SubjectID,
+		Data:  figs.Data,
+		Fonts: report.ReportFonts{Regular: assets.FontRegular(), Bold: assets.FontBold()},
+	}, nil
+}
+
+// WriteReportFile computes the period's figures in one pass and writes the
+// PDF to path under a temporary name first, so that a failed or cancelled
+// report leaves no partial file. progress is passed to ComputeFigures.
+func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequest, progress func(cases int)) error {
+	figs, err := a.ComputeFigures(ctx, req.From, req.To, req.Guideline, progress)
+	if err != nil {
+		return err
+	}
+	in, err := a.ReportInput(ctx, req, figs)
+	if err != nil {
+		return err
+	}
+	return writeAtomically(path, func(w io.Writer) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		return report.WritePDF(w, in)
+	})
+}
+
+// writeAtomically writes a file beside path and renames it into place.
+func writeAtomically(path string, write func(w io.Writer) error) error {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*.partial")
+	if err != nil {
+		return fmt.Errorf("cannot write %s: %w", path, err)
+	}
+	tmp := f.Name()
+	if err := write(f); err != nil {
+		f.Close()
+		os.Remove(tmp)
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	if err := f.Close(); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	return nil
+}
