@@ -335,17 +335,20 @@ func outsideFindings(ls []ReadLesion) []string {
 	return rs
 }
 
-// candidate is one interval a finding calls for.
+// candidate is one interval a finding calls for. Its reason is formatted
+// only if it wins, since most candidates (the ever-present 10 years, say)
+// lose and a full pass suggests an interval for every procedure.
 type candidate struct {
 	interval logbook.Interval
-	reason   string
+	format   string
+	args     []any
 }
 
 // candidates collects the intervals the findings call for.
 type candidates []candidate
 
 func (cs *candidates) add(iv logbook.Interval, format string, args ...any) {
-	*cs = append(*cs, candidate{iv, fmt.Sprintf(format, args...)})
+	*cs = append(*cs, candidate{iv, format, args})
 }
 
 // shortest returns the shortest candidate interval with the reasons of every
@@ -360,7 +363,7 @@ func (cs candidates) shortest() (logbook.Interval, []string) {
 	var reasons []string
 	for _, c := range cs {
 		if c.interval == best {
-			reasons = append(reasons, c.reason)
+			reasons = append(reasons, fmt.Sprintf(c.format, c.args...))
 		}
 	}
 	return best, reasons

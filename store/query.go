@@ -2,7 +2,6 @@ package store
 
 import (
 	"context"
-	"fmt"
 	"strings"
 	"time"
 
@@ -39,71 +38,6 @@ func (f CaseFilter) where(alias string) (string, []any) {
 		return "", nil
 	}
 	return " WHERE " + strings.Join(conds, " AND "), args
-}
-
-// caseStreamSQL reads procedures and their lesions in one statement (one
-// consistent snapshot), ordered by date, id and lesion number.
-func caseStreamSQL(where string) string {
-	pc := make([]string, len(procedureColumns))
-	for i, c := range procedureColumns {
-		pc[i] = "p." + c.sqlColumn()
-	}
-	lc := make([]string, len(lesionStoredColumns))
-	for i, c := range lesionStoredColumns {
-		lc[i] = "l." + c.sqlColumn()
-	}
-	return "SELECT " + strings.Join(pc, ", ") + ", " + strings.Join(lc, ", ") +
-		" FROM procedures p LEFT JOIN lesions l ON l.procedure_id = p.id" + where +
-		" ORDER BY p.performed_on, p.id, l.lesion_no"
-}
-
-// ForEachCase streams the selected cases in date-then-id order to fn, one at
-// a time; the case passed to fn is reused for the next one, so fn must not
-// keep it. Returning an error from fn stops the stream with that error.
-func (s *Store) ForEachCase(ctx context.Context, f CaseFilter, fn func(*logbook.Case) error) error {
-	where, args := f.where("p.")
-	rows, err := s.db.QueryContext(ctx, caseStreamSQL(where), args...)
-	if err != nil {
-		return s.explain(err)
-	}
-	defer rows.Close()
-	np := len(procedureColumns)
-	dest, vals := nullStrings(np + len(lesionStoredColumns))
-	var cur logbook.Case
-	have := false
-	for rows.Next() {
-		if err := rows.Scan(dest...); err != nil {
-			return s.explain(err)
-		}
-		v := vals()
-		if !have || *v[0] != cur.ID {
-			if have {
-				if err := fn(&cur); err != nil {
-					return err
-				}
-			}
-			cur.Procedure = logbook.NewProcedure()
-			cur.Lesions = cur.Lesions[:0]
-			if err := scanStored(procedureColumns, v[:np], &cur.Procedure); err != nil {
-				return fmt.Errorf("procedure %s: %w", *v[0], err)
-			}
-			have = true
-		}
-		if v[np] != nil {
-			l := logbook.NewLesion()
-			if err := scanStored(lesionStoredColumns, v[np:], &l); err != nil {
-				return fmt.Errorf("procedure %s lesion: %w", cur.ID, err)
-			}
-			cur.Lesions = append(cur.Lesions, l)
-		}
-	}
-	if err := rows.Err(); err != nil {
-		return s.explain(err)
-	}
-	if have {
-		return fn(&cur)
-	}
-	return nil
 }
 
 // ListQuery selects and orders one page of the case list.

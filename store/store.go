@@ -18,6 +18,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"sync"
 	"time"
 
 	"polypledger/logbook"
@@ -99,6 +100,11 @@ type Store struct {
 	user     string
 	busy     time.Duration
 	readOnly bool
+	// rdb is the pool of read-only connections for streaming, opened on
+	// first use.
+	rdb     *sql.DB
+	rdbErr  error
+	rdbOnce sync.Once
 }
 
 // querier is what both *sql.DB and *sql.Tx offer.
@@ -251,6 +257,12 @@ func (s *Store) inTx(ctx context.Context, fn func(tx *sql.Tx) error) error {
 	if err != nil {
 		return err
 	}
+	defer func() {
+		if r := recover(); r != nil {
+			tx.Rollback() // never leave the write lock held
+			panic(r)
+		}
+	}()
 	if err := fn(tx); err != nil {
 		tx.Rollback()
 		return err
@@ -262,6 +274,9 @@ func (s *Store) inTx(ctx context.Context, fn func(tx *sql.Tx) error) error {
 func (s *Store) Close() error {
 	if s.db == nil {
 		return nil
+	}
+	if s.rdb != nil {
+		s.rdb.Close()
 	}
 	if !s.readOnly {
 		checkpoint(context.Background(), s.db) // best effort; the WAL is valid either way

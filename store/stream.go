@@ -1,0 +1,328 @@
+package store
+
+import (
+	"bytes"
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"strings"
+	"sync"
+
+	"polypledger/logbook"
+)
+
+// The full pass over the logbook (metrics, export, check) reads procedures
+// and lesions as two ordered streams on two read connections, parsed on their
+// own goroutines and merged by procedure, so that reading, parsing and the
+// caller's arithmetic use both cores. Both streams read the same snapshot:
+// each opens a read transaction and notes the newest change-log entry, and
+// the pair is retried if a write landed between the two (every write the
+// program makes adds a change-log entry).
+
+// batchSize is how many records travel between goroutines at once.
+const batchSize = 512
+
+// snapshotRetries is how often the pair of streams is reopened when a write
+// lands between them.
+const snapshotRetries = 8
+
+// readPool returns the pool of read-only connections used for streaming,
+// opened on first use.
+func (s *Store) readPool() (*sql.DB, error) {
+	s.rdbOnce.Do(func() {
+		s.rdb, s.rdbErr = sql.Open(driverName, dsn(s.path, int(s.busy.Milliseconds()), true))
+	})
+	return s.rdb, s.rdbErr
+}
+
+// snapshotTx opens a read transaction on its own connection and returns it
+// with the id of the newest change-log entry it sees.
+func snapshotTx(ctx context.Context, db *sql.DB) (*sql.Tx, int64, error) {
+	tx, err := db.BeginTx(ctx, &sql.TxOptions{ReadOnly: true})
+	if err != nil {
+		return nil, 0, err
+	}
+	var mark int64
+	if err := tx.QueryRowContext(ctx, "SELECT coalesce(max(id), 0) FROM change_log").Scan(&mark); err != nil {
+		tx.Rollback()
+		return nil, 0, err
+	}
+	return tx, mark, nil
+}
+
+// pairedSnapshot opens two read transactions that see the same state.
+func pairedSnapshot(ctx context.Context, db *sql.DB) (*sql.Tx, *sql.Tx, error) {
+	for try := 0; try < snapshotRetries; try++ {
+		a, ma, err := snapshotTx(ctx, db)
+		if err != nil {
+			return nil, nil, err
+		}
+		b, mb, err := snapshotTx(ctx, db)
+		if err != nil {
+			a.Rollback()
+			return nil, nil, err
+		}
+		if ma == mb {
+			return a, b, nil
+		}
+		a.Rollback()
+		b.Rollback()
+	}
+	return nil, nil, errors.New("the database changed throughout the read; try again when imports have finished")
+}
+
+func columnNames[T any](cols []column[T]) []string {
+	out := make([]string, len(cols))
+	for i, c := range cols {
+		out[i] = c.sqlColumn()
+	}
+	return out
+}
+
+// streamQueries returns the procedure and lesion queries for a filter, both
+// ordered by procedure date and id.
+func streamQueries(f CaseFilter) (procSQL, lesionSQL string, args []any) {
+	where, args := f.where("p.")
+	procSQL = "SELECT " + packedFields("p.", columnNames(procedureColumns)) +
+		" FROM procedures p" + where + " ORDER BY p.performed_on, p.id"
+	lesionSQL = "SELECT " + packedFields("l.", columnNames(lesionStoredColumns)) +
+		" FROM procedures p JOIN lesions l ON l.procedure_id = p.id" + where +
+		" ORDER BY p.performed_on, p.id, l.lesion_no"
+	return procSQL, lesionSQL, args
+}
+
+// unpack fills r from one packed row.
+func unpack[T any](cols []column[T], row []byte, r *T) error {
+	for i := range cols {
+		var field []byte
+		if j := bytes.IndexByte(row, fieldSep); j >= 0 {
+			field, row = row[:j], row[j+1:]
+		} else {
+			field, row = row, nil
+		}
+		if len(field) == 0 {
+			continue
+		}
+		if err := cols[i].loadStored(r, internField(field)); err != nil {
+			return fmt.Errorf("stored %s: %w", cols[i].name, err)
+		}
+	}
+	return nil
+}
+
+// common holds the strings that most stored fields are: codes, yes/no and
+// small numbers. Looking them up avoids a new string per field per row.
+var common = func() map[string]string {
+	m := map[string]string{}
+	add := func(ss ...string) {
+		for _, s := range ss {
+			m[s] = s
+		}
+	}
+	for _, set := range [][]string{
+		names(procedureColumns), {"yes", "no", "not_applicable"},
+	} {
+		add(set...)
+	}
+	addCodes := func(codes []string) { add(codes...) }
+	addCodes(codeStrings(logbook.Sexes))
+	addCodes(codeStrings(logbook.Indications))
+	addCodes(codeStrings(logbook.Settings))
+	addCodes(codeStrings(logbook.Exclusions))
+	addCodes(codeStrings(logbook.Extents))
+	addCodes(codeStrings(logbook.IncompleteReasons))
+	addCodes(codeStrings(logbook.Supervisions))
+	addCodes(codeStrings(logbook.AdverseEvents))
+	addCodes(codeStrings(logbook.Segments))
+	addCodes(codeStrings(logbook.ParisClasses))
+	addCodes(codeStrings(logbook.OpticalClasses))
+	addCodes(codeStrings(logbook.Confidences))
+	addCodes(codeStrings(logbook.ImagingModes))
+	addCodes(codeStrings(logbook.Resections))
+	addCodes(codeStrings(logbook.Histologies))
+	addCodes(codeStrings(logbook.Dysplasias))
+	addCodes(codeStrings(logbook.Intervals))
+	for i := 0; i <= 200; i++ {
+		add(fmt.Sprint(i))
+	}
+	return m
+}()
+
+func codeStrings[T ~string](set []T) []string {
+	out := make([]string, len(set))
+	for i, c := range set {
+		out[i] = string(c)
+	}
+	return out
+}
+
+// internField returns the field as a string, shared when it is a common one.
+func internField(b []byte) string {
+	if s, ok := common[string(b)]; ok {
+		return s
+	}
+	return string(b)
+}
+
+// produce runs query on tx and sends parsed batches on out until done.
+func produce[T any](ctx context.Context, tx *sql.Tx, query string, args []any, cols []column[T], fresh func() T, free chan []T, out chan<- []T) error {
+	defer close(out)
+	rows, err := tx.QueryContext(ctx, query, args...)
+	if err != nil {
+		return err
+	}
+	defer rows.Close()
+	var raw sql.RawBytes
+	batch := <-free
+	batch = batch[:0]
+	for rows.Next() {
+		if err := rows.Scan(&raw); err != nil {
+			return err
+		}
+		r := fresh()
+		if err := unpack(cols, raw, &r); err != nil {
+			return err
+		}
+		batch = append(batch, r)
+		if len(batch) == batchSize {
+			select {
+			case out <- batch:
+			case <-ctx.Done():
+				return ctx.Err()
+			}
+			select {
+			case batch = <-free:
+				batch = batch[:0]
+			case <-ctx.Done():
+				return ctx.Err()
+			}
+		}
+	}
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	if len(batch) > 0 {
+		select {
+		case out <- batch:
+		case <-ctx.Done():
+			return ctx.Err()
+		}
+	}
+	return nil
+}
+
+// stream reads batches of T from a channel one record at a time, handing
+// used batches back for reuse.
+type stream[T any] struct {
+	in    <-chan []T
+	free  chan []T
+	batch []T
+	i     int
+}
+
+func newStream[T any](in <-chan []T, free chan []T) *stream[T] {
+	return &stream[T]{in: in, free: free}
+}
+
+// peek returns the next record without consuming it, or nil at the end.
+func (s *stream[T]) peek() *T {
+	for s.i >= len(s.batch) {
+		if s.batch != nil {
+			s.free <- s.batch
+			s.batch = nil
+		}
+		b, ok := <-s.in
+		if !ok {
+			return nil
+		}
+		s.batch, s.i = b, 0
+	}
+	return &s.batch[s.i]
+}
+
+func (s *stream[T]) next() { s.i++ }
+
+// ForEachCase streams the selected cases in date-then-id order to fn, one
+// at a time, from one consistent snapshot of the database; the case passed
+// to fn is reused for the next one, so fn must not keep it. Returning an
+// error from fn stops the stream with that error.
+func (s *Store) ForEachCase(parent context.Context, f CaseFilter, fn func(*logbook.Case) error) error {
+	db, err := s.readPool()
+	if err != nil {
+		return s.explain(err)
+	}
+	ctx, cancel := context.WithCancel(parent)
+	defer cancel()
+	ptx, ltx, err := pairedSnapshot(ctx, db)
+	if err != nil {
+		return s.explain(err)
+	}
+	defer ptx.Rollback()
+	defer ltx.Rollback()
+
+	procSQL, lesionSQL, args := streamQueries(f)
+	pOut, lOut := make(chan []logbook.Procedure, 2), make(chan []logbook.Lesion, 2)
+	pFree, lFree := make(chan []logbook.Procedure, 4), make(chan []logbook.Lesion, 4)
+	for i := 0; i < 4; i++ {
+		pFree <- make([]logbook.Procedure, 0, batchSize)
+		lFree <- make([]logbook.Lesion, 0, batchSize)
+	}
+	var wg sync.WaitGroup
+	var pErr, lErr error
+	wg.Add(2)
+	go func() {
+		defer wg.Done()
+		pErr = produce(ctx, ptx, procSQL, args, procedureColumns, logbook.NewProcedure, pFree, pOut)
+	}()
+	go func() {
+		defer wg.Done()
+		lErr = produce(ctx, ltx, lesionSQL, args, lesionStoredColumns, logbook.NewLesion, lFree, lOut)
+	}()
+	fnErr := mergeCases(newStream(pOut, pFree), newStream(lOut, lFree), fn)
+	cancel()
+	// Drain so the producers can finish.
+	go func() {
+		for range pOut {
+		}
+	}()
+	go func() {
+		for range lOut {
+		}
+	}()
+	wg.Wait()
+	if fnErr != nil {
+		return fnErr
+	}
+	if err := parent.Err(); err != nil {
+		return err
+	}
+	for _, e := range []error{pErr, lErr} {
+		if e != nil && !errors.Is(e, context.Canceled) {
+			return s.explain(e)
+		}
+	}
+	return fnErr
+}
+
+// mergeCases pairs each procedure with its lesions (both streams are in the
+// same order) and calls fn for each case.
+func mergeCases(ps *stream[logbook.Procedure], ls *stream[logbook.Lesion], fn func(*logbook.Case) error) error {
+	var c logbook.Case
+	for p := ps.peek(); p != nil; p = ps.peek() {
+		c.Procedure = *p
+		ps.next()
+		c.Lesions = c.Lesions[:0]
+		for l := ls.peek(); l != nil && l.ProcedureID == c.ID; l = ls.peek() {
+			c.Lesions = append(c.Lesions, *l)
+			ls.next()
+		}
+		if err := fn(&c); err != nil {
+			return err
+		}
+	}
+	if l := ls.peek(); l != nil {
+		return fmt.Errorf("lesion %d of procedure %s arrived out of order", l.LesionNo, strings.TrimSpace(l.ProcedureID))
+	}
+	return nil
+}
