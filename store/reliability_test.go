@@ -922,7 +922,7 @@ func TestBackupWhileAnotherProcessWrites(t *testing.T) {
 				t.Fatalf("the import failed: %v: %s", err, impErr.String())
 			}
 			continue
-		case <-time.After(150 * time.Millisecond):
+		case <-time.After(40 * time.Millisecond):
 		}
 		out := filepath.Join(dir, fmt.Sprintf("during%03d.db", i))
 		if r := runCLI(t, home, nil, "backup", "--db", db, "--out", out); r.code != 0 {
