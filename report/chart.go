@@ -353,6 +353,9 @@ type refLine struct {
 	vertical bool
 	sty      draw.LineStyle
 	label    string
+	// below puts the label under the line, so that two close lines keep
+	// their labels apart.
+	below bool
 }
 
 // Plot implements plot.Plotter.
@@ -378,7 +381,12 @@ func (r refLine) Plot(c draw.Canvas, p *plot.Plot) {
 	c.StrokeLine2(r.sty, c.Min.X, y, c.Max.X, y)
 	if r.label != "" {
 		ls.XAlign, ls.YAlign = draw.XLeft, draw.YBottom
-		c.FillText(ls, vg.Point{X: c.Min.X + vg.Points(3), Y: y + vg.Points(1)}, r.label)
+		at := vg.Point{X: c.Min.X + vg.Points(3), Y: y + vg.Points(1)}
+		if r.below {
+			ls.YAlign = draw.YTop
+			at.Y = y - vg.Points(1.5)
+		}
+		c.FillText(ls, at, r.label)
 	}
 }
 

@@ -96,7 +96,7 @@ func FunnelChart(f FunnelData, opt ChartOptions) ([]byte, error) {
 	p.Add(curve{lo998, limit998}, curve{hi998, limit998}, curve{lo95, limit95}, curve{hi95, limit95},
 		refLine{at: 100 * fn.Target, sty: pooled, label: fmt.Sprintf("unit %.1f%%", 100*fn.Target)})
 	if f.Target != nil {
-		p.Add(refLine{at: 100 * *f.Target, sty: target, label: fmt.Sprintf("target %.1f%%", 100**f.Target)})
+		p.Add(refLine{at: 100 * *f.Target, sty: target, below: true, label: fmt.Sprintf("target %.1f%%", 100**f.Target)})
 	}
 	p.Add(&points{pts: pts})
 

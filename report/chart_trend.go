@@ -100,7 +100,7 @@ func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 	mainSty := lineStyle(shadeBlack, 1, nil)
 	cmpSty := lineStyle(shadeGrey, 1, dashed())
 	if target != nil {
-		p.Add(refLine{at: *target * factor, sty: targetSty, label: "target " + valueText(sample, target)})
+		p.Add(refLine{at: *target * factor, sty: targetSty, below: true, label: "target " + valueText(sample, target)})
 	}
 	p.Add(curve{cmpLine, cmpSty}, &points{pts: cmpPts}, curve{line, mainSty}, &points{pts: pts})
 

@@ -130,6 +130,7 @@ func (d *doc) personalReport() {
 	unit := d.in.Data.Metrics.Unit.Indicators
 	cols := []column{{"Indicator", 55, "L"}, {"Cases", 23, "R"}, {"Value", 19, "R"}, {"95% interval", 26, "R"},
 		{"Unit", 19, "R"}, {"Target", 16, "R"}, {"Verdict", 22, "L"}}
+	d.compact = true
 	d.table(cols, groupedRows(me.Indicators, func(ind Indicator) []string {
 		u, _ := Find(unit, ind.ID)
 		v := verdictCell(ind.Status)
@@ -141,6 +142,7 @@ func (d *doc) personalReport() {
 		}
 		return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v}
 	}))
+	d.compact = false
 	d.newPage("Your trends by quarter", true)
 	for _, id := range []string{"adr", "cir", "withdrawal_negative"} {
 		d.trend(me.OperatorID, "you ("+me.OperatorID+")", id, 72)

@@ -200,11 +200,11 @@ func (d *doc) operatorOverview() {
 	d.newPage("Endoscopists at a glance", true)
 	d.note("Key figures per endoscopist: value and verdict mark (● meets, ▼ below, ○ too few cases to judge). " +
 		"Each endoscopist's page gives cases, intervals and targets.")
-	cols := []column{{"Endoscopist", 46, "L"}, {"Procedures", 16, "R"}}
+	cols := []column{{"Endoscopist", 40, "L"}, {"Procedures", 17, "R"}}
 	short := map[string]string{"adr": "ADR", "cir": "CIR", "prep_adequate": "Prep adequate", "withdrawal_negative": "Withdrawal",
 		"pivi1_agreement": "PIVI 1 agreement", "pivi2_npv": "PIVI 2 NPV", "interval_adherence": "Interval adherence"}
 	for _, id := range overviewIDs() {
-		cols = append(cols, column{short[id], 16.8, "R"})
+		cols = append(cols, column{short[id], 17.5, "R"})
 	}
 	var rows [][]string
 	line := func(label string, inds []Indicator) []string {
