@@ -51,7 +51,7 @@ func newScorecard(u *ui) *scorecard {
 	s.message.Wrapping = fyne.TextWrapWord
 	s.body = container.NewVBox()
 	s.refreshChoices()
-	controls := container.NewVBox(s.period.content, container.NewHBox(widget.NewLabel("Standard"), sized(s.standard, 330),
+	controls := container.NewVBox(container.NewHBox(widget.NewLabel("Period"), s.period.content), container.NewHBox(widget.NewLabel("Standard"), sized(s.standard, 330),
 		widget.NewLabel("Whose figures"), sized(s.whose, 300), s.show))
 	s.content = container.NewBorder(container.NewVBox(controls, s.message), nil, nil, nil, container.NewVScroll(s.body))
 	return s
@@ -326,7 +326,7 @@ func newPeriodPicker(u *ui) *periodPicker {
 			p.to.SetText(logbook.FormatDate(last))
 		}
 	}
-	p.content = container.NewHBox(widget.NewLabel("Period"), sized(p.from, 120), widget.NewLabel("to"), sized(p.to, 120), sized(quick, 170))
+	p.content = container.NewHBox(sized(p.from, 120), widget.NewLabel("to"), sized(p.to, 120), sized(quick, 170))
 	return p
 }
 
