@@ -203,9 +203,6 @@ func lHigh(l *logbook.Lesion) { l.Dysplasia = logbook.DysplasiaHigh }
 func lNotSent(l *logbook.Lesion) {
 	l.Retrieved, l.SentToPathology, l.Histology, l.Dysplasia = logbook.No, logbook.No, "", ""
 }
-func lRetrieved(y logbook.YesNo) func(*logbook.Lesion) {
-	return func(l *logbook.Lesion) { l.Retrieved = y }
-}
 func lTattoo(y logbook.YesNo) func(*logbook.Lesion) {
 	return func(l *logbook.Lesion) { l.Tattoo = y }
 }

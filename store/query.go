@@ -70,7 +70,7 @@ func (q ListQuery) where() (string, []any) {
 		args = append(args, string(q.Indication))
 	}
 	if q.HistologyPending {
-		extra = append(extra, "EXISTS (SELECT 1 FROM lesions x WHERE x.procedure_id = p.id AND x.histology = 'pending')")
+		extra = append(extra, "p.id IN (SELECT x.procedure_id FROM lesions x WHERE x.histology = 'pending')")
 	}
 	if len(extra) > 0 {
 		if where == "" {
@@ -101,10 +101,14 @@ func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow
 	for i, c := range procedureColumns {
 		pc[i] = "p." + c.sqlColumn()
 	}
+	// The page's procedures are found first (an index serves each sort
+	// order), and only those rows are read in full and have their lesions
+	// counted.
+	orderBy := " ORDER BY " + order + dir + ", p.id" + dir
 	sqlText := "SELECT " + strings.Join(pc, ", ") +
 		", (SELECT count(*) FROM lesions l WHERE l.procedure_id = p.id)" +
 		", (SELECT count(*) FROM lesions l WHERE l.procedure_id = p.id AND l.histology = 'pending')" +
-		" FROM procedures p" + where + " ORDER BY " + order + dir + ", p.id" + dir + " LIMIT ? OFFSET ?"
+		" FROM procedures p WHERE p.rowid IN (SELECT p.rowid FROM procedures p" + where + orderBy + " LIMIT ? OFFSET ?)" + orderBy
 	rows, err := s.db.QueryContext(ctx, sqlText, append(args, q.Limit, q.Offset)...)
 	if err != nil {
 		return nil, s.explain(err)

@@ -22,7 +22,6 @@ import (
 	"os/exec"
 	"path/filepath"
 	"regexp"
-	"runtime"
 	"strings"
 	"sync"
 	"syscall"
@@ -57,7 +56,8 @@ func cliBinary(t testing.TB) string {
 		}
 		goCmd, err := exec.LookPath("go")
 		if err != nil {
-			goCmd = filepath.Join(runtime.GOROOT(), "bin", "go")
+			cli.err = fmt.Errorf("the go command is not on PATH: %w", err)
+			return
 		}
 		dir := filepath.Join(os.TempDir(), fmt.Sprintf("polypledger-reliability-%d", os.Getuid()))
 		if err := os.MkdirAll(dir, 0o700); err != nil {

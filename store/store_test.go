@@ -148,8 +148,8 @@ func TestOpenCreatesDatabase(t *testing.T) {
 	if s.Path() != path {
 		t.Errorf("Path() = %q, want %q", s.Path(), path)
 	}
-	if v, err := s.Version(ctx); err != nil || v != SchemaVersion || SchemaVersion != 2 {
-		t.Errorf("Version() = %d, %v; want %d (and SchemaVersion 2, the number of migrations)", v, err, SchemaVersion)
+	if v, err := s.Version(ctx); err != nil || v != SchemaVersion || SchemaVersion != 3 {
+		t.Errorf("Version() = %d, %v; want %d (and SchemaVersion 3, the number of migrations)", v, err, SchemaVersion)
 	}
 	if got := utPragma(t, s.db, "journal_mode"); got != "wal" {
 		t.Errorf("journal_mode = %q, want wal", got)
@@ -193,7 +193,7 @@ func TestOpenReadOnlyNeedsExistingFile(t *testing.T) {
 
 // TestMigrateFromSchema1 makes a database with the first schema only, fills
 // it, and opens it with this program: it must reach the current schema with
-// every row intact and the indexes and guards of schema 2 in place.
+// every row intact and the indexes and guards of the current schema in place.
 func TestMigrateFromSchema1(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "old.db")
@@ -249,7 +249,8 @@ func TestMigrateFromSchema1(t *testing.T) {
 	if err != nil || !reflect.DeepEqual(newLog, oldLog) {
 		t.Errorf("change log changed by the migration: %d entries before, %d after (%v)", len(oldLog), len(newLog), err)
 	}
-	wantIdx := []string{"lesions_awaiting", "procedures_by_date", "procedures_by_operator", "procedures_by_trainee"}
+	wantIdx := []string{"lesions_awaiting", "procedures_by_age", "procedures_by_date", "procedures_by_extent",
+		"procedures_by_indication", "procedures_by_operator", "procedures_by_operator_id", "procedures_by_trainee"}
 	if got := utNames(t, s.db, "index"); !reflect.DeepEqual(got, wantIdx) {
 		t.Errorf("indexes after migration = %v, want %v", got, wantIdx)
 	}
@@ -270,7 +271,7 @@ func TestRefuseNewerSchema(t *testing.T) {
 		t.Fatal(err)
 	}
 	raw := utRaw(t, path)
-	if _, err := raw.ExecContext(ctx, "PRAGMA user_version = 3"); err != nil {
+	if _, err := raw.ExecContext(ctx, "PRAGMA user_version = 4"); err != nil {
 		t.Fatal(err)
 	}
 	if err := raw.Close(); err != nil {
@@ -279,8 +280,8 @@ func TestRefuseNewerSchema(t *testing.T) {
 	before := utHash(t, path)
 	for _, ro := range []bool{false, true} {
 		_, err := Open(ctx, path, Options{ReadOnly: ro})
-		if err == nil || !strings.Contains(err.Error(), "newer version of polypledger (schema 3; this program knows up to 2)") {
-			t.Errorf("Open (read-only %v) of a schema-3 file: %v", ro, err)
+		if err == nil || !strings.Contains(err.Error(), "newer version of polypledger (schema 4; this program knows up to 3)") {
+			t.Errorf("Open (read-only %v) of a schema-4 file: %v", ro, err)
 		}
 	}
 	if utHash(t, path) != before {
