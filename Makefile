@@ -12,6 +12,10 @@ ifeq ($(origin VERSION),undefined)
 VERSION := $(shell git describe --tags --exact-match 2>/dev/null || { c=$$(git rev-parse --short HEAD 2>/dev/null) && echo "$(APP_VERSION)+$$c$$(git diff --quiet HEAD 2>/dev/null || echo .dirty)"; } || echo "$(APP_VERSION)+dev")
 endif
 LDFLAGS := -X main.version=$(VERSION)
+# Release archives also drop the symbol table and debug information (-s -w),
+# which takes the Windows executable from about 70 MB to 40 MB; a panic still
+# prints its stack trace, only a debugger loses the symbols.
+DIST_LDFLAGS := $(LDFLAGS) -s -w
 GO ?= go
 DIST := dist
 LINUX_DIR := polypledger-$(VERSION)-linux-amd64
@@ -35,14 +39,14 @@ test:
 	$(GO) test -count=1 ./...
 	@if [ -x scripts/fuzz-smoke ]; then scripts/fuzz-smoke; fi
 
-# The dist builds are plain "go build" runs with the same flags as "make
-# build", so they reuse the build cache (a cold Windows build takes about
+# The dist builds are plain "go build" runs with the same compiler flags as
+# "make build" (only the link differs), so they reuse the build cache (a cold Windows build takes about
 # 11 minutes on 2 cores, a warm one well under a minute).
 dist-linux:
 	scripts/setup-debian
 	rm -rf $(DIST)/$(LINUX_DIR) $(DIST)/$(LINUX_DIR).tar.gz
 	mkdir -p $(DIST)/$(LINUX_DIR)
-	CGO_ENABLED=1 GOOS=linux GOARCH=amd64 $(GO) build -ldflags "$(LDFLAGS)" -o $(DIST)/$(LINUX_DIR)/polypledger .
+	CGO_ENABLED=1 GOOS=linux GOARCH=amd64 $(GO) build -ldflags "$(DIST_LDFLAGS)" -o $(DIST)/$(LINUX_DIR)/polypledger .
 	cp packaging/polypledger.desktop $(DIST)/$(LINUX_DIR)/polypledger.desktop
 	cp assets/icon.png $(DIST)/$(LINUX_DIR)/polypledger.png
 	cp packaging/INSTALL-linux.txt $(DIST)/$(LINUX_DIR)/INSTALL.txt
@@ -56,7 +60,7 @@ dist-windows:
 	scripts/setup-debian --dist
 	rm -rf $(DIST)/$(WINDOWS_DIR) $(DIST)/$(WINDOWS_DIR).zip
 	mkdir -p $(DIST)/$(WINDOWS_DIR)
-	CGO_ENABLED=1 GOOS=windows GOARCH=amd64 CC=x86_64-w64-mingw32-gcc $(GO) build -ldflags "$(LDFLAGS)" -o $(DIST)/$(WINDOWS_DIR)/polypledger.exe .
+	CGO_ENABLED=1 GOOS=windows GOARCH=amd64 CC=x86_64-w64-mingw32-gcc $(GO) build -ldflags "$(DIST_LDFLAGS)" -o $(DIST)/$(WINDOWS_DIR)/polypledger.exe .
 	sed 's/$$/\r/' packaging/README-windows.txt > $(DIST)/$(WINDOWS_DIR)/README-windows.txt
 	sed 's/$$/\r/' LICENSE > $(DIST)/$(WINDOWS_DIR)/LICENSE.txt
 	cp README.md $(DIST)/$(WINDOWS_DIR)/README.md
