@@ -40,8 +40,9 @@ test:
 	@if [ -x scripts/fuzz-smoke ]; then scripts/fuzz-smoke; fi
 
 # The dist builds are plain "go build" runs with the same compiler flags as
-# "make build" (only the link differs), so they reuse the build cache (a cold Windows build takes about
-# 11 minutes on 2 cores, a warm one well under a minute).
+# "make build" (only the link differs), so they reuse the build cache (a cold
+# Windows build takes about 11 minutes on 2 cores, a warm one well under a
+# minute).
 dist-linux:
 	scripts/setup-debian
 	rm -rf $(DIST)/$(LINUX_DIR) $(DIST)/$(LINUX_DIR).tar.gz
