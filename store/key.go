@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 )
 
@@ -62,17 +63,34 @@ func LoadOrCreateKey(dir string) ([]byte, error) {
 	if _, err := rand.Read(key); err != nil {
 		return nil, err
 	}
-	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+	// Write the key under a temporary name and link it into place, so that
+	// a key file is never seen half-written and two programs starting at once
+	// agree on one key: the second finds the first's and uses it.
+	tmp, err := os.CreateTemp(dir, ".unit.key.*")
 	if err != nil {
-		return nil, fmt.Errorf("cannot create unit key %s: %w", path, err)
+		return nil, fmt.Errorf("cannot create unit key in %s: %w", dir, err)
 	}
-	if _, err := f.WriteString(hex.EncodeToString(key) + "\n"); err != nil {
-		f.Close()
-		os.Remove(path)
+	defer os.Remove(tmp.Name())
+	if err := tmp.Chmod(0o600); err != nil && runtime.GOOS != "windows" {
+		tmp.Close()
+		return nil, fmt.Errorf("cannot protect unit key %s: %w", path, err)
+	}
+	if _, err := tmp.WriteString(hex.EncodeToString(key) + "\n"); err != nil {
+		tmp.Close()
 		return nil, fmt.Errorf("cannot write unit key %s: %w", path, err)
 	}
-	if err := f.Close(); err != nil {
-		return nil, err
+	if err := tmp.Sync(); err != nil {
+		tmp.Close()
+		return nil, fmt.Errorf("cannot write unit key %s: %w", path, err)
+	}
+	if err := tmp.Close(); err != nil {
+		return nil, fmt.Errorf("cannot write unit key %s: %w", path, err)
+	}
+	if err := os.Link(tmp.Name(), path); err != nil {
+		if errors.Is(err, os.ErrExist) {
+			return LoadOrCreateKey(dir) // another program created it first
+		}
+		return nil, fmt.Errorf("cannot create unit key %s: %w", path, err)
 	}
 	return key, nil
 }
