@@ -215,6 +215,13 @@ func Pseudonymise(key []byte, ref string) (string, error) {
 	return hex.EncodeToString(m.Sum(nil)), nil
 }
 
+// IsExportPseudonym reports whether a patient reference as typed or
+// imported is already a pseudonym in export form, which Pseudonymise keeps.
+func IsExportPseudonym(ref string) bool {
+	h, ok := strings.CutPrefix(strings.TrimSpace(ref), pseudonymPrefix)
+	return ok && IsPatientKey(h)
+}
+
 // IsPatientKey reports whether s has the stored pseudonym's form: 64
 // lower-case hex digits.
 func IsPatientKey(s string) bool {

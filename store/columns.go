@@ -56,6 +56,9 @@ func (c column[T]) loadStored(r *T, v string) error {
 // pseudonymising patient references.
 type codec struct {
 	key []byte
+	// hashed is set when a value was pseudonymised under key (rather than
+	// arriving as a pseudonym already).
+	hashed bool
 }
 
 // Helpers that build columns of each kind of field.
@@ -139,6 +142,9 @@ var procedureColumns = []column[P]{
 			}
 			v, err := logbook.Pseudonymise(key, s)
 			p.PatientKey = v
+			if c != nil && err == nil && v != "" && !logbook.IsExportPseudonym(s) {
+				c.hashed = true
+			}
 			return err
 		},
 		toSQL:   func(p *P) string { return p.PatientKey },

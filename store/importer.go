@@ -184,6 +184,8 @@ type importer struct {
 	roster map[string]bool // roster ids already checked
 	seen   map[string]bool // record keys already read from this file
 	stmts  map[string]*sql.Stmt
+	// keyChecked is set once the unit key has been matched to the database.
+	keyChecked bool
 }
 
 func (im *importer) stmt(q string) (*sql.Stmt, error) {
@@ -361,6 +363,12 @@ func importRows[T any](im *importer, cv *csv.Reader, cr *countingReader, cols []
 		r := fresh()
 		if !parseRow(cols, idx, rec, line, cd, &r, im.ie) {
 			continue
+		}
+		if cd.hashed && !im.keyChecked {
+			if err := im.s.checkKey(im.ctx, im.tx); err != nil {
+				return err
+			}
+			im.keyChecked = true
 		}
 		if err := store(line, &r); err != nil {
 			return err

@@ -1,7 +1,11 @@
 package store
 
 import (
+	"context"
+	"crypto/hmac"
 	"crypto/rand"
+	"crypto/sha256"
+	"database/sql"
 	"encoding/hex"
 	"errors"
 	"fmt"
@@ -93,4 +97,42 @@ func LoadOrCreateKey(dir string) ([]byte, error) {
 		return nil, fmt.Errorf("cannot create unit key %s: %w", path, err)
 	}
 	return key, nil
+}
+
+// keyCheckSetting names the setting that holds the unit key's fingerprint.
+const keyCheckSetting = "key_check"
+
+// keyFingerprint identifies a unit key without revealing it: the first 16
+// hex digits of an HMAC of a fixed text under the key.
+func keyFingerprint(key []byte) string {
+	m := hmac.New(sha256.New, key)
+	m.Write([]byte("polypledger unit key check"))
+	return hex.EncodeToString(m.Sum(nil))[:16]
+}
+
+// ErrOtherKey is returned (wrapped) when a database's pseudonyms were made
+// under a different unit key from the one offered.
+var ErrOtherKey = errors.New("this database's patient pseudonyms were made with another unit key")
+
+// checkKey makes sure, before a hospital number is turned into a
+// pseudonym, that the store's key is the one the database's pseudonyms were
+// made with; the first time, it records the key's fingerprint (in tx, with a
+// change-log entry). Several users sharing one database therefore cannot
+// silently give one patient two pseudonyms.
+func (s *Store) checkKey(ctx context.Context, tx *sql.Tx) error {
+	fp := keyFingerprint(s.key)
+	var have string
+	err := tx.QueryRowContext(ctx, "SELECT value FROM settings WHERE key = ?", keyCheckSetting).Scan(&have)
+	switch {
+	case errors.Is(err, sql.ErrNoRows):
+		if _, err := tx.ExecContext(ctx, "INSERT INTO settings (key, value) VALUES (?, ?)", keyCheckSetting, fp); err != nil {
+			return err
+		}
+		return s.logChange(ctx, tx, "update", "settings", nil, map[string]string{keyCheckSetting: fp})
+	case err != nil:
+		return err
+	case have != fp:
+		return fmt.Errorf("%w; nothing was stored — hospital numbers can be added only under the unit key this database began with: copy that unit.key into your configuration folder (keep a copy of yours first). Exports, metrics and reports do not need it", ErrOtherKey)
+	}
+	return nil
 }

@@ -339,8 +339,19 @@ func (s *Store) Case(ctx context.Context, id string) (logbook.Case, error) {
 }
 
 // Pseudonymise turns a patient reference as typed (a hospital number) into
-// the stored pseudonym under the unit key.
-func (s *Store) Pseudonymise(ref string) (string, error) { return logbook.Pseudonymise(s.key, ref) }
+// the stored pseudonym under the unit key, after making sure the key is the
+// one this database's pseudonyms were made with (ErrOtherKey otherwise).
+func (s *Store) Pseudonymise(ref string) (string, error) {
+	v, err := logbook.Pseudonymise(s.key, ref)
+	if err != nil || v == "" || logbook.IsExportPseudonym(ref) {
+		return v, err
+	}
+	ctx := context.Background()
+	if err := s.inTx(ctx, func(tx *sql.Tx) error { return s.checkKey(ctx, tx) }); err != nil {
+		return "", s.explain(err)
+	}
+	return v, nil
+}
 
 // validateCase runs every record rule on a case: the procedure, each
 // lesion, unique lesion numbers, lesions belonging to the procedure, and

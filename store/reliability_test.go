@@ -97,9 +97,20 @@ type cliRun struct {
 }
 
 // cliCommand prepares a run of the binary with POLYPLEDGER_HOME set to home
-// (the unit key lives there) and extra environment variables.
+// (the unit key lives there) and extra environment variables. When home
+// exists and holds no key yet, the in-process stores' testKey is put there,
+// as a unit's users share one key; the store refuses to pseudonymise into a
+// database under a different key.
 func cliCommand(t testing.TB, home string, extraEnv []string, args ...string) *exec.Cmd {
 	t.Helper()
+	if fi, err := os.Stat(home); err == nil && fi.IsDir() {
+		keyPath := filepath.Join(home, KeyFileName)
+		if _, err := os.Stat(keyPath); errors.Is(err, os.ErrNotExist) {
+			if err := os.WriteFile(keyPath, []byte(hex.EncodeToString(testKey)+"\n"), 0o600); err != nil {
+				t.Fatal(err)
+			}
+		}
+	}
 	cmd := exec.Command(cliBinary(t), args...)
 	env := []string{"POLYPLEDGER_HOME=" + home, "HOME=" + home, "PATH=" + os.Getenv("PATH")}
 	cmd.Env = append(env, extraEnv...)
