@@ -10,6 +10,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"runtime/debug"
 	"strings"
 	"syscall"
 
@@ -94,6 +95,11 @@ var commands = map[string]command{
 }
 
 func main() {
+	if len(os.Args) > 1 {
+		// Batch commands stream whole logbooks through short-lived buffers;
+		// collecting garbage less often trades a little memory for speed.
+		debug.SetGCPercent(400)
+	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	code := run(ctx, os.Args[1:], &env{stdout: os.Stdout, stderr: os.Stderr})
 	stop()

@@ -1,6 +1,8 @@
 package report
 
 import (
+	"cmp"
+	"slices"
 	"strings"
 
 	"polypledger/logbook"
@@ -53,7 +55,7 @@ func (a *Adherence) Add(c *logbook.Case) {
 		return
 	}
 	a.n++
-	got := Suggest(a.guideline, c).Interval
+	got := SuggestedInterval(a.guideline, c, HistologyFirst)
 	if got == c.RecommendedInterval {
 		a.matched++
 		return
@@ -74,7 +76,9 @@ func (a *Adherence) Indicators() []Indicator {
 // Mismatches returns the procedures whose recorded recommendation differs
 // from the computed interval, in the order added.
 func (a *Adherence) Mismatches() []AdherenceMismatch {
-	return append([]AdherenceMismatch(nil), a.mismatches...)
+	out := append([]AdherenceMismatch(nil), a.mismatches...)
+	slices.SortFunc(out, func(x, y AdherenceMismatch) int { return cmp.Compare(x.ProcedureID, y.ProcedureID) })
+	return out
 }
 
 // AdherenceFactory returns a factory for the metrics engine's Extra list

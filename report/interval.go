@@ -211,12 +211,31 @@ func Suggest(g Guideline, c *logbook.Case) Suggestion {
 // SuggestReading is Suggest with the lesions read under mode; PIVI 1 calls it
 // with OpticalFirst for its interval A.
 func SuggestReading(g Guideline, c *logbook.Case, mode LesionReading) Suggestion {
+	return suggest(g, c, mode, true)
+}
+
+// SuggestedInterval is the interval Suggest would give, without the
+// findings written out: the figures that compare intervals over every
+// procedure (adherence, PIVI 1) need only the code.
+func SuggestedInterval(g Guideline, c *logbook.Case, mode LesionReading) logbook.Interval {
+	return suggest(g, c, mode, false).Interval
+}
+
+// suggest applies the guideline; withReasons writes out the findings behind
+// the interval, which only a person reading one suggestion needs.
+func suggest(g Guideline, c *logbook.Case, mode LesionReading, withReasons bool) Suggestion {
 	if _, err := ParseGuideline(string(g)); err != nil {
 		g = DefaultGuideline
 	}
-	s := Suggestion{Guideline: g, Caution: IntervalCaution(g)}
-	if reasons := examGate(&c.Procedure); len(reasons) > 0 {
-		s.Interval, s.Reasons = logbook.IntervalRepeat, reasons
+	s := Suggestion{Guideline: g}
+	if withReasons {
+		s.Caution = IntervalCaution(g)
+	}
+	if failsExamGate(&c.Procedure) {
+		s.Interval = logbook.IntervalRepeat
+		if withReasons {
+			s.Reasons = examGate(&c.Procedure)
+		}
 		return s
 	}
 	switch c.Exclusion {
@@ -232,8 +251,10 @@ func SuggestReading(g Guideline, c *logbook.Case, mode LesionReading) Suggestion
 	rd := ReadLesions(c, mode)
 	if len(rd.Unread) > 0 {
 		s.Interval = logbook.IntervalPending
-		for _, no := range rd.Unread {
-			s.Reasons = append(s.Reasons, fmt.Sprintf("lesion %d has no final histology and no high-confidence optical call of a diminutive polyp to stand in for it", no))
+		if withReasons {
+			for _, no := range rd.Unread {
+				s.Reasons = append(s.Reasons, fmt.Sprintf("lesion %d has no final histology and no high-confidence optical call of a diminutive polyp to stand in for it", no))
+			}
 		}
 		return s
 	}
@@ -250,6 +271,10 @@ func SuggestReading(g Guideline, c *logbook.Case, mode LesionReading) Suggestion
 	default:
 		cs = usmstfCandidates(rd.Lesions)
 	}
+	if !withReasons {
+		s.Interval = cs.shortestInterval()
+		return s
+	}
 	s.Interval, s.Reasons = cs.shortest()
 	for _, l := range rd.Lesions {
 		if l.FromOptical {
@@ -257,6 +282,12 @@ func SuggestReading(g Guideline, c *logbook.Case, mode LesionReading) Suggestion
 		}
 	}
 	return s
+}
+
+// failsExamGate reports what examGate explains: an incomplete extent or a
+// recorded Boston segment below 2.
+func failsExamGate(p *logbook.Procedure) bool {
+	return p.Extent == logbook.ExtentIncomplete || p.AnyBBPSBelow2()
 }
 
 // examGate returns why the examination cannot carry an interval: an
@@ -351,15 +382,21 @@ func (cs *candidates) add(iv logbook.Interval, format string, args ...any) {
 	*cs = append(*cs, candidate{iv, format, args})
 }
 
-// shortest returns the shortest candidate interval with the reasons of every
-// candidate that calls for it.
-func (cs candidates) shortest() (logbook.Interval, []string) {
+// shortestInterval returns the shortest candidate interval.
+func (cs candidates) shortestInterval() logbook.Interval {
 	best, bestRank := logbook.Interval(""), 1<<30
 	for _, c := range cs {
 		if r, _ := IntervalRank(c.interval); r < bestRank {
 			best, bestRank = c.interval, r
 		}
 	}
+	return best
+}
+
+// shortest returns the shortest candidate interval with the reasons of every
+// candidate that calls for it.
+func (cs candidates) shortest() (logbook.Interval, []string) {
+	best := cs.shortestInterval()
 	var reasons []string
 	for _, c := range cs {
 		if c.interval == best {

@@ -1,6 +1,8 @@
 package report
 
 import (
+	"cmp"
+	"slices"
 	"strings"
 
 	"polypledger/logbook"
@@ -100,6 +102,13 @@ func (a *OpticalAudit) pivi1() PIVI1Detail {
 		MissingHistology: a.pivi1MissingHistology,
 		Disagreements:    append([]IntervalDisagreement(nil), a.disagreements...),
 	}
+	// Cases may arrive in any order; list them by date, then id.
+	slices.SortFunc(d.Disagreements, func(x, y IntervalDisagreement) int {
+		if c := cmp.Compare(x.PerformedOn, y.PerformedOn); c != 0 {
+			return c
+		}
+		return cmp.Compare(x.ProcedureID, y.ProcedureID)
+	})
 	d.Agreement.Judge(piviTarget(), a.settings.MinCases)
 	return d
 }

@@ -56,7 +56,9 @@ const (
 )
 
 // PIVI1Result is one procedure's PIVI 1 comparison. When Included is false,
-// Excluded says why and the intervals are empty.
+// Excluded says why and the intervals are empty. The two suggestions carry
+// their interval codes only (no reasons or caution), since the comparison
+// runs over every procedure; Suggest writes out one procedure's findings.
 type PIVI1Result struct {
 	Included  bool       `json:"included"`
 	Excluded  string     `json:"excluded,omitempty"`
@@ -72,8 +74,8 @@ type PIVI1Result struct {
 // exam gate (missing Boston scores pass), has at least one diminutive lesion
 // called adenoma, hyperplastic or SSL with high confidence, has a final
 // histology for every lesion, and its histology-based interval is not
-// outside the guideline. Both intervals come from SuggestReading, which
-// differs only in its LesionReading.
+// outside the guideline. Both intervals come from the code path of
+// SuggestReading, which differs only in its LesionReading.
 func EvaluatePIVI1(g Guideline, c *logbook.Case) PIVI1Result {
 	var r PIVI1Result
 	eligible := false
@@ -87,7 +89,7 @@ func EvaluatePIVI1(g Guideline, c *logbook.Case) PIVI1Result {
 	case !eligible:
 		r.Excluded = PIVI1NoEligibleLesion
 		return r
-	case len(examGate(&c.Procedure)) > 0:
+	case failsExamGate(&c.Procedure):
 		r.Excluded = PIVI1ExamGate
 		return r
 	}
@@ -97,7 +99,7 @@ func EvaluatePIVI1(g Guideline, c *logbook.Case) PIVI1Result {
 			return r
 		}
 	}
-	b := SuggestReading(g, c, HistologyFirst)
+	b := suggest(g, c, HistologyFirst, false)
 	if b.Interval == logbook.IntervalOutside {
 		r.Excluded = PIVI1HistologyOutside
 		return r
@@ -109,7 +111,7 @@ func EvaluatePIVI1(g Guideline, c *logbook.Case) PIVI1Result {
 		r.Excluded = PIVI1HistologyNoPeriod
 		return r
 	}
-	a := SuggestReading(g, c, OpticalFirst)
+	a := suggest(g, c, OpticalFirst, false)
 	r.Included, r.Optical, r.Histology = true, a, b
 	ra, ranked := IntervalRank(a.Interval)
 	switch {

@@ -22,6 +22,33 @@ type column[T any] struct {
 	// toSQL and fromSQL override get/set for the stored form.
 	toSQL   func(*T) string
 	fromSQL func(*T, string)
+	// fromRaw, when set, reads a stored value straight from the bytes the
+	// driver returned, without making a string; it reports false for a value
+	// it does not recognise, which then takes the ordinary path. Stored
+	// values are written by the program itself, so the common ones are few.
+	fromRaw func(*T, []byte, *rawCache) bool
+}
+
+// rawCache remembers the last stored date read by one reader, since a full
+// pass reads the same few hundred dates again and again.
+type rawCache struct {
+	dateRaw []byte
+	date    time.Time
+}
+
+// rawCount reads a stored whole number of up to nine digits.
+func rawCount(b []byte) (int, bool) {
+	if len(b) == 0 || len(b) > 9 {
+		return 0, false
+	}
+	n := 0
+	for _, c := range b {
+		if c < '0' || c > '9' {
+			return 0, false
+		}
+		n = n*10 + int(c-'0')
+	}
+	return n, true
 }
 
 func (c column[T]) sqlColumn() string {
@@ -71,6 +98,15 @@ func textCol[T any](name string, f func(*T) *string) column[T] {
 
 func codeCol[T any, C ~string](name string, set []C, f func(*T) *C) column[T] {
 	return column[T]{name: name,
+		fromRaw: func(r *T, b []byte, _ *rawCache) bool {
+			for _, c := range set {
+				if string(b) == string(c) {
+					*f(r) = c
+					return true
+				}
+			}
+			return false
+		},
 		get: func(r *T) string { return string(*f(r)) },
 		set: func(r *T, s string, _ *codec) error {
 			v, err := logbook.ParseCode(s, set)
@@ -81,6 +117,13 @@ func codeCol[T any, C ~string](name string, set []C, f func(*T) *C) column[T] {
 
 func countCol[T any](name string, f func(*T) *int) column[T] {
 	return column[T]{name: name,
+		fromRaw: func(r *T, b []byte, _ *rawCache) bool {
+			n, ok := rawCount(b)
+			if ok {
+				*f(r) = n
+			}
+			return ok
+		},
 		get: func(r *T) string { return logbook.FormatCount(*f(r)) },
 		set: func(r *T, s string, _ *codec) error {
 			v, err := logbook.ParseCount(s)
@@ -101,6 +144,17 @@ func doseCol[T any](name string, f func(*T) *float64) column[T] {
 
 func yesNoCol[T any](name string, allowNA bool, f func(*T) *logbook.YesNo) column[T] {
 	return column[T]{name: name,
+		fromRaw: func(r *T, b []byte, _ *rawCache) bool {
+			switch string(b) {
+			case "yes":
+				*f(r) = logbook.Yes
+			case "no":
+				*f(r) = logbook.No
+			default:
+				return false
+			}
+			return true
+		},
 		get: func(r *T) string { return f(r).String() },
 		set: func(r *T, s string, _ *codec) error {
 			v, err := logbook.ParseYesNo(s, allowNA)
@@ -111,6 +165,20 @@ func yesNoCol[T any](name string, allowNA bool, f func(*T) *logbook.YesNo) colum
 
 func dateCol[T any](name string, f func(*T) *time.Time) column[T] {
 	return column[T]{name: name,
+		fromRaw: func(r *T, b []byte, rc *rawCache) bool {
+			if rc == nil {
+				return false
+			}
+			if string(b) != string(rc.dateRaw) {
+				d, err := logbook.ParseDate(string(b))
+				if err != nil {
+					return false
+				}
+				rc.dateRaw, rc.date = append(rc.dateRaw[:0], b...), d
+			}
+			*f(r) = rc.date
+			return true
+		},
 		get: func(r *T) string { return logbook.FormatDate(*f(r)) },
 		set: func(r *T, s string, _ *codec) error {
 			v, err := logbook.ParseDate(s)

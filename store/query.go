@@ -15,15 +15,25 @@ type CaseFilter struct {
 	TraineeID  string
 }
 
-func (f CaseFilter) where(alias string) (string, []any) {
+func (f CaseFilter) where(alias string) (string, []any) { return f.whereOpt(alias, false) }
+
+// whereOpt builds the WHERE clause; scanDates keeps the date conditions off
+// the date index (the unary plus), for reads that go through the table in
+// stored order anyway: filtering rows as they pass is cheaper than sorting
+// an index range back into that order.
+func (f CaseFilter) whereOpt(alias string, scanDates bool) (string, []any) {
 	var conds []string
 	var args []any
+	date := alias + "performed_on"
+	if scanDates {
+		date = "+" + date
+	}
 	if !f.From.IsZero() {
-		conds = append(conds, alias+"performed_on >= ?")
+		conds = append(conds, date+" >= ?")
 		args = append(args, logbook.FormatDate(f.From))
 	}
 	if !f.To.IsZero() {
-		conds = append(conds, alias+"performed_on <= ?")
+		conds = append(conds, date+" <= ?")
 		args = append(args, logbook.FormatDate(f.To))
 	}
 	if f.OperatorID != "" {

@@ -81,19 +81,21 @@ func columnNames[T any](cols []column[T]) []string {
 }
 
 // streamQueries returns the procedure and lesion queries for a filter, both
-// ordered by procedure date and id.
+// in the order the procedures were stored (and lesions by number), which
+// needs no sort: a full pass over a large logbook then reads each table
+// once, in file order.
 func streamQueries(f CaseFilter) (procSQL, lesionSQL string, args []any) {
-	where, args := f.where("p.")
+	where, args := f.whereOpt("p.", true)
 	procSQL = "SELECT " + packedFields("p.", columnNames(procedureColumns)) +
-		" FROM procedures p" + where + " ORDER BY p.performed_on, p.id"
+		" FROM procedures p" + where + " ORDER BY p.rowid"
 	lesionSQL = "SELECT " + packedFields("l.", columnNames(lesionStoredColumns)) +
 		" FROM procedures p JOIN lesions l ON l.procedure_id = p.id" + where +
-		" ORDER BY p.performed_on, p.id, l.lesion_no"
+		" ORDER BY p.rowid, l.lesion_no"
 	return procSQL, lesionSQL, args
 }
 
 // unpack fills r from one packed row.
-func unpack[T any](cols []column[T], row []byte, r *T) error {
+func unpack[T any](cols []column[T], row []byte, r *T, rc *rawCache) error {
 	for i := range cols {
 		var field []byte
 		if j := bytes.IndexByte(row, fieldSep); j >= 0 {
@@ -104,65 +106,15 @@ func unpack[T any](cols []column[T], row []byte, r *T) error {
 		if len(field) == 0 {
 			continue
 		}
-		if err := cols[i].loadStored(r, internField(field)); err != nil {
-			return fmt.Errorf("stored %s: %w", cols[i].name, err)
+		c := &cols[i]
+		if c.fromRaw != nil && c.fromRaw(r, field, rc) {
+			continue
+		}
+		if err := c.loadStored(r, string(field)); err != nil {
+			return fmt.Errorf("stored %s: %w", c.name, err)
 		}
 	}
 	return nil
-}
-
-// common holds the strings that most stored fields are: codes, yes/no and
-// small numbers. Looking them up avoids a new string per field per row.
-var common = func() map[string]string {
-	m := map[string]string{}
-	add := func(ss ...string) {
-		for _, s := range ss {
-			m[s] = s
-		}
-	}
-	for _, set := range [][]string{
-		names(procedureColumns), {"yes", "no", "not_applicable"},
-	} {
-		add(set...)
-	}
-	addCodes := func(codes []string) { add(codes...) }
-	addCodes(codeStrings(logbook.Sexes))
-	addCodes(codeStrings(logbook.Indications))
-	addCodes(codeStrings(logbook.Settings))
-	addCodes(codeStrings(logbook.Exclusions))
-	addCodes(codeStrings(logbook.Extents))
-	addCodes(codeStrings(logbook.IncompleteReasons))
-	addCodes(codeStrings(logbook.Supervisions))
-	addCodes(codeStrings(logbook.AdverseEvents))
-	addCodes(codeStrings(logbook.Segments))
-	addCodes(codeStrings(logbook.ParisClasses))
-	addCodes(codeStrings(logbook.OpticalClasses))
-	addCodes(codeStrings(logbook.Confidences))
-	addCodes(codeStrings(logbook.ImagingModes))
-	addCodes(codeStrings(logbook.Resections))
-	addCodes(codeStrings(logbook.Histologies))
-	addCodes(codeStrings(logbook.Dysplasias))
-	addCodes(codeStrings(logbook.Intervals))
-	for i := 0; i <= 200; i++ {
-		add(fmt.Sprint(i))
-	}
-	return m
-}()
-
-func codeStrings[T ~string](set []T) []string {
-	out := make([]string, len(set))
-	for i, c := range set {
-		out[i] = string(c)
-	}
-	return out
-}
-
-// internField returns the field as a string, shared when it is a common one.
-func internField(b []byte) string {
-	if s, ok := common[string(b)]; ok {
-		return s
-	}
-	return string(b)
 }
 
 // produce runs query on tx and sends parsed batches on out until done.
@@ -174,6 +126,7 @@ func produce[T any](ctx context.Context, tx *sql.Tx, query string, args []any, c
 	}
 	defer rows.Close()
 	var raw sql.RawBytes
+	var rc rawCache
 	batch := <-free
 	batch = batch[:0]
 	for rows.Next() {
@@ -181,7 +134,7 @@ func produce[T any](ctx context.Context, tx *sql.Tx, query string, args []any, c
 			return err
 		}
 		r := fresh()
-		if err := unpack(cols, raw, &r); err != nil {
+		if err := unpack(cols, raw, &r, &rc); err != nil {
 			return err
 		}
 		batch = append(batch, r)
@@ -243,8 +196,9 @@ func (s *stream[T]) peek() *T {
 
 func (s *stream[T]) next() { s.i++ }
 
-// ForEachCase streams the selected cases in date-then-id order to fn, one
-// at a time, from one consistent snapshot of the database; the case passed
+// ForEachCase streams the selected cases to fn in the order they were
+// stored (an import's rows in file order), one at a time, from one
+// consistent snapshot of the database; the case passed
 // to fn is reused for the next one, so fn must not keep it. Returning an
 // error from fn stops the stream with that error.
 func (s *Store) ForEachCase(parent context.Context, f CaseFilter, fn func(*logbook.Case) error) error {
