@@ -8,6 +8,8 @@
 package app
 
 import (
+	_ "polypledger/internal/plainlocale" // before the UI toolkit reads the locale
+
 	"context"
 	"errors"
 	"fmt"
