@@ -170,16 +170,9 @@ func cmdMetrics(ctx context.Context, e *env, args []string) error {
 	if err := need("db", *db); err != nil {
 		return err
 	}
-	from, err := parseDateFlag("from", *fromS)
+	from, to, err := periodFlags(*fromS, *toS)
 	if err != nil {
 		return err
-	}
-	to, err := parseDateFlag("to", *toS)
-	if err != nil {
-		return err
-	}
-	if to.Before(from) {
-		return usagef("--to %s is before --from %s", *toS, *fromS)
 	}
 	if *format != "json" && *format != "table" {
 		return usagef("--format must be json or table")

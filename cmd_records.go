@@ -4,8 +4,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io"
 	"os"
-	"path/filepath"
 	"strings"
 
 	"polypledger/demo"
@@ -175,36 +175,7 @@ func cmdExport(ctx context.Context, e *env, args []string) error {
 	if *out == "-" {
 		return st.Export(ctx, kind, e.stdout)
 	}
-	return writeFileAtomically(*out, func(f *os.File) error { return st.Export(ctx, kind, f) })
-}
-
-// writeFileAtomically writes a file under a temporary name beside it and
-// renames it into place, so a failure never leaves a half-written file.
-func writeFileAtomically(path string, write func(f *os.File) error) error {
-	dir := filepath.Dir(path)
-	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".*.partial")
-	if err != nil {
-		return fmt.Errorf("cannot write %s: %w", path, err)
-	}
-	tmp := f.Name()
-	if err := write(f); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	if err := os.Chmod(tmp, 0o600); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	return nil
+	return workspace.WriteFileAtomically(*out, func(w io.Writer) error { return st.Export(ctx, kind, w) })
 }
 
 func cmdCheck(ctx context.Context, e *env, args []string) error {

@@ -37,16 +37,9 @@ func cmdReport(ctx context.Context, e *env, args []string) error {
 	if err := need("out", *out); err != nil {
 		return err
 	}
-	from, err := parseDateFlag("from", *fromS)
+	from, to, err := periodFlags(*fromS, *toS)
 	if err != nil {
 		return err
-	}
-	to, err := parseDateFlag("to", *toS)
-	if err != nil {
-		return err
-	}
-	if to.Before(from) {
-		return usagef("--to %s is before --from %s", *toS, *fromS)
 	}
 	if *operator != "" && *trainee != "" {
 		return usagef("--operator and --trainee cannot both be given")

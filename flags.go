@@ -64,3 +64,18 @@ func parseDateFlag(flagName, value string) (time.Time, error) {
 	}
 	return d, nil
 }
+
+// periodFlags reads the --from and --to dates of an audit period, both
+// required, the first not after the last.
+func periodFlags(fromS, toS string) (from, to time.Time, err error) {
+	if from, err = parseDateFlag("from", fromS); err != nil {
+		return from, to, err
+	}
+	if to, err = parseDateFlag("to", toS); err != nil {
+		return from, to, err
+	}
+	if to.Before(from) {
+		return from, to, usagef("--to %s is before --from %s", toS, fromS)
+	}
+	return from, to, nil
+}

@@ -6,6 +6,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"runtime"
 	"time"
 
 	"polypledger/assets"
@@ -56,7 +57,7 @@ func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequ
 	if err != nil {
 		return err
 	}
-	return writeAtomically(path, func(w io.Writer) error {
+	return WriteFileAtomically(path, func(w io.Writer) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
@@ -64,21 +65,28 @@ func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequ
 	})
 }
 
-// writeAtomically writes a file beside path and renames it into place.
-func writeAtomically(path string, write func(w io.Writer) error) error {
+// WriteFileAtomically writes a file under a temporary name beside path,
+// readable by its owner only, and renames it into place, so that a failed
+// or cancelled write never leaves a half-written file.
+func WriteFileAtomically(path string, write func(w io.Writer) error) error {
 	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*.partial")
 	if err != nil {
 		return fmt.Errorf("cannot write %s: %w", path, err)
 	}
 	tmp := f.Name()
-	if err := write(f); err != nil {
+	fail := func(err error) error {
 		f.Close()
 		os.Remove(tmp)
 		return fmt.Errorf("writing %s: %w", path, err)
 	}
+	if err := write(f); err != nil {
+		return fail(err)
+	}
+	if err := f.Chmod(0o600); err != nil && runtime.GOOS != "windows" {
+		return fail(err)
+	}
 	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("writing %s: %w", path, err)
+		return fail(err)
 	}
 	if err := os.Rename(tmp, path); err != nil {
 		os.Remove(tmp)
