@@ -86,7 +86,7 @@ func newCaseList(u *ui) *caseList {
 	l.operator = widget.NewSelect(nil, func(string) { apply() })
 	l.indication = newChoice(logbook.Indications, indicationWords, false, apply)
 	l.indication.PlaceHolder = "any reason"
-	clearReason := widget.NewButton("Any reason", func() { l.indication.ClearSelected(); apply() })
+	clearReason := widget.NewButton("Clear reason", func() { l.indication.ClearSelected(); apply() })
 	l.pending = widget.NewCheck("Only cases awaiting histology", func(bool) { apply() })
 	l.countLabel = widget.NewLabel("")
 	l.refreshRoster()
