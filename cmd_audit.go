@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"strings"
 	"time"
 
@@ -29,8 +28,8 @@ type auditSetup struct {
 }
 
 func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
-	if _, err := os.Stat(db); err != nil {
-		return nil, fmt.Errorf("database %s does not exist", db)
+	if err := mustExist(db); err != nil {
+		return nil, err
 	}
 	st, err := store.Open(ctx, db, store.Options{ReadOnly: true})
 	if err != nil {
@@ -71,12 +70,8 @@ func cmdInterval(ctx context.Context, e *env, args []string) error {
 	id := fs.String("procedure", "", "procedure id (default: every procedure)")
 	guide := fs.String("guideline", "", "usmstf-2020, esge-2020 or bsg-2020 (default from unit settings)")
 	format := fs.String("format", "text", "json or text")
-	pos, err := parse(fs, args)
-	if err != nil {
+	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
-	}
-	if len(pos) > 0 {
-		return usagef("unexpected argument %q", pos[0])
 	}
 	if err := need("db", *db); err != nil {
 		return err
@@ -160,12 +155,8 @@ func cmdMetrics(ctx context.Context, e *env, args []string) error {
 	standard := fs.String("standard", "", "standard profile id (default from unit settings)")
 	operator := fs.String("operator", "", "show only this operator (and the unit)")
 	format := fs.String("format", "table", "json or table")
-	pos, err := parse(fs, args)
-	if err != nil {
+	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
-	}
-	if len(pos) > 0 {
-		return usagef("unexpected argument %q", pos[0])
 	}
 	if err := need("db", *db); err != nil {
 		return err

@@ -36,12 +36,8 @@ func cmdDemo(ctx context.Context, e *env, args []string) error {
 	db := fs.String("db", "", "database file to create")
 	n := fs.Int("procedures", 4000, "how many procedures to invent")
 	seed := fs.Uint64("seed", 1, "seed: the same seed gives the same unit")
-	pos, err := parse(fs, args)
-	if err != nil {
+	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
-	}
-	if len(pos) > 0 {
-		return usagef("unexpected argument %q", pos[0])
 	}
 	if err := need("db", *db); err != nil {
 		return err
@@ -151,12 +147,8 @@ func cmdExport(ctx context.Context, e *env, args []string) error {
 	db := fs.String("db", "", "database file")
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
 	out := fs.String("out", "", "CSV file to write (- for standard output)")
-	pos, err := parse(fs, args)
-	if err != nil {
+	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
-	}
-	if len(pos) > 0 {
-		return usagef("unexpected argument %q", pos[0])
 	}
 	for _, f := range [][2]string{{"db", *db}, {"out", *out}} {
 		if err := need(f[0], f[1]); err != nil {
@@ -181,18 +173,14 @@ func cmdExport(ctx context.Context, e *env, args []string) error {
 func cmdCheck(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("check", "--db PATH", e.stderr)
 	db := fs.String("db", "", "database file")
-	pos, err := parse(fs, args)
-	if err != nil {
+	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
-	}
-	if len(pos) > 0 {
-		return usagef("unexpected argument %q", pos[0])
 	}
 	if err := need("db", *db); err != nil {
 		return err
 	}
-	if _, err := os.Stat(*db); err != nil {
-		return fmt.Errorf("database %s does not exist", *db)
+	if err := mustExist(*db); err != nil {
+		return err
 	}
 	st, err := store.Open(ctx, *db, store.Options{ReadOnly: true})
 	if err != nil {
@@ -215,20 +203,16 @@ func cmdBackup(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("backup", "--db PATH --out FILE", e.stderr)
 	db := fs.String("db", "", "database file")
 	out := fs.String("out", "", "backup file to create")
-	pos, err := parse(fs, args)
-	if err != nil {
+	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
-	}
-	if len(pos) > 0 {
-		return usagef("unexpected argument %q", pos[0])
 	}
 	for _, f := range [][2]string{{"db", *db}, {"out", *out}} {
 		if err := need(f[0], f[1]); err != nil {
 			return err
 		}
 	}
-	if _, err := os.Stat(*db); err != nil {
-		return fmt.Errorf("database %s does not exist", *db)
+	if err := mustExist(*db); err != nil {
+		return err
 	}
 	st, err := store.Open(ctx, *db, store.Options{})
 	if err != nil {

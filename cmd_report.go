@@ -24,12 +24,8 @@ func cmdReport(ctx context.Context, e *env, args []string) error {
 	operator := fs.String("operator", "", "personal report for this endoscopist; others appear as anonymous peers")
 	trainee := fs.String("trainee", "", "logbook for this trainee")
 	out := fs.String("out", "", "PDF file to write")
-	pos, err := parse(fs, args)
-	if err != nil {
+	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
-	}
-	if len(pos) > 0 {
-		return usagef("unexpected argument %q", pos[0])
 	}
 	if err := need("db", *db); err != nil {
 		return err

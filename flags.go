@@ -5,6 +5,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"os"
 	"strings"
 	"time"
 
@@ -78,4 +79,25 @@ func periodFlags(fromS, toS string) (from, to time.Time, err error) {
 		return from, to, usagef("--to %s is before --from %s", toS, fromS)
 	}
 	return from, to, nil
+}
+
+// parseFlagsOnly parses a command that takes flags and no other arguments.
+func parseFlagsOnly(fs *flag.FlagSet, args []string) error {
+	pos, err := parse(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(pos) > 0 {
+		return usagef("unexpected argument %q", pos[0])
+	}
+	return nil
+}
+
+// mustExist refuses a --db path that names no file, rather than letting a
+// reading command create an empty database.
+func mustExist(db string) error {
+	if _, err := os.Stat(db); err != nil {
+		return fmt.Errorf("database %s does not exist", db)
+	}
+	return nil
 }
