@@ -87,20 +87,7 @@ func (r *reportScreen) kindValue() report.ReportKind {
 
 // refreshChoices offers the profiles and the people.
 func (r *reportScreen) refreshChoices() {
-	var stds []string
-	def := 0
-	for i, p := range r.u.profiles {
-		stds = append(stds, p.Title)
-		if p.ID == r.u.settings.DefaultStandard {
-			def = i
-		}
-	}
-	sel := r.standard.SelectedIndex()
-	r.standard.SetOptions(stds)
-	if sel < 0 {
-		sel = def
-	}
-	r.standard.SetSelectedIndex(sel)
+	r.u.offerStandards(r.standard)
 	r.refreshPeople()
 }
 

@@ -59,20 +59,7 @@ func newScorecard(u *ui) *scorecard {
 
 // refreshChoices offers the profiles and the roster.
 func (s *scorecard) refreshChoices() {
-	var stds []string
-	def := 0
-	for i, p := range s.u.profiles {
-		stds = append(stds, p.Title)
-		if p.ID == s.u.settings.DefaultStandard {
-			def = i
-		}
-	}
-	sel := s.standard.SelectedIndex()
-	s.standard.SetOptions(stds)
-	if sel < 0 {
-		sel = def
-	}
-	s.standard.SetSelectedIndex(sel)
+	s.u.offerStandards(s.standard)
 
 	opts := []string{"The whole unit"}
 	s.whoIDs = []workspace.Population{{}}
@@ -370,4 +357,23 @@ func (c chartImage) object() fyne.CanvasObject {
 	img.FillMode = canvas.ImageFillContain
 	img.SetMinSize(fyne.NewSize(600, 340))
 	return img
+}
+
+// offerStandards fills a picker with the standard profiles' titles, keeping
+// the current choice and starting from the unit's default standard.
+func (u *ui) offerStandards(pick *widget.Select) {
+	var titles []string
+	def := 0
+	for i, p := range u.profiles {
+		titles = append(titles, p.Title)
+		if p.ID == u.settings.DefaultStandard {
+			def = i
+		}
+	}
+	sel := pick.SelectedIndex()
+	pick.SetOptions(titles)
+	if sel < 0 {
+		sel = def
+	}
+	pick.SetSelectedIndex(sel)
 }
