@@ -70,6 +70,10 @@ type fileHeader struct {
 	pages         int64 // database size in pages, when the header's count is valid
 	userVersion   int
 	applicationID uint32
+	// wal is set when a non-empty write-ahead log lies beside the file: the
+	// file may then legitimately be shorter than its header says (a
+	// checkpoint cut short), and SQLite completes it from the log.
+	wal bool
 }
 
 // readHeader inspects a database file without opening it through SQLite, so
@@ -92,6 +96,9 @@ func readHeader(path string) (fileHeader, error) {
 		return h, fmt.Errorf("%s is a folder, not a database file", path)
 	}
 	h.exists, h.size = true, st.Size()
+	if w, err := os.Stat(path + "-wal"); err == nil && w.Size() > 0 {
+		h.wal = true
+	}
 	if h.size == 0 {
 		h.empty = true
 		return h, nil
@@ -119,7 +126,8 @@ func (h fileHeader) vet(path string, known int) error {
 	if !h.exists || h.empty {
 		return nil
 	}
-	if h.pageSize < 512 || h.size < h.pageSize || h.size%h.pageSize != 0 || (h.pages > 0 && h.size < h.pages*h.pageSize) {
+	short := h.pages > 0 && h.size < h.pages*h.pageSize && !h.wal
+	if h.pageSize < 512 || h.size < h.pageSize || h.size%h.pageSize != 0 || short {
 		return fmt.Errorf("%s looks damaged or truncated (%d bytes where the header promises more); it was left untouched — restore it from a backup", path, h.size)
 	}
 	if h.applicationID != 0 && h.applicationID != applicationID {
