@@ -486,7 +486,16 @@ func mountTmpfs(t *testing.T, size string) string {
 		t.Skipf("cannot mount a %s tmpfs here (needs root and mount rights): %v", size, err)
 	}
 	t.Cleanup(func() {
-		if err := syscall.Unmount(dir, 0); err != nil {
+		// A child process that has just exited may hold the mount for a
+		// moment longer; retry, then detach it so that it goes once free.
+		var err error
+		for i := 0; i < 20; i++ {
+			if err = syscall.Unmount(dir, 0); err == nil {
+				return
+			}
+			time.Sleep(50 * time.Millisecond)
+		}
+		if err := syscall.Unmount(dir, syscall.MNT_DETACH); err != nil {
 			t.Errorf("unmount %s: %v", dir, err)
 		}
 	})
