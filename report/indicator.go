@@ -61,6 +61,14 @@ type Indicator struct {
 	// AwaitingHistology counts the denominator's cases still waiting for
 	// histology, for the detection indicators.
 	AwaitingHistology int `json:"awaiting_histology,omitempty"`
+	// Strict is true when the target must be passed, not merely reached:
+	// the source says "below" or "above" (discomfort below 10%), so a value
+	// exactly at the target does not meet it. Printed as "<" or ">".
+	Strict bool `json:"strict,omitempty"`
+	// Note is one plain sentence every output prints beside the figure when
+	// the bare numbers would mislead: cases left out of the denominator and
+	// why, or why the figure is reported rather than judged.
+	Note string `json:"note,omitempty"`
 }
 
 // Target is what a profile asks of one indicator.
