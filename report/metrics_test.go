@@ -458,8 +458,9 @@ func TestPeriodInclusive(t *testing.T) {
 
 func TestStatus(t *testing.T) {
 	// Verdict rules of clinical-reference §2: meets at or past the target (≥
-	// a minimum, ≤ a maximum), below otherwise, too_few under min_cases (30),
-	// reported with no target.
+	// a minimum, ≤ a maximum; strictly past it where the source says
+	// "below"), below otherwise, too_few under min_cases (30), reported with
+	// no target.
 	withAdenomas := func(k, n int) []logbook.Case {
 		return concat(repeat(k, mkCase(withLesions(mkLesion()))), repeat(n-k, mkCase()))
 	}
@@ -478,9 +479,15 @@ func TestStatus(t *testing.T) {
 		{"adr 13/40 below", "asge-acg-2024", withAdenomas(13, 40), "adr", Below},
 		{"adr 29/29 too few", "asge-acg-2024", withAdenomas(29, 29), "adr", TooFew},
 		{"adr 11/30 judged at 30", "asge-acg-2024", withAdenomas(11, 30), "adr", Meets},
-		{"adr_male reported", "asge-acg-2024", withAdenomas(14, 40), "adr_male", Reported},
-		// JAG discomfort maximum 10% (Siau 2023).
-		{"discomfort 3/30 = 10% meets", "bsg-jag-2016", withDiscomfort(3, 30), "comfort_discomfort", Meets},
+		// ASGE/ACG 2024 ADR in men ≥40% (from memory of the 2024 text in the
+		// clinical reference — not verified here); mkCase is male.
+		{"adr_male 16/40 = 40% meets", "asge-acg-2024", withAdenomas(16, 40), "adr_male", Meets},
+		{"adr_male 15/40 below", "asge-acg-2024", withAdenomas(15, 40), "adr_male", Below},
+		{"adr_female has no cases", "asge-acg-2024", withAdenomas(16, 40), "adr_female", TooFew},
+		// JAG discomfort "below 10%" (Siau 2023), a strict maximum: exactly
+		// at the limit does not meet it.
+		{"discomfort 3/30 = 10% exactly is below", "bsg-jag-2016", withDiscomfort(3, 30), "comfort_discomfort", Below},
+		{"discomfort 2/30 meets", "bsg-jag-2016", withDiscomfort(2, 30), "comfort_discomfort", Meets},
 		{"discomfort 4/30 below", "bsg-jag-2016", withDiscomfort(4, 30), "comfort_discomfort", Below},
 		{"discomfort under asge reported", "asge-acg-2024", withDiscomfort(4, 30), "comfort_discomfort", Reported},
 		{"empty denominator with target is too few", "asge-acg-2024", withAdenomas(0, 3), "prep_adequate", TooFew},
@@ -498,8 +505,59 @@ func TestStatus(t *testing.T) {
 	}
 	// The maximum is flagged on the indicator.
 	ind := mustFind(t, unitResult(shipped(t, "bsg-jag-2016"), withDiscomfort(1, 30)).Unit.Indicators, "comfort_discomfort")
-	if !ind.Maximum || ind.Target == nil || *ind.Target != 0.10 {
-		t.Errorf("discomfort target = %v maximum %v, want ≤0.10", ind.Target, ind.Maximum)
+	if !ind.Maximum || !ind.Strict || ind.Target == nil || *ind.Target != 0.10 {
+		t.Errorf("discomfort target = %v maximum %v strict %v, want <0.10", ind.Target, ind.Maximum, ind.Strict)
+	}
+	if got := FormatTarget(ind); got != "< 10.0%" {
+		t.Errorf("strict maximum printed %q, want \"< 10.0%%\"", got)
+	}
+}
+
+// TestJudgeStrict checks every comparison a target can ask for at, just
+// past and just short of the limit (clinical-reference §2, "Verdict": a
+// strict maximum such as discomfort below 10% (Siau 2023), perforation below
+// 1 per 1000 and bleeding below 1 per 100 (Rees 2016, screening table) is not
+// met exactly at the limit; a plain minimum or maximum is).
+func TestJudgeStrict(t *testing.T) {
+	v := func(x float64) *float64 { return &x }
+	tests := []struct {
+		name   string
+		t      Target
+		k, n   int
+		want   Status
+		sign   string
+		strict bool
+	}{
+		{"minimum reached", Target{Minimum: v(0.35)}, 14, 40, Meets, "≥", false},
+		{"minimum missed", Target{Minimum: v(0.35)}, 13, 40, Below, "≥", false},
+		{"strict minimum at the limit", Target{Minimum: v(0.35), Strict: true}, 14, 40, Below, ">", true},
+		{"strict minimum passed", Target{Minimum: v(0.35), Strict: true}, 15, 40, Meets, ">", true},
+		{"maximum at the limit", Target{Maximum: v(0.10)}, 3, 30, Meets, "≤", false},
+		{"maximum passed", Target{Maximum: v(0.10)}, 4, 30, Below, "≤", false},
+		{"discomfort below 10%: exactly 10%", Target{Maximum: v(0.10), Strict: true}, 3, 30, Below, "<", true},
+		{"discomfort below 10%: under", Target{Maximum: v(0.10), Strict: true}, 29, 300, Meets, "<", true},
+		{"perforation below 1/1000: exactly 1/1000", Target{Maximum: v(0.001), Strict: true}, 1, 1000, Below, "<", true},
+		{"bleeding below 1/100: exactly 1/100", Target{Maximum: v(0.01), Strict: true}, 1, 100, Below, "<", true},
+		{"strict but too few", Target{Maximum: v(0.10), Strict: true}, 0, 29, TooFew, "<", true},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			ind := Proportion("x", tc.k, tc.n)
+			// A stale flag from an earlier judgement must not survive.
+			ind.Maximum, ind.Strict = true, true
+			ind.Judge(&tc.t, 30)
+			if ind.Status != tc.want || ind.Strict != tc.strict {
+				t.Errorf("%d/%d: status %s strict %v, want %s strict %v", tc.k, tc.n, ind.Status, ind.Strict, tc.want, tc.strict)
+			}
+			if got := targetSign(ind.Maximum, ind.Strict); got != tc.sign {
+				t.Errorf("sign %q, want %q", got, tc.sign)
+			}
+		})
+	}
+	ind := Proportion("x", 1, 2)
+	ind.Judge(nil, 0)
+	if ind.Status != Reported || ind.Strict || ind.Maximum {
+		t.Errorf("no target: %+v", ind)
 	}
 }
 

@@ -430,7 +430,7 @@ func shortVerdict(ind Indicator) string {
 
 // indicatorRow is the standard row of an indicator table.
 func indicatorRow(ind Indicator) []string {
-	return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)}
+	return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)}
 }
 
 // indicatorColumns are the columns of indicatorRow.

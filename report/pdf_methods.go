@@ -88,9 +88,9 @@ func (d *doc) methods() {
 		ask := ""
 		switch {
 		case t.Minimum != nil:
-			ask = "≥ " + valueText(ind, t.Minimum)
+			ask = targetSign(false, t.Strict) + " " + valueText(ind, t.Minimum)
 		case t.Maximum != nil:
-			ask = "≤ " + valueText(ind, t.Maximum)
+			ask = targetSign(true, t.Strict) + " " + valueText(ind, t.Maximum)
 		}
 		if u := doseUnit(id); u != "" && ask != "" {
 			ask += " " + u
@@ -113,7 +113,8 @@ func (d *doc) methods() {
 			}
 			d.definition(r[0], text)
 		}
-		d.note("Indicators not listed are reported without a verdict.")
+		d.note("Indicators not listed are reported without a verdict. \"<\" and \">\" mark a strict target, where the " +
+			"source says \"below\" or \"less than\": a value exactly at the limit does not meet it.")
 	}
 
 	d.subheading("Definitions", 30)

@@ -140,9 +140,10 @@ func (d *doc) personalReport() {
 		case TooFew:
 			v = "○ too few to judge"
 		}
-		return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v}
+		return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v}
 	}))
 	d.compact = false
+	d.indicatorNotes(me.Indicators)
 	d.newPage("Your trends by quarter", true)
 	for _, id := range []string{"adr", "cir", "withdrawal_negative"} {
 		d.trend(me.OperatorID, "you ("+me.OperatorID+")", id, 72)
@@ -209,4 +210,5 @@ func (d *doc) traineeReport() {
 		irows = append(irows, indicatorRow(ind))
 	}
 	d.table(indicatorColumns(), irows)
+	d.indicatorNotes(tr.Indicators)
 }

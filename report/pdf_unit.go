@@ -188,6 +188,7 @@ func (d *doc) summary() {
 	d.compact = true
 	d.table(indicatorColumns(), groupedRows(d.in.Data.Metrics.Unit.Indicators, indicatorRow))
 	d.compact = false
+	d.indicatorNotes(d.in.Data.Metrics.Unit.Indicators)
 }
 
 // overviewIDs are the columns of the endoscopist overview.
@@ -313,9 +314,10 @@ func (d *doc) scorecard(inds []Indicator, ids []string) {
 		if ind.Status == TooFew {
 			v = "○ too few to judge"
 		}
-		rows = append(rows, []string{IndicatorTitle(id), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v})
+		rows = append(rows, []string{IndicatorTitle(id), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v})
 	}
 	d.table(cols, rows)
+	d.indicatorNotes(pick(inds, ids))
 }
 
 // quarterSeries returns an indicator quarter by quarter for an operator
@@ -628,7 +630,7 @@ func (d *doc) adherence() {
 	var forest []ForestRow
 	for _, x := range inds {
 		id, ind := x[0].(string), x[1].(Indicator)
-		rows = append(rows, []string{d.populationLabel(id), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)})
+		rows = append(rows, []string{d.populationLabel(id), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)})
 		label := "unit"
 		if id != "" {
 			label = id
@@ -636,6 +638,7 @@ func (d *doc) adherence() {
 		forest = append(forest, ForestRow{Label: label, Indicator: ind})
 	}
 	d.table([]column{{"Population", 52, "L"}, {"Cases", 24, "R"}, {"Value", 20, "R"}, {"95% interval", 30, "R"}, {"Target", 20, "R"}, {"Verdict", 34, "L"}}, rows)
+	d.populationNotes(inds)
 	fd := ForestData{IndicatorID: "interval_adherence", Rows: forest}
 	if t := unit.Target; t != nil {
 		fd.Reference, fd.ReferenceLabel = t, "target"
