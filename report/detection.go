@@ -70,6 +70,7 @@ type caseFacts struct {
 	adenomas                                          int
 
 	complete, cirAdjusted, photo                 bool // cirAdjusted: stays in the adjusted denominator
+	intubated                                    bool // counts in the cir numerators: complete, photographed where the profile asks
 	outpatient, inpatient                        bool
 	bbpsRecorded, bbpsAdequate, bbpsTotal6       bool
 	timed                                        bool
@@ -144,6 +145,7 @@ func (f *caseFacts) read(p *Profile, c *logbook.Case) {
 		f.cirAdjusted = true
 	}
 	f.photo = pr.CaecalPhoto == logbook.Yes
+	f.intubated = f.complete && (f.photo || !p.CIRRequiresPhoto)
 	f.outpatient = pr.Setting == logbook.Outpatient
 	f.inpatient = pr.Setting == logbook.Inpatient
 	f.bbpsRecorded = pr.BBPSRecorded()
@@ -189,9 +191,10 @@ type counts struct {
 	adr, male, female, stool, withAid, withoutAid detectionCount
 	ssl, pdr, aadr, adenomas, proxSerrated        int // over the detection-eligible (adr.n)
 
-	procs, complete, cirAdjDen, cirAdjNum, photo int
-	prepDen, prepNum, prepRecorded               int
-	total6Den, total6Num                         int
+	procs, complete, intubated     int // complete: the caecal_photo denominator; intubated: the cir numerator
+	cirAdjDen, cirAdjNum, photo    int
+	prepDen, prepNum, prepRecorded int
+	total6Den, total6Num           int
 
 	wdCandidates, wdN, wd6 int // negative eligible complete; of them timed; of those ≥6 min
 	wdSum, wdSumSq         int64
@@ -244,9 +247,10 @@ func (s *counts) add(f *caseFacts) {
 	}
 	s.procs++
 	s.complete += countIf(f.complete)
+	s.intubated += countIf(f.intubated)
 	if f.cirAdjusted {
 		s.cirAdjDen++
-		s.cirAdjNum += countIf(f.complete)
+		s.cirAdjNum += countIf(f.intubated)
 	}
 	if f.complete {
 		s.photo += countIf(f.photo)
@@ -371,6 +375,9 @@ func detectionRate(id string, d detectionCount, p *Profile) Indicator {
 //     procedures.
 //   - prep_adequate_total6: procedures not recorded as inpatient with all
 //     three segments recorded; numerator Boston total ≥6.
+//   - cir, cir_adjusted: the numerator is complete procedures, and only
+//     those with caecal_photo yes when the profile's cir_requires_photo is
+//     set (clinical-reference §2); such a figure carries cirPhotoNote.
 //   - cold_snare_small: lesion level, polypectomies of lesions 3–9 mm.
 //   - tattoo_large: lesion level, every lesion ≥20 mm or called
 //     deep_invasive outside rectum and caecum, whatever its resection.
@@ -398,8 +405,8 @@ func (s *counts) indicators(p *Profile, days int, volumeTarget bool) []Indicator
 		withEligible("aadr", s.aadr),
 		s.apc(p),
 		withEligible("proximal_sdr", s.proxSerrated),
-		judged(Proportion("cir", s.complete, s.procs), p),
-		judged(Proportion("cir_adjusted", s.cirAdjNum, s.cirAdjDen), p),
+		cirNoted(judged(Proportion("cir", s.intubated, s.procs), p), p),
+		cirNoted(judged(Proportion("cir_adjusted", s.cirAdjNum, s.cirAdjDen), p), p),
 		judged(Proportion("caecal_photo", s.photo, s.complete), p),
 		judged(Proportion("prep_adequate", s.prepNum, s.prepDen), p),
 		judged(Proportion("prep_recorded", s.prepRecorded, s.procs), p),
@@ -428,6 +435,20 @@ func (s *counts) indicators(p *Profile, days int, volumeTarget bool) []Indicator
 		aidDifference(s.withAid, s.withoutAid, p),
 	)
 	return out
+}
+
+// cirPhotoNote is printed beside the caecal intubation rates of a profile
+// that counts only photo-documented complete procedures, since the same
+// records give a higher rate under the other standards.
+const cirPhotoNote = "a complete procedure counts as intubated only with photo documentation of the caecal landmarks, as this standard defines the rate"
+
+// cirNoted adds cirPhotoNote to a caecal intubation rate when the profile
+// asks for photo documentation.
+func cirNoted(ind Indicator, p *Profile) Indicator {
+	if p.CIRRequiresPhoto {
+		ind.Note = cirPhotoNote
+	}
+	return ind
 }
 
 func scaled(ind Indicator, scale int) Indicator {

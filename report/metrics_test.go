@@ -159,6 +159,40 @@ func TestIndicatorCounts(t *testing.T) {
 			}),
 		},
 		{
+			// BSG/JAG 2016 counts "unadjusted caecal intubation with photo
+			// documentation" (Rees 2016; clinical-reference §2, the profile's
+			// cir_requires_photo): the same six as the asge cir case, of which
+			// the ileum and anastomosis ones have no photo → 2/6.
+			name: "cir photo-documented under bsg-jag-2016", profile: "bsg-jag-2016", id: "cir", num: 2, den: 6,
+			cases: []logbook.Case{
+				mkCase(), mkCase(eExtent(logbook.ExtentTerminalIleum), ePhoto(logbook.No)),
+				mkCase(eExtent(logbook.ExtentAnastomosis), ePhoto(logbook.Unrecorded)),
+				mkCase(eAge(30), eInd(logbook.Diagnostic), eExcl(logbook.IBD)),
+				mkCase(eIncomplete(logbook.ReasonPoorPrep)), mkCase(eIncomplete(logbook.ReasonLooping)),
+			},
+		},
+		{
+			// The same records under asge-acg-2024, which measures photo
+			// documentation apart (Rex 2024): 4/6.
+			name: "cir without the photo rule", profile: "asge-acg-2024", id: "cir", num: 4, den: 6,
+			cases: []logbook.Case{
+				mkCase(), mkCase(eExtent(logbook.ExtentTerminalIleum), ePhoto(logbook.No)),
+				mkCase(eExtent(logbook.ExtentAnastomosis), ePhoto(logbook.Unrecorded)),
+				mkCase(eAge(30), eInd(logbook.Diagnostic), eExcl(logbook.IBD)),
+				mkCase(eIncomplete(logbook.ReasonPoorPrep)), mkCase(eIncomplete(logbook.ReasonLooping)),
+			},
+		},
+		{
+			// cir_adjusted under bsg-jag-2016 takes the same photo rule
+			// (clinical-reference §2): 3 complete, 1 of them without a photo,
+			// looping stays, obstruction leaves → 2/4.
+			name: "cir_adjusted photo-documented under bsg-jag-2016", profile: "bsg-jag-2016", id: "cir_adjusted", num: 2, den: 4,
+			cases: []logbook.Case{
+				mkCase(), mkCase(), mkCase(ePhoto(logbook.No)),
+				mkCase(eIncomplete(logbook.ReasonObstruction)), mkCase(eIncomplete(logbook.ReasonLooping)),
+			},
+		},
+		{
 			// Complete procedures: photo yes ×2, no, unrecorded → 2/4; the
 			// incomplete one is not counted.
 			name: "caecal_photo", profile: "asge-acg-2024", id: "caecal_photo", num: 2, den: 4,
@@ -311,6 +345,26 @@ func TestIndicatorCounts(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// TestCIRPhotoNote checks that a caecal intubation rate counted with the
+// photo rule says so beside the figure, and only then (clinical-reference §2:
+// bsg-jag-2016 yes, Rees 2016; asge-acg-2024 and esge-2017 no).
+func TestCIRPhotoNote(t *testing.T) {
+	for _, tc := range []struct {
+		profile string
+		noted   bool
+	}{{"asge-acg-2024", false}, {"bsg-jag-2016", true}, {"esge-2017", false}} {
+		r := unitResult(shipped(t, tc.profile), []logbook.Case{mkCase()})
+		for _, id := range []string{"cir", "cir_adjusted"} {
+			if got := mustFind(t, r.Unit.Indicators, id).Note != ""; got != tc.noted {
+				t.Errorf("%s %s: note %v, want %v", tc.profile, id, got, tc.noted)
+			}
+		}
+		if n := mustFind(t, r.Unit.Indicators, "caecal_photo").Note; n != "" {
+			t.Errorf("%s caecal_photo: note %q", tc.profile, n)
+		}
 	}
 }
 
