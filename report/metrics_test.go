@@ -16,6 +16,13 @@ import (
 func TestIndicatorCounts(t *testing.T) {
 	adenoma := mkLesion()
 	hyper := mkLesion(histology(logbook.HistHyperplastic))
+	// Six procedures of every kind, complete ones with and without a photo.
+	photoMix := []logbook.Case{
+		mkCase(), mkCase(eExtent(logbook.ExtentTerminalIleum), ePhoto(logbook.No)),
+		mkCase(eExtent(logbook.ExtentAnastomosis), ePhoto(logbook.Unrecorded)),
+		mkCase(eAge(30), eInd(logbook.Diagnostic), eExcl(logbook.IBD)),
+		mkCase(eIncomplete(logbook.ReasonPoorPrep)), mkCase(eIncomplete(logbook.ReasonLooping)),
+	}
 	tests := []struct {
 		name     string
 		profile  string
@@ -161,26 +168,16 @@ func TestIndicatorCounts(t *testing.T) {
 		{
 			// BSG/JAG 2016 counts "unadjusted caecal intubation with photo
 			// documentation" (Rees 2016; clinical-reference §2, the profile's
-			// cir_requires_photo): the same six as the asge cir case, of which
-			// the ileum and anastomosis ones have no photo → 2/6.
+			// cir_requires_photo): four complete, of which the ileum and
+			// anastomosis ones have no photo → 2/6.
 			name: "cir photo-documented under bsg-jag-2016", profile: "bsg-jag-2016", id: "cir", num: 2, den: 6,
-			cases: []logbook.Case{
-				mkCase(), mkCase(eExtent(logbook.ExtentTerminalIleum), ePhoto(logbook.No)),
-				mkCase(eExtent(logbook.ExtentAnastomosis), ePhoto(logbook.Unrecorded)),
-				mkCase(eAge(30), eInd(logbook.Diagnostic), eExcl(logbook.IBD)),
-				mkCase(eIncomplete(logbook.ReasonPoorPrep)), mkCase(eIncomplete(logbook.ReasonLooping)),
-			},
+			cases: photoMix,
 		},
 		{
 			// The same records under asge-acg-2024, which measures photo
 			// documentation apart (Rex 2024): 4/6.
 			name: "cir without the photo rule", profile: "asge-acg-2024", id: "cir", num: 4, den: 6,
-			cases: []logbook.Case{
-				mkCase(), mkCase(eExtent(logbook.ExtentTerminalIleum), ePhoto(logbook.No)),
-				mkCase(eExtent(logbook.ExtentAnastomosis), ePhoto(logbook.Unrecorded)),
-				mkCase(eAge(30), eInd(logbook.Diagnostic), eExcl(logbook.IBD)),
-				mkCase(eIncomplete(logbook.ReasonPoorPrep)), mkCase(eIncomplete(logbook.ReasonLooping)),
-			},
+			cases: photoMix,
 		},
 		{
 			// cir_adjusted under bsg-jag-2016 takes the same photo rule
