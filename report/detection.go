@@ -1,6 +1,7 @@
 package report
 
 import (
+	"fmt"
 	"math"
 	"slices"
 
@@ -358,9 +359,9 @@ func detectionRate(id string, d detectionCount, p *Profile) Indicator {
 	return ind
 }
 
-// indicators returns the population's figures in IndicatorIDs order. days is
-// the length of the period in days (for volume); volumeTarget says whether
-// volume is judged (per operator) or only reported (the unit).
+// indicators returns the population's figures in IndicatorIDs order. per is
+// the period (for volume); isUnit says the population is the whole unit,
+// whose volume is only reported.
 //
 // Choices where clinical-reference §2 is silent, so that two readings agree:
 //   - adr_with_aid / adr_without_aid: detection-eligible procedures with
@@ -384,10 +385,13 @@ func detectionRate(id string, d detectionCount, p *Profile) Indicator {
 //   - sedation medians: procedures with the dose recorded (a recorded 0
 //     counts) in the age band; an even count takes the mean of the two middle
 //     values; numerator is the sum of the doses.
-//   - volume: procedures in the period × 365 ÷ days in the period.
+//   - volume: procedures in the period × 365 ÷ days in the period; judged
+//     only per operator and over a full year (Period.FullYear), never
+//     too_few (the case-count gate does not apply to a count of
+//     procedures, and its denominator is days).
 //   - AwaitingHistology is set on the indicators that read histology (the
 //     ADR family, ssldr, aadr, apc, proximal_sdr), not on pdr.
-func (s *counts) indicators(p *Profile, days int, volumeTarget bool) []Indicator {
+func (s *counts) indicators(p *Profile, per Period, isUnit bool) []Indicator {
 	out := make([]Indicator, 0, 36)
 	el := s.adr
 	withEligible := func(id string, k int) Indicator {
@@ -428,7 +432,7 @@ func (s *counts) indicators(p *Profile, days int, volumeTarget bool) []Indicator
 			out = append(out, s.median(d, b, p))
 		}
 	}
-	out = append(out, s.volume(p, days, volumeTarget))
+	out = append(out, s.volume(p, per, isUnit))
 	out = append(out,
 		detectionRate("adr_with_aid", s.withAid, p),
 		detectionRate("adr_without_aid", s.withoutAid, p),
@@ -520,16 +524,38 @@ func medianOfCounts(m map[float64]int, n int) float64 {
 	return (atLo + atHi) / 2
 }
 
-// volume is procedures per 365 days over a period of days days.
-func (s *counts) volume(p *Profile, days int, judge bool) Indicator {
+// volume is procedures per 365 days over the period: numerator the
+// procedures, denominator the days. It is judged against the profile's
+// target only for an operator over a full year, and never held back as
+// too_few: the case-count gate is for rates and must not read days
+// (clinical-reference §2). Otherwise it is reported, with a note saying why
+// when the profile has a target.
+func (s *counts) volume(p *Profile, per Period, isUnit bool) Indicator {
+	days := per.Days()
 	ind := Indicator{ID: "volume", Numerator: float64(s.procs), Denominator: days, Kind: KindPerYear}
 	if days > 0 {
 		ind.Value = ptr(float64(s.procs) * 365 / float64(days))
 	}
-	var t *Target
-	if judge {
-		t = p.Target(ind.ID)
+	t := p.Target(ind.ID)
+	switch {
+	case t == nil:
+		ind.Judge(nil, 0)
+	case isUnit:
+		ind.Judge(nil, 0)
+		ind.Note = volumeUnitNote
+	case !per.FullYear():
+		ind.Judge(nil, 0)
+		ask := ind
+		ask.Judge(t, 0)
+		ind.Note = fmt.Sprintf(volumeShortNote, targetText(ask))
+	default:
+		ind.Judge(t, 0)
 	}
-	ind.Judge(t, p.MinCases)
 	return ind
 }
+
+// Notes beside a volume that is not judged.
+const (
+	volumeUnitNote  = "the standard judges volume per endoscopist, so the unit's figure is reported"
+	volumeShortNote = "volume (%s) is judged only over a period of a year or more; this period is shorter"
+)

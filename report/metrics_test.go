@@ -5,6 +5,7 @@ import (
 	"math"
 	"slices"
 	"sort"
+	"strings"
 	"testing"
 
 	"polypledger/logbook"
@@ -719,36 +720,105 @@ func TestMedianOfCounts(t *testing.T) {
 	}
 }
 
+// TestVolume checks procedure volume: procedures × 365 / days in the
+// period (both ends included), judged against the BSG/JAG 100 per
+// endoscopist per year (Rees 2016) only for an operator over a period of a
+// year or more, reported with a note otherwise, and never "too few": the
+// case-count gate does not apply to a count of procedures (clinical-reference
+// §2, volume).
 func TestVolume(t *testing.T) {
-	// Volume = procedures × 365 / days in the period (both ends included).
-	// 2026-01-01 to 2026-03-31 is 90 days; E01 has 30 procedures → 121.67 per
-	// year, at or above the BSG/JAG 100 (Rees 2016); E02 has 20 → 81.1, below.
-	// The unit's figure is reported, not judged.
-	opt := MetricsOptions{From: mkDate(t, "2026-01-01"), To: mkDate(t, "2026-03-31")}
-	m := NewMetrics(shipped(t, "bsg-jag-2016"), opt)
-	for i := range 50 {
-		op := "E01"
-		if i >= 30 {
-			op = "E02"
-		}
-		c := mkCase(eOp(op))
-		m.Add(&c)
-	}
-	r := m.Result()
 	tests := []struct {
-		inds   []Indicator
-		num    float64
-		status Status
+		name     string
+		from, to string
+		days     int
+		e01, e02 int // procedures per operator
+		s01, s02 Status
+		note     string // in both operators' notes, "" for none
 	}{
-		{r.Unit.Indicators, 50, Reported},
-		{r.Operators[0].Indicators, 30, Meets},
-		{r.Operators[1].Indicators, 20, Below},
+		// A quarter, 90 days: 30 → 121.7 and 20 → 81.1 per year, neither judged.
+		{"quarter", "2026-01-01", "2026-03-31", 90, 30, 20, Reported, Reported, "judged only over a period of a year or more"},
+		// One day short of a year (364 days): still not judged.
+		{"a day short of a year", "2026-01-02", "2026-12-31", 364, 100, 20, Reported, Reported, "this period is shorter"},
+		// A calendar year: 100 meets the minimum exactly; 99 is below.
+		{"calendar year", "2026-01-01", "2026-12-31", 365, 100, 99, Meets, Below, ""},
+		// From 29 February, a year ends on 28 February (366 days).
+		{"leap year", "2024-02-29", "2025-02-28", 366, 101, 99, Meets, Below, ""},
+		// 5 procedures in a year are below 100, not too few to judge: the
+		// minimum of 30 cases is for rates, and volume's denominator is days.
+		{"five in a year is below, not too few", "2026-01-01", "2026-12-31", 365, 5, 150, Below, Meets, ""},
+		// Two years: 200 over 730 days is 100 per year.
+		{"two years", "2025-01-01", "2026-12-31", 730, 200, 150, Meets, Below, ""},
 	}
 	for _, tc := range tests {
-		ind := mustFind(t, tc.inds, "volume")
-		if ind.Numerator != tc.num || ind.Denominator != 90 || !near(*ind.Value, tc.num*365/90, 1e-9) || ind.Status != tc.status {
-			t.Errorf("volume = %v/%d = %v %s, want %v/90 %s", ind.Numerator, ind.Denominator, *ind.Value, ind.Status, tc.num, tc.status)
+		t.Run(tc.name, func(t *testing.T) {
+			m := NewMetrics(shipped(t, "bsg-jag-2016"), MetricsOptions{From: mkDate(t, tc.from), To: mkDate(t, tc.to)})
+			for i := range tc.e01 + tc.e02 {
+				op := "E01"
+				if i >= tc.e01 {
+					op = "E02"
+				}
+				c := mkCase(eOp(op), eOn(t, tc.to))
+				m.Add(&c)
+			}
+			r := m.Result()
+			unit := mustFind(t, r.Unit.Indicators, "volume")
+			if unit.Status != Reported || unit.Target != nil || !strings.Contains(unit.Note, "per endoscopist") {
+				t.Errorf("unit volume %s target %v note %q: want reported with the per-endoscopist note", unit.Status, unit.Target, unit.Note)
+			}
+			for i, want := range []struct {
+				n int
+				s Status
+			}{{tc.e01, tc.s01}, {tc.e02, tc.s02}} {
+				ind := mustFind(t, r.Operators[i].Indicators, "volume")
+				if ind.Numerator != float64(want.n) || ind.Denominator != tc.days || !near(*ind.Value, float64(want.n)*365/float64(tc.days), 1e-9) {
+					t.Errorf("%s volume = %v/%d = %v, want %d/%d", r.Operators[i].OperatorID, ind.Numerator, ind.Denominator, *ind.Value, want.n, tc.days)
+				}
+				if ind.Status != want.s {
+					t.Errorf("%s volume status %s, want %s", r.Operators[i].OperatorID, ind.Status, want.s)
+				}
+				if (tc.note == "") != (ind.Note == "") || !strings.Contains(ind.Note, tc.note) {
+					t.Errorf("%s volume note %q, want one with %q", r.Operators[i].OperatorID, ind.Note, tc.note)
+				}
+				if tc.note != "" && !strings.Contains(ind.Note, "≥ 100 per year") {
+					t.Errorf("note %q does not name the target", ind.Note)
+				}
+			}
+		})
+	}
+	// Without a volume target (asge-acg-2024) nothing needs explaining.
+	c := mkCase()
+	ind := mustFind(t, unitResult(shipped(t, "asge-acg-2024"), []logbook.Case{c}).Operators[0].Indicators, "volume")
+	if ind.Status != Reported || ind.Note != "" {
+		t.Errorf("volume without a target: %s, note %q", ind.Status, ind.Note)
+	}
+}
+
+// TestPeriodFullYear checks how "a year" is decided for volume: the last day
+// on or after the first day plus one year less one day (common practice:
+// a calendar year counted from the first day).
+func TestPeriodFullYear(t *testing.T) {
+	tests := []struct {
+		from, to string
+		days     int
+		year     bool
+	}{
+		{"2026-01-01", "2026-12-31", 365, true},
+		{"2026-01-02", "2026-12-31", 364, false},
+		{"2026-07-01", "2027-06-30", 365, true},
+		{"2024-01-01", "2024-12-30", 365, false}, // a leap year needs 366 days
+		{"2024-01-01", "2024-12-31", 366, true},
+		{"2024-02-29", "2025-02-28", 366, true},
+		{"2026-01-01", "2026-03-31", 90, false},
+		{"2026-01-01", "2028-01-01", 731, true},
+	}
+	for _, tc := range tests {
+		p := Period{From: mkDate(t, tc.from), To: mkDate(t, tc.to)}
+		if p.Days() != tc.days || p.FullYear() != tc.year {
+			t.Errorf("%s to %s: %d days, year %v; want %d, %v", tc.from, tc.to, p.Days(), p.FullYear(), tc.days, tc.year)
 		}
+	}
+	if (Period{}).FullYear() || (Period{}).Days() != 0 {
+		t.Error("an unknown period is no year")
 	}
 }
 
