@@ -96,8 +96,13 @@ func TestSuggestUSMSTF(t *testing.T) {
 		// Row "piecemeal resection of adenoma or SSL ≥20 mm" → 6 mo.
 		{"piecemeal adenoma 20 mm", fxCase("P15", fxLesion(1, hTA, 20, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, "piecemeal"},
 		{"piecemeal SSL 25 mm", fxCase("P16", fxLesion(1, hSSL, 25, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, ""},
-		// Not TSA (§4 step 4): a piecemeal 30 mm TSA stays at 3 y.
-		{"piecemeal TSA is not 6 mo", fxCase("P17", fxLesion(1, hTSA, 30, fxRes(logbook.EMRPiecemeal))), logbook.Interval3y, ""},
+		// USMSTF 2020 manages TSA like SSL, so piecemeal removal of a TSA
+		// of 20 mm or more is the 6-month row too (clinical-reference §4
+		// step 4 — from memory, not verified against the guideline text).
+		{"piecemeal TSA 30 mm", fxCase("P17", fxLesion(1, hTSA, 30, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, "traditional serrated adenoma of 30 mm removed piecemeal"},
+		{"piecemeal TSA 20 mm", fxCase("P17b", fxLesion(1, hTSA, 20, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, ""},
+		{"piecemeal TSA 19 mm is 3 y", fxCase("P17c", fxLesion(1, hTSA, 19, fxRes(logbook.EMRPiecemeal))), logbook.Interval3y, "traditional serrated"},
+		{"en bloc TSA 30 mm is 3 y", fxCase("P17d", fxLesion(1, hTSA, 30, fxRes(logbook.EMREnBloc))), logbook.Interval3y, ""},
 		// En bloc 20 mm adenoma is the ≥10 mm row, 3 y; piecemeal 19 mm too.
 		{"en bloc adenoma 20 mm", fxCase("P18", fxLesion(1, hTA, 20, fxRes(logbook.EMREnBloc))), logbook.Interval3y, ""},
 		{"piecemeal adenoma 19 mm", fxCase("P19", fxLesion(1, hTA, 19, fxRes(logbook.EMRPiecemeal))), logbook.Interval3y, ""},
@@ -145,7 +150,11 @@ func TestSuggestESGE(t *testing.T) {
 		// "any serrated polyp <10 mm without dysplasia" → screening.
 		{"small SSL", fxCase("E5", fxLesion(1, hSSL, 8)), logbook.IntervalScreening, "low-risk findings only: 0 adenomas and 1 serrated polyp"},
 		{"small hyperplastic", fxCase("E6", fxLesion(1, hHP, 8)), logbook.IntervalScreening, ""},
-		{"small TSA without a grade", fxCase("E7", fxLesion(1, hTSA, 8)), logbook.IntervalScreening, ""},
+		// A TSA is a serrated polyp with dysplasia whatever its dysplasia
+		// field says (clinical-reference §4, esge-2020 — from memory, not
+		// verified against the guideline text): 3 y even when small.
+		{"small TSA without a grade", fxCase("E7", fxLesion(1, hTSA, 8)), logbook.Interval3y, "serrated polyp with dysplasia (traditional serrated adenoma)"},
+		{"small TSA recorded without dysplasia", fxCase("E7b", fxLesion(1, hTSA, 4, fxDys(logbook.DysplasiaNone))), logbook.Interval3y, "with dysplasia"},
 		// "≥1 adenoma ≥10 mm or with high-grade dysplasia" → 3 y.
 		{"adenoma 10 mm", fxCase("E8", fxLesion(1, hTA, 10)), logbook.Interval3y, "10 mm or more"},
 		{"high-grade dysplasia", fxCase("E9", fxLesion(1, hTA, 4, fxDys(logbook.DysplasiaHigh))), logbook.Interval3y, "high-grade"},
@@ -180,6 +189,12 @@ func TestSuggestBSG(t *testing.T) {
 		{"2 premalignant, 1 advanced", fxCase("B3", fxLesion(1, hTA, 15), fxLesion(2, hTA, 4)), logbook.Interval3y, "2 premalignant polyps including 1 advanced"},
 		{"high-grade and small SSL", fxCase("B4", fxLesion(1, hTA, 4, fxDys(logbook.DysplasiaHigh)), fxLesion(2, hSSL, 4)), logbook.Interval3y, ""},
 		{"SSL with dysplasia and adenoma", fxCase("B5", fxLesion(1, hSSLD, 6), fxLesion(2, hTA, 4)), logbook.Interval3y, ""},
+		// A TSA is an advanced polyp (a serrated polyp with dysplasia)
+		// whatever its dysplasia field says (clinical-reference §4 — from
+		// memory, not verified): with one more premalignant polyp, 3 y.
+		{"small TSA without a grade and adenoma", fxCase("B5b", fxLesion(1, hTSA, 6), fxLesion(2, hTA, 4)), logbook.Interval3y, "2 premalignant polyps including 1 advanced"},
+		{"small TSA recorded without dysplasia and adenoma", fxCase("B5c", fxLesion(1, hTSA, 6, fxDys(logbook.DysplasiaNone)), fxLesion(2, hTA, 4)), logbook.Interval3y, "including 1 advanced"},
+		{"small TSA alone", fxCase("B5d", fxLesion(1, hTSA, 6)), logbook.IntervalScreening, "1 of them advanced"},
 		{"serrated 10 mm and adenoma", fxCase("B6", fxLesion(1, hHP, 10, fxAt(logbook.Sigmoid)), fxLesion(2, hTA, 4)), logbook.Interval3y, ""},
 		// "≥5 premalignant polyps" → 3 y; 4 is not enough.
 		{"5 premalignant", fxCase("B7", fxLesions(1, 5, hTA, 4)...), logbook.Interval3y, "5 premalignant"},
