@@ -142,7 +142,9 @@ func (d *doc) methods() {
 	d.definition("PIVI", PIVISource)
 	d.definition("ESGE 2019", "Bisschops R et al., Endoscopy 2019;51:1155–1179, recommendation 4: optical diagnosis may replace histology for diminutive polyps only under strictly controlled conditions; it sets no numeric threshold.")
 	if in.Eligibility.withDefaults().RuleSet == RuleSetESGE2022 {
-		d.definition("ESGE 2022", ESGE2022Source)
+		d.definition("ESGE 2022", "Sensitivity and specificity for adenoma of high-confidence calls: for diagnose-and-leave over "+
+			"diminutive rectosigmoid polyps only (at least 80% and 90%), for resect-and-discard over diminutive polyps anywhere "+
+			"(at least 80% and 80%). "+ESGE2022Source)
 	}
 	for _, g := range Guidelines {
 		mark := ""
