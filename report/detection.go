@@ -66,7 +66,7 @@ type caseFacts struct {
 	aid             logbook.YesNo
 
 	adenoma, ssl, polypectomy, advanced, proxSerrated bool // ≥1 such lesion
-	awaiting                                          bool // ≥1 lesion pending, or sent and not yet reported
+	awaiting                                          bool // ≥1 lesion awaiting histology (AwaitsHistology)
 	negative                                          bool // no polypectomy and no biopsy
 	adenomas                                          int
 
@@ -110,7 +110,7 @@ func (f *caseFacts) read(p *Profile, c *logbook.Case) {
 		if l.Segment.IsProximal() && (h.IsSSL() || h == logbook.HistTSA || (h == logbook.HistHyperplastic && l.SizeMM >= 10)) {
 			f.proxSerrated = true
 		}
-		if h == logbook.HistPending || (h == "" && l.SentToPathology == logbook.Yes) {
+		if AwaitsHistology(l) {
 			f.awaiting = true
 		}
 		poly := l.Resection.IsPolypectomy()

@@ -156,6 +156,17 @@ func (d *doc) methods() {
 	d.para("Every guideline assumes a complete examination with adequate preparation and complete resection: an incomplete " +
 		"procedure, or one with a Boston segment below 2, gets \"repeat examination\" instead of an interval, and findings " +
 		"outside the guideline's tables get \"outside the guideline — clinician decides\".")
+	d.para("Each lesion is read by its final histology. Without one, a high-confidence optical call of a diminutive polyp " +
+		"(adenoma, hyperplastic or SSL) stands in for it. Otherwise a lesion sent to pathology is awaiting histology, while a " +
+		"lesion with no specimen (not retrieved, not sent, or left in place) will never have histology and is read as a " +
+		"tubular adenoma with low-grade dysplasia of its recorded size, the conservative reading (common practice: no " +
+		"guideline table covers a polyp without histology); the interval's reasons say so. Findings outside the tables are " +
+		"decided before any lesion awaiting histology can hold the interval at \"pending\", so a known cancer is never shown as " +
+		"awaiting: adenocarcinoma; a lesion of 10 mm or more not removed (left in place or only biopsied), since the tables " +
+		"assume complete removal; more than 10 SSLs; more than 20 hyperplastic polyps; or the WHO 2019 serrated polyposis " +
+		"criteria (from memory, not verified against the text). A TSA counts as a serrated polyp with dysplasia under ESGE " +
+		"2020 and BSG 2020, and as an SSL under USMSTF 2020 (piecemeal removal at 20 mm or more: 6 months); both readings " +
+		"are from memory and not verified against the texts.")
 
 	d.subheading("Privacy and cautions", 20)
 	d.para("The report carries procedure ids and patient short codes (derived from a keyed pseudonym) only; no patient name " +
