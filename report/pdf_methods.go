@@ -35,7 +35,7 @@ func indicatorDefinitions() [][2]string {
 		{"high_confidence_rate", "Diminutive lesions (5 mm or less) called with high confidence over diminutive lesions given an optical class."},
 		{"pivi2_npv", "PIVI 2 (diagnose and leave): diminutive rectosigmoid polyps called hyperplastic with high confidence whose histology is not an adenoma, over such polyps with histology, in every procedure of the period. pivi2_npv_neoplasia also counts SSL and TSA as positive."},
 		{"pivi1_agreement", "PIVI 1 (resect and discard): procedures with at least one diminutive polyp called adenoma, hyperplastic or SSL with high confidence, every lesion with histology, passing the exam gate. Interval A replaces each such polyp by its call (adenoma as tubular adenoma with low-grade dysplasia); interval B uses histology for all. Agreement is the same interval category; disagreements are split into optical shorter, optical longer (the unsafe direction) and optical outside the guideline."},
-		{"interval_adherence", "Procedures whose recorded recommended interval equals the interval worked out under the guideline, over procedures with a recorded recommendation."},
+		{"interval_adherence", "Procedures whose recorded recommended interval equals the interval worked out under the guideline, over procedures with a recorded recommendation. A procedure whose worked-out interval still awaits histology has no interval yet: it is left out, and the figure's note says how many were."},
 		{"unassisted_caecal_intubation", "Trainee cases where the trainee reached the caecum without the trainer taking over, over trainee cases with the outcome recorded."},
 	}
 }

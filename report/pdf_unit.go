@@ -619,7 +619,7 @@ func (d *doc) adherence() {
 	}
 	d.newPage("Surveillance interval adherence", true)
 	d.note(fmt.Sprintf("Procedures whose recorded recommendation is the interval the program works out under %s, over "+
-		"procedures with a recorded recommendation. Codes are compared as written, so a range and a single value differ.", d.in.Guideline.Title()))
+		"procedures with a recorded recommendation; those whose interval still awaits histology are left out and counted in a note. Codes are compared as written, so a range and a single value differ.", d.in.Guideline.Title()))
 	inds = append(inds, [2]any{"", unit})
 	for _, o := range d.in.Data.Metrics.Operators {
 		if ind, ok := Find(o.Indicators, "interval_adherence"); ok {
