@@ -19,12 +19,12 @@ func TestAdherence(t *testing.T) {
 		p.Extent, p.IncompleteReason, p.RecommendedInterval = logbook.ExtentIncomplete, logbook.ReasonPoorPrep, logbook.IntervalRepeat
 	}
 	cases := []*logbook.Case{
-		fxTweak(fxCase("A1"), recommended("10y")),                                // computed 10y (USMSTF) / screening (ESGE)
-		fxTweak(fxCase("A2", fxLesion(1, hTA, 4)), recommended("5-10y")),         // computed 7-10y (USMSTF) / screening (ESGE)
-		fxTweak(fxCase("A3"), incomplete),                                        // computed repeat under both
-		fxCase("A4", fxLesion(1, hTA, 12)),                                       // no recommendation: not counted
-		fxTweak(fxCase("A5", fxLesion(1, hTA, 12)), recommended("3y")),           // computed 3y under both
-		fxTweak(fxCase("A6", fxLesion(1, "", 7, fxAwaiting)), recommended("3y")), // computed pending: left out
+		fxTweak(fxCase("A1"), recommended("10y")),                                     // computed 10y (USMSTF) / screening (ESGE)
+		fxTweak(fxCase("A2", fxLesion(1, hTA, 4)), recommended("5-10y")),              // computed 7-10y (USMSTF) / screening (ESGE)
+		fxTweak(fxCase("A3"), incomplete),                                             // computed repeat under both
+		fxCase("A4", fxLesion(1, hTA, 12)),                                            // no recommendation: not counted
+		fxTweak(fxCase("A5", fxLesion(1, hTA, 12)), recommended("3y")),                // computed 3y under both
+		fxTweak(fxCase("A6", fxLesion(1, "", 7, fxAwaiting)), recommended("3y")),      // computed pending: left out
 		fxTweak(fxCase("A7", fxLesion(1, "", 9, fxAwaiting)), recommended("pending")), // computed pending: left out, even recorded so
 		// A cancer beside a pending lesion is outside, not pending: counted.
 		fxTweak(fxCase("A8", fxLesion(1, hCA, 20), fxLesion(2, "", 5, fxAwaiting)), recommended("outside")),
