@@ -444,7 +444,7 @@ func (s *counts) indicators(p *Profile, per Period, isUnit bool) []Indicator {
 // cirPhotoNote is printed beside the caecal intubation rates of a profile
 // that counts only photo-documented complete procedures, since the same
 // records give a higher rate under the other standards.
-const cirPhotoNote = "a complete procedure counts as intubated only with photo documentation of the caecal landmarks, as this standard defines the rate"
+const cirPhotoNote = "only photo-documented complete procedures count, as this standard defines the rate"
 
 // cirNoted adds cirPhotoNote to a caecal intubation rate when the profile
 // asks for photo documentation.
@@ -556,6 +556,6 @@ func (s *counts) volume(p *Profile, per Period, isUnit bool) Indicator {
 
 // Notes beside a volume that is not judged.
 const (
-	volumeUnitNote  = "the standard judges volume per endoscopist, so the unit's figure is reported"
-	volumeShortNote = "volume (%s) is judged only over a period of a year or more; this period is shorter"
+	volumeUnitNote  = "judged per endoscopist, not for the unit"
+	volumeShortNote = "volume is judged over a year or more (target %s); this period is shorter"
 )

@@ -736,7 +736,7 @@ func TestVolume(t *testing.T) {
 		note     string // in both operators' notes, "" for none
 	}{
 		// A quarter, 90 days: 30 → 121.7 and 20 → 81.1 per year, neither judged.
-		{"quarter", "2026-01-01", "2026-03-31", 90, 30, 20, Reported, Reported, "judged only over a period of a year or more"},
+		{"quarter", "2026-01-01", "2026-03-31", 90, 30, 20, Reported, Reported, "volume is judged over a year or more"},
 		// One day short of a year (364 days): still not judged.
 		{"a day short of a year", "2026-01-02", "2026-12-31", 364, 100, 20, Reported, Reported, "this period is shorter"},
 		// A calendar year: 100 meets the minimum exactly; 99 is below.

@@ -26,8 +26,8 @@ func indicatorDefinitions() [][2]string {
 		{"retrieval", "Polypectomies with the lesion retrieved over polypectomies (lesion level)."},
 		{"tattoo_large", "Lesions of 20 mm or more, or called deep invasive, outside the rectum and caecum, that were tattooed (lesion level)."},
 		{"cold_snare_small", "Polypectomies of lesions of 3–9 mm done by cold snare over polypectomies of 3–9 mm lesions (lesion level)."},
-		{"comfort_discomfort", "Procedures with a Gloucester comfort score of 4 or 5 over procedures with a score; a maximum. comfort_recorded is the share of procedures scored."},
-		{"perforation", "Perforations within 30 days per 1000 procedures; bleeding is bleeding needing intervention per 100 procedures with a polypectomy. Both use the exact Clopper–Pearson interval, as rare events."},
+		{"comfort_discomfort", "Procedures with a Gloucester comfort score of 4 or 5 over procedures with a score; a maximum. The JAG standard asks for below 10%, a strict maximum: exactly 10% does not meet it. comfort_recorded is the share of procedures scored."},
+		{"perforation", "Perforations within 30 days per 1000 procedures; bleeding is bleeding needing intervention per 100 procedures with a polypectomy. Both use the exact Clopper–Pearson interval, as rare events. Where a standard asks for below 1 per 1000 or below 1 per 100, its profile marks the maximum strict, so exactly at the limit does not meet it."},
 		{"Sedation medians", "Median doses of midazolam (mg), fentanyl (µg) and pethidine (mg) over procedures with the dose recorded, under 70 and from 70 years; an even count takes the mean of the two middle values."},
 		{"volume", "Procedures in the period scaled to 365 days. It is a count, not a rate, so the minimum number of cases does not apply to it. It is judged per endoscopist only, and only over a period of at least a year (the last day on or after the first day plus one year less one day); over a shorter period, such as a quarter, it is reported with a note."},
 		{"adr_with_aid", "ADR over eligible procedures with computer-aided detection used, and without it; procedures with its use not recorded are in neither group. The difference (with minus without) has Newcombe's hybrid score interval and is never judged."},
@@ -52,7 +52,8 @@ func (d *doc) methods() {
 		"the period. A procedure is complete when it reached the caecum, the terminal ileum or an anastomosis. Histology still " +
 		"pending counts as no adenoma and no SSL: the procedure stays in the denominator, and the report says how many await " +
 		"histology. A figure over fewer cases than the profile's minimum is shown but printed as \"too few cases to judge\", " +
-		"never as meeting or missing a target.")
+		"never as meeting or missing a target. A figure marked † carries a note, printed under its table, where the bare " +
+		"numbers would mislead: procedures left out and why, or why the figure is reported rather than judged.")
 
 	d.subheading("Standard profile: "+p.Title+" ("+p.ID+")", 30)
 	d.para("Source: " + p.Source)

@@ -44,17 +44,36 @@ func (d *doc) populationNotes(pops [][2]any) {
 }
 
 // labelledNotes prints "† label: note" for every figure with a Note, in one
-// paragraph of small text; nothing when no figure has one.
+// paragraph of small text; figures with the same note share one entry
+// ("† label; label: note"). Nothing is printed when no figure has a note.
 func (d *doc) labelledNotes(labels []string, inds []Indicator) {
-	var lines []string
+	var notes []string
+	who := map[string][]string{}
 	for i, ind := range inds {
-		if ind.Note != "" {
-			lines = append(lines, labels[i]+": "+ind.Note)
+		if ind.Note == "" {
+			continue
 		}
+		if _, seen := who[ind.Note]; !seen {
+			notes = append(notes, ind.Note)
+		}
+		who[ind.Note] = append(who[ind.Note], labels[i])
 	}
-	if len(lines) > 0 {
-		d.note(noteMark + " " + strings.Join(lines, ". "+noteMark+" ") + ".")
+	lines := make([]string, len(notes))
+	for i, n := range notes {
+		lines[i] = strings.Join(who[n], "; ") + ": " + n
 	}
+	if len(lines) == 0 {
+		return
+	}
+	text := noteMark + " " + strings.Join(lines, ". "+noteMark+" ") + "."
+	if !d.compact {
+		d.note(text)
+		return
+	}
+	// Under a compact table (the one-page summaries) the notes are tighter
+	// than its rows and close up to it, so that the page still holds them.
+	d.pdf.SetY(d.pdf.GetY() - 1)
+	d.noteSized(text, 6, 2.5)
 }
 
 // pick returns the figures of inds with the ids, in the order of ids.
@@ -66,4 +85,43 @@ func pick(inds []Indicator, ids []string) []Indicator {
 		}
 	}
 	return out
+}
+
+// overviewNotes prints under the endoscopists-at-a-glance table the notes
+// of its figures (ids, for the unit and each operator): one entry per
+// figure and note, naming the populations it applies to unless it applies
+// to every row.
+func (d *doc) overviewNotes(ids []string) {
+	m := d.in.Data.Metrics
+	pops := []OperatorResult{{OperatorID: "", Indicators: m.Unit.Indicators}}
+	pops = append(pops, m.Operators...)
+	var labels []string
+	var inds []Indicator
+	for _, id := range ids {
+		var notes []string
+		who := map[string][]string{}
+		for _, p := range pops {
+			ind, ok := Find(p.Indicators, id)
+			if !ok || ind.Note == "" {
+				continue
+			}
+			if _, seen := who[ind.Note]; !seen {
+				notes = append(notes, ind.Note)
+			}
+			name := p.OperatorID
+			if name == "" {
+				name = "whole unit"
+			}
+			who[ind.Note] = append(who[ind.Note], name)
+		}
+		for _, n := range notes {
+			label := IndicatorTitle(id)
+			if len(who[n]) < len(pops) {
+				label += " (" + strings.Join(who[n], ", ") + ")"
+			}
+			labels = append(labels, label)
+			inds = append(inds, Indicator{Note: n})
+		}
+	}
+	d.labelledNotes(labels, inds)
 }

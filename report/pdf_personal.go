@@ -142,8 +142,8 @@ func (d *doc) personalReport() {
 		}
 		return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v}
 	}))
-	d.compact = false
 	d.indicatorNotes(me.Indicators)
+	d.compact = false
 	d.newPage("Your trends by quarter", true)
 	for _, id := range []string{"adr", "cir", "withdrawal_negative"} {
 		d.trend(me.OperatorID, "you ("+me.OperatorID+")", id, 72)

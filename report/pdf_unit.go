@@ -187,8 +187,8 @@ func (d *doc) summary() {
 		"● meets the target, ▼ below it, ○ too few cases to judge, ■ reported without a target.")
 	d.compact = true
 	d.table(indicatorColumns(), groupedRows(d.in.Data.Metrics.Unit.Indicators, indicatorRow))
-	d.compact = false
 	d.indicatorNotes(d.in.Data.Metrics.Unit.Indicators)
+	d.compact = false
 }
 
 // overviewIDs are the columns of the endoscopist overview.
@@ -228,6 +228,7 @@ func (d *doc) operatorOverview() {
 		forest = append(forest, ForestRow{Label: o.OperatorID, Indicator: adr})
 	}
 	d.table(cols, rows)
+	d.overviewNotes(overviewIDs())
 	fd := ForestData{IndicatorID: "adr", Rows: forest}
 	if t := forest[0].Indicator.Target; t != nil {
 		fd.Reference, fd.ReferenceLabel = t, "standard's target"
