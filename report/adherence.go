@@ -11,17 +11,20 @@ import (
 // Adherence is the accumulator of `interval_adherence` (clinical-reference
 // §4, "Interval adherence indicator"): procedures whose recorded
 // recommended_interval equals the interval the program computes under its
-// guideline, over procedures with a recorded recommendation. The codes are
-// compared literally, so a recorded "3y" matches a computed "3y" only, and a
-// recorded recommendation on a procedure the program calls "pending",
-// "repeat" or "outside" counts as adherent only when the same code was
-// recorded. It counts every procedure of its population in the period, and
-// keeps the list of procedures whose recommendation differs.
+// guideline, over procedures with a recorded recommendation and a computed
+// interval. A computed "pending" is not yet an interval: such a procedure
+// leaves the denominator, and the figure's Note says how many were left
+// out. The codes are compared literally, so a recorded "3y" matches a
+// computed "3y" only, and a recorded recommendation on a procedure the
+// program calls "repeat" or "outside" counts as adherent only when the same
+// code was recorded. It counts every procedure of its population in the
+// period, and keeps the list of procedures whose recommendation differs.
 type Adherence struct {
 	guideline  Guideline
 	target     *Target
 	minCases   int
 	n, matched int
+	awaiting   int // recommendation recorded, computed interval pending
 	mismatches []AdherenceMismatch
 }
 
@@ -54,8 +57,12 @@ func (a *Adherence) Add(c *logbook.Case) {
 	if c.RecommendedInterval == "" {
 		return
 	}
-	a.n++
 	got := SuggestedInterval(a.guideline, c, HistologyFirst)
+	if got == logbook.IntervalPending {
+		a.awaiting++
+		return
+	}
+	a.n++
 	if got == c.RecommendedInterval {
 		a.matched++
 		return
@@ -66,10 +73,14 @@ func (a *Adherence) Add(c *logbook.Case) {
 	})
 }
 
-// Indicators returns interval_adherence.
+// Indicators returns interval_adherence, with a Note counting the
+// procedures left out because their interval awaits histology.
 func (a *Adherence) Indicators() []Indicator {
 	ind := Proportion("interval_adherence", a.matched, a.n)
 	ind.Judge(a.target, a.minCases)
+	if a.awaiting > 0 {
+		ind.Note = plural(a.awaiting, "procedure") + " awaiting histology left out"
+	}
 	return []Indicator{ind}
 }
 

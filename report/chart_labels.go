@@ -64,6 +64,8 @@ var indicatorTitles = map[string]string{
 	"unassisted_caecal_intubation":      "Unassisted caecal intubation (trainee)",
 	"esge2022_sensitivity":              "High-confidence calls: sensitivity (ESGE 2022)",
 	"esge2022_specificity":              "High-confidence calls: specificity (ESGE 2022)",
+	"esge2022_leave_sensitivity":        "Rectosigmoid high-confidence calls: sensitivity (ESGE 2022)",
+	"esge2022_leave_specificity":        "Rectosigmoid high-confidence calls: specificity (ESGE 2022)",
 }
 
 // IndicatorTitle returns the printed name of an indicator id, for tables,

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"fmt"
 	"math"
 	"slices"
 
@@ -65,11 +66,12 @@ type caseFacts struct {
 	aid             logbook.YesNo
 
 	adenoma, ssl, polypectomy, advanced, proxSerrated bool // ≥1 such lesion
-	awaiting                                          bool // ≥1 lesion pending, or sent and not yet reported
+	awaiting                                          bool // ≥1 lesion awaiting histology (AwaitsHistology)
 	negative                                          bool // no polypectomy and no biopsy
 	adenomas                                          int
 
 	complete, cirAdjusted, photo                 bool // cirAdjusted: stays in the adjusted denominator
+	intubated                                    bool // counts in the cir numerators: complete, photographed where the profile asks
 	outpatient, inpatient                        bool
 	bbpsRecorded, bbpsAdequate, bbpsTotal6       bool
 	timed                                        bool
@@ -108,7 +110,7 @@ func (f *caseFacts) read(p *Profile, c *logbook.Case) {
 		if l.Segment.IsProximal() && (h.IsSSL() || h == logbook.HistTSA || (h == logbook.HistHyperplastic && l.SizeMM >= 10)) {
 			f.proxSerrated = true
 		}
-		if h == logbook.HistPending || (h == "" && l.SentToPathology == logbook.Yes) {
+		if AwaitsHistology(l) {
 			f.awaiting = true
 		}
 		poly := l.Resection.IsPolypectomy()
@@ -144,6 +146,7 @@ func (f *caseFacts) read(p *Profile, c *logbook.Case) {
 		f.cirAdjusted = true
 	}
 	f.photo = pr.CaecalPhoto == logbook.Yes
+	f.intubated = f.complete && (f.photo || !p.CIRRequiresPhoto)
 	f.outpatient = pr.Setting == logbook.Outpatient
 	f.inpatient = pr.Setting == logbook.Inpatient
 	f.bbpsRecorded = pr.BBPSRecorded()
@@ -189,9 +192,10 @@ type counts struct {
 	adr, male, female, stool, withAid, withoutAid detectionCount
 	ssl, pdr, aadr, adenomas, proxSerrated        int // over the detection-eligible (adr.n)
 
-	procs, complete, cirAdjDen, cirAdjNum, photo int
-	prepDen, prepNum, prepRecorded               int
-	total6Den, total6Num                         int
+	procs, complete, intubated     int // complete: the caecal_photo denominator; intubated: the cir numerator
+	cirAdjDen, cirAdjNum, photo    int
+	prepDen, prepNum, prepRecorded int
+	total6Den, total6Num           int
 
 	wdCandidates, wdN, wd6 int // negative eligible complete; of them timed; of those ≥6 min
 	wdSum, wdSumSq         int64
@@ -244,9 +248,10 @@ func (s *counts) add(f *caseFacts) {
 	}
 	s.procs++
 	s.complete += countIf(f.complete)
+	s.intubated += countIf(f.intubated)
 	if f.cirAdjusted {
 		s.cirAdjDen++
-		s.cirAdjNum += countIf(f.complete)
+		s.cirAdjNum += countIf(f.intubated)
 	}
 	if f.complete {
 		s.photo += countIf(f.photo)
@@ -354,9 +359,9 @@ func detectionRate(id string, d detectionCount, p *Profile) Indicator {
 	return ind
 }
 
-// indicators returns the population's figures in IndicatorIDs order. days is
-// the length of the period in days (for volume); volumeTarget says whether
-// volume is judged (per operator) or only reported (the unit).
+// indicators returns the population's figures in IndicatorIDs order. per is
+// the period (for volume); isUnit says the population is the whole unit,
+// whose volume is only reported.
 //
 // Choices where clinical-reference §2 is silent, so that two readings agree:
 //   - adr_with_aid / adr_without_aid: detection-eligible procedures with
@@ -371,16 +376,22 @@ func detectionRate(id string, d detectionCount, p *Profile) Indicator {
 //     procedures.
 //   - prep_adequate_total6: procedures not recorded as inpatient with all
 //     three segments recorded; numerator Boston total ≥6.
+//   - cir, cir_adjusted: the numerator is complete procedures, and only
+//     those with caecal_photo yes when the profile's cir_requires_photo is
+//     set (clinical-reference §2); such a figure carries cirPhotoNote.
 //   - cold_snare_small: lesion level, polypectomies of lesions 3–9 mm.
 //   - tattoo_large: lesion level, every lesion ≥20 mm or called
 //     deep_invasive outside rectum and caecum, whatever its resection.
 //   - sedation medians: procedures with the dose recorded (a recorded 0
 //     counts) in the age band; an even count takes the mean of the two middle
 //     values; numerator is the sum of the doses.
-//   - volume: procedures in the period × 365 ÷ days in the period.
+//   - volume: procedures in the period × 365 ÷ days in the period; judged
+//     only per operator and over a full year (Period.FullYear), never
+//     too_few (the case-count gate does not apply to a count of
+//     procedures, and its denominator is days).
 //   - AwaitingHistology is set on the indicators that read histology (the
 //     ADR family, ssldr, aadr, apc, proximal_sdr), not on pdr.
-func (s *counts) indicators(p *Profile, days int, volumeTarget bool) []Indicator {
+func (s *counts) indicators(p *Profile, per Period, isUnit bool) []Indicator {
 	out := make([]Indicator, 0, 36)
 	el := s.adr
 	withEligible := func(id string, k int) Indicator {
@@ -398,8 +409,8 @@ func (s *counts) indicators(p *Profile, days int, volumeTarget bool) []Indicator
 		withEligible("aadr", s.aadr),
 		s.apc(p),
 		withEligible("proximal_sdr", s.proxSerrated),
-		judged(Proportion("cir", s.complete, s.procs), p),
-		judged(Proportion("cir_adjusted", s.cirAdjNum, s.cirAdjDen), p),
+		cirNoted(judged(Proportion("cir", s.intubated, s.procs), p), p),
+		cirNoted(judged(Proportion("cir_adjusted", s.cirAdjNum, s.cirAdjDen), p), p),
 		judged(Proportion("caecal_photo", s.photo, s.complete), p),
 		judged(Proportion("prep_adequate", s.prepNum, s.prepDen), p),
 		judged(Proportion("prep_recorded", s.prepRecorded, s.procs), p),
@@ -421,13 +432,27 @@ func (s *counts) indicators(p *Profile, days int, volumeTarget bool) []Indicator
 			out = append(out, s.median(d, b, p))
 		}
 	}
-	out = append(out, s.volume(p, days, volumeTarget))
+	out = append(out, s.volume(p, per, isUnit))
 	out = append(out,
 		detectionRate("adr_with_aid", s.withAid, p),
 		detectionRate("adr_without_aid", s.withoutAid, p),
 		aidDifference(s.withAid, s.withoutAid, p),
 	)
 	return out
+}
+
+// cirPhotoNote is printed beside the caecal intubation rates of a profile
+// that counts only photo-documented complete procedures, since the same
+// records give a higher rate under the other standards.
+const cirPhotoNote = "only photo-documented complete procedures count, as this standard defines the rate"
+
+// cirNoted adds cirPhotoNote to a caecal intubation rate when the profile
+// asks for photo documentation.
+func cirNoted(ind Indicator, p *Profile) Indicator {
+	if p.CIRRequiresPhoto {
+		ind.Note = cirPhotoNote
+	}
+	return ind
 }
 
 func scaled(ind Indicator, scale int) Indicator {
@@ -499,16 +524,38 @@ func medianOfCounts(m map[float64]int, n int) float64 {
 	return (atLo + atHi) / 2
 }
 
-// volume is procedures per 365 days over a period of days days.
-func (s *counts) volume(p *Profile, days int, judge bool) Indicator {
+// volume is procedures per 365 days over the period: numerator the
+// procedures, denominator the days. It is judged against the profile's
+// target only for an operator over a full year, and never held back as
+// too_few: the case-count gate is for rates and must not read days
+// (clinical-reference §2). Otherwise it is reported, with a note saying why
+// when the profile has a target.
+func (s *counts) volume(p *Profile, per Period, isUnit bool) Indicator {
+	days := per.Days()
 	ind := Indicator{ID: "volume", Numerator: float64(s.procs), Denominator: days, Kind: KindPerYear}
 	if days > 0 {
 		ind.Value = ptr(float64(s.procs) * 365 / float64(days))
 	}
-	var t *Target
-	if judge {
-		t = p.Target(ind.ID)
+	t := p.Target(ind.ID)
+	switch {
+	case t == nil:
+		ind.Judge(nil, 0)
+	case isUnit:
+		ind.Judge(nil, 0)
+		ind.Note = volumeUnitNote
+	case !per.FullYear():
+		ind.Judge(nil, 0)
+		ask := ind
+		ask.Judge(t, 0)
+		ind.Note = fmt.Sprintf(volumeShortNote, targetText(ask))
+	default:
+		ind.Judge(t, 0)
 	}
-	ind.Judge(t, p.MinCases)
 	return ind
 }
+
+// Notes beside a volume that is not judged.
+const (
+	volumeUnitNote  = "judged per endoscopist, not for the unit"
+	volumeShortNote = "volume is judged over a year or more (target %s); this period is shorter"
+)

@@ -132,9 +132,12 @@ type EligibilityFigures struct {
 // figures.
 type eligibilityCounts struct {
 	// hcDiminutive is the 2×2 table of high-confidence calls of diminutive
-	// lesions with final histology (the ESGE 2022 figures).
-	hcDiminutive          BinaryTable
-	discard, leave, saved int
+	// lesions with final histology (the ESGE 2022 resect-and-discard
+	// figures); hcRectosigmoid the same for diminutive rectosigmoid lesions
+	// only (the ESGE 2022 leave-in-situ figures, which concern those lesions
+	// alone; clinical-reference §3).
+	hcDiminutive, hcRectosigmoid BinaryTable
+	discard, leave, saved        int
 }
 
 func (e *eligibilityCounts) add(l *logbook.Lesion) {
@@ -143,6 +146,9 @@ func (e *eligibilityCounts) add(l *logbook.Lesion) {
 	}
 	if row := callClass(l.OpticalClass); row >= 0 && l.Histology.IsFinal() {
 		e.hcDiminutive.Add(row == classAdenoma, l.Histology.IsAdenoma())
+		if l.Segment.IsRectosigmoid() {
+			e.hcRectosigmoid.Add(row == classAdenoma, l.Histology.IsAdenoma())
+		}
 	}
 	if _, _, ok := OpticalStandIn(l); !ok {
 		return
@@ -172,18 +178,18 @@ func (e *eligibilityCounts) figures(s EligibilitySettings, pivi1 PIVI1Detail, pi
 	}
 	switch s.RuleSet {
 	case RuleSetESGE2022:
-		t := e.hcDiminutive
-		sens := func(id string) Indicator {
+		sens := func(id string, t BinaryTable) Indicator {
 			return Proportion(id, t.TruePositive, t.TruePositive+t.FalseNegative)
 		}
-		spec := func(id string) Indicator {
+		spec := func(id string, t BinaryTable) Indicator {
 			return Proportion(id, t.TrueNegative, t.TrueNegative+t.FalsePositive)
 		}
+		rs, all := e.hcRectosigmoid, e.hcDiminutive
 		f.Checks = []ThresholdCheck{
-			newCheck("diagnose_and_leave", "sensitivity for adenoma of high-confidence calls of diminutive polyps, at least 80%", ESGE2022Source, sens("esge2022_sensitivity"), 0.80, s.MinCases),
-			newCheck("diagnose_and_leave", "specificity for adenoma of high-confidence calls of diminutive polyps, at least 90%", ESGE2022Source, spec("esge2022_specificity"), 0.90, s.MinCases),
-			newCheck("resect_and_discard", "sensitivity for adenoma of high-confidence calls of diminutive polyps, at least 80%", ESGE2022Source, sens("esge2022_sensitivity"), 0.80, s.MinCases),
-			newCheck("resect_and_discard", "specificity for adenoma of high-confidence calls of diminutive polyps, at least 80%", ESGE2022Source, spec("esge2022_specificity"), 0.80, s.MinCases),
+			newCheck("diagnose_and_leave", "sensitivity for adenoma of high-confidence calls of diminutive rectosigmoid polyps, at least 80%", ESGE2022Source, sens("esge2022_leave_sensitivity", rs), 0.80, s.MinCases),
+			newCheck("diagnose_and_leave", "specificity for adenoma of high-confidence calls of diminutive rectosigmoid polyps, at least 90%", ESGE2022Source, spec("esge2022_leave_specificity", rs), 0.90, s.MinCases),
+			newCheck("resect_and_discard", "sensitivity for adenoma of high-confidence calls of diminutive polyps, at least 80%", ESGE2022Source, sens("esge2022_sensitivity", all), 0.80, s.MinCases),
+			newCheck("resect_and_discard", "specificity for adenoma of high-confidence calls of diminutive polyps, at least 80%", ESGE2022Source, spec("esge2022_specificity", all), 0.80, s.MinCases),
 		}
 	default:
 		f.Checks = []ThresholdCheck{

@@ -99,10 +99,14 @@ func TestEligibilityPIVI(t *testing.T) {
 
 // TestEligibilityESGE2022 uses the optical fixture's high-confidence
 // diminutive calls with histology: O1.1 TP, O1.2 FP, O1.3 TN, O2.1 FN,
-// O2.2 TN, O2.3 TN → sensitivity 1/2, specificity 3/4. Thresholds as given
-// in the project's clinical reference for Houwen BBSL et al., Endoscopy
-// 2022;54:88–99 (recalled from memory there; not verified against the text
-// here): leave in situ ≥80% / ≥90%, resect and discard ≥80% / ≥80%.
+// O2.2 TN, O2.3 TN → sensitivity 1/2, specificity 3/4 for resect and
+// discard. Leave in situ concerns diminutive rectosigmoid lesions only
+// (clinical-reference §3): O1.3 TN, O2.1 FN, O2.2 TN, O2.3 TN (rectum and
+// sigmoid; O1.1 and O1.2 are in the ascending colon) → sensitivity 0/1,
+// specificity 3/3. Thresholds as given in the project's clinical reference
+// for Houwen BBSL et al., Endoscopy 2022;54:88–99 (recalled from memory
+// there; not verified against the text here): leave in situ ≥80% / ≥90%,
+// resect and discard ≥80% / ≥80%.
 func TestEligibilityESGE2022(t *testing.T) {
 	a := NewOpticalAudit(USMSTF2020, EligibilitySettings{MinCases: 4, RuleSet: RuleSetESGE2022})
 	for _, c := range opticalFixture() {
@@ -118,17 +122,19 @@ func TestEligibilityESGE2022(t *testing.T) {
 		k, n      int
 		threshold float64
 		enough    bool
+		onValue   bool
+		lesions   string // the lesions the rule names
 	}{
-		{"diagnose_and_leave", "esge2022_sensitivity", 1, 2, 0.80, false},
-		{"diagnose_and_leave", "esge2022_specificity", 3, 4, 0.90, true},
-		{"resect_and_discard", "esge2022_sensitivity", 1, 2, 0.80, false},
-		{"resect_and_discard", "esge2022_specificity", 3, 4, 0.80, true},
+		{"diagnose_and_leave", "esge2022_leave_sensitivity", 0, 1, 0.80, false, false, "diminutive rectosigmoid polyps"},
+		{"diagnose_and_leave", "esge2022_leave_specificity", 3, 3, 0.90, false, true, "diminutive rectosigmoid polyps"},
+		{"resect_and_discard", "esge2022_sensitivity", 1, 2, 0.80, false, false, "of diminutive polyps"},
+		{"resect_and_discard", "esge2022_specificity", 3, 4, 0.80, true, false, "of diminutive polyps"},
 	}
 	for i, w := range want {
 		c := e.Checks[i]
 		wantProportion(t, c.Figure, w.id, w.k, w.n)
-		if c.Strategy != w.strategy || c.Threshold != w.threshold || c.EnoughCases != w.enough || c.MetOnValue || c.MetOnLowerLimit ||
-			!strings.Contains(c.Source, "Houwen") {
+		if c.Strategy != w.strategy || c.Threshold != w.threshold || c.EnoughCases != w.enough || c.MetOnValue != w.onValue ||
+			c.MetOnLowerLimit || !strings.Contains(c.Source, "Houwen") || !strings.Contains(c.Rule, w.lesions) {
 			t.Errorf("check %d: %+v", i, c)
 		}
 	}

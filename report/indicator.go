@@ -76,6 +76,11 @@ type Target struct {
 	Minimum      *float64 `json:"minimum,omitempty"`
 	Maximum      *float64 `json:"maximum,omitempty"`
 	Aspirational *float64 `json:"aspirational,omitempty"`
+	// Strict is true when the source asks for a value strictly below a
+	// maximum or strictly above a minimum ("below 10%", "less than 1 per
+	// 1000"): a value exactly at the target then does not meet it
+	// (clinical-reference §2, "Verdict").
+	Strict bool `json:"strict,omitempty"`
 	// Source names the publication (and table) the figures come from, so a
 	// profile file carries its own references.
 	Source string `json:"source,omitempty"`
@@ -89,12 +94,13 @@ func ptr(v float64) *float64 {
 	return &v
 }
 
-// Judge sets ind's Target, Aspirational, Maximum and Status from t and the
-// minimum case count: too_few under minCases, reported without a target,
-// otherwise meets when the value reaches the target (≥ a minimum, ≤ a
-// maximum) and below when not.
+// Judge sets ind's Target, Aspirational, Maximum, Strict and Status from t
+// and the minimum case count: too_few under minCases, reported without a
+// target, otherwise meets when the value reaches the target (≥ a minimum,
+// ≤ a maximum; > and < when the target is strict) and below when not.
 func (ind *Indicator) Judge(t *Target, minCases int) {
 	var target *float64
+	ind.Maximum, ind.Strict = false, false
 	if t != nil {
 		if t.Minimum != nil {
 			target = t.Minimum
@@ -103,6 +109,7 @@ func (ind *Indicator) Judge(t *Target, minCases int) {
 			ind.Maximum = true
 		}
 		ind.Aspirational = t.Aspirational
+		ind.Strict = target != nil && t.Strict
 	}
 	ind.Target = target
 	switch {
@@ -110,11 +117,39 @@ func (ind *Indicator) Judge(t *Target, minCases int) {
 		ind.Status = Reported
 	case ind.Denominator < minCases || ind.Value == nil:
 		ind.Status = TooFew
-	case ind.Maximum && *ind.Value <= *target, !ind.Maximum && *ind.Value >= *target:
+	case meetsTarget(*ind.Value, *target, ind.Maximum, ind.Strict):
 		ind.Status = Meets
 	default:
 		ind.Status = Below
 	}
+}
+
+// meetsTarget compares a value with its target: at most (maximum), at
+// least (minimum), or strictly below or above when strict.
+func meetsTarget(v, target float64, maximum, strict bool) bool {
+	switch {
+	case maximum && strict:
+		return v < target
+	case maximum:
+		return v <= target
+	case strict:
+		return v > target
+	}
+	return v >= target
+}
+
+// targetSign is the comparison a target asks for, as printed before it:
+// "≥" for a minimum, "≤" for a maximum, ">" and "<" when strict.
+func targetSign(maximum, strict bool) string {
+	switch {
+	case maximum && strict:
+		return "<"
+	case maximum:
+		return "≤"
+	case strict:
+		return ">"
+	}
+	return "≥"
 }
 
 // Proportion builds an indicator for k of n with its Wilson 95% interval.

@@ -146,14 +146,41 @@ type ReadLesion struct {
 	// FromOptical is true when Histology and Dysplasia come from the
 	// optical call rather than from pathology.
 	FromOptical bool
+	// NoSpecimen is true when the lesion will never have histology (see
+	// HasNoSpecimen) and no optical call may stand in for it, so that it is
+	// read as a tubular adenoma with low-grade dysplasia of its recorded
+	// size: the conservative reading (common practice; no guideline table
+	// covers a polyp without histology; clinical-reference §4 step 1).
+	NoSpecimen bool
 }
 
 // Reading is a procedure's lesions as read under one LesionReading.
 type Reading struct {
+	// Lesions are the lesions read: by final histology, by an optical call
+	// standing in for it, or, with no specimen, as a tubular adenoma.
 	Lesions []ReadLesion
-	// Unread lists the lesion numbers with neither a final histology nor an
-	// optical call that may stand in for it; any makes the interval pending.
-	Unread []int
+	// Awaiting are the lesions sent to pathology whose histology is still to
+	// come, with no optical call to stand in (Histology empty). They make the
+	// interval pending, unless a finding among the lesions already read, or
+	// a large lesion not removed, puts the procedure outside the guideline.
+	Awaiting []ReadLesion
+}
+
+// HasNoSpecimen reports a lesion that will never have histology: not
+// retrieved, not sent to pathology, or left in place (resection none)
+// without being sent. Such a lesion is never "awaiting histology", whatever
+// its histology field says (clinical-reference §4 step 1).
+func HasNoSpecimen(l *logbook.Lesion) bool {
+	return l.Retrieved == logbook.No || l.SentToPathology == logbook.No ||
+		(l.Resection == logbook.ResectionNone && l.SentToPathology != logbook.Yes)
+}
+
+// AwaitsHistology reports a lesion whose histology is still to come: no
+// final histology, and a specimen that was sent (or, where sending is not
+// recorded, may have been). Every figure that counts lesions awaiting
+// histology uses this one rule.
+func AwaitsHistology(l *logbook.Lesion) bool {
+	return !l.Histology.IsFinal() && !HasNoSpecimen(l)
 }
 
 // OpticalStandIn returns the histology and dysplasia an optical call stands
@@ -177,7 +204,12 @@ func OpticalStandIn(l *logbook.Lesion) (h logbook.Histology, d logbook.Dysplasia
 	return "", "", false
 }
 
-// ReadLesions reads c's lesions under mode (see LesionReading).
+// ReadLesions reads c's lesions under mode (see LesionReading), in the
+// order of clinical-reference §4 step 1: final histology (or, under
+// OpticalFirst, an optical call that may stand in, first); else an optical
+// call that may stand in; else, for a lesion sent to pathology, awaiting;
+// else, for a lesion with no specimen, a tubular adenoma with low-grade
+// dysplasia of its recorded size.
 func ReadLesions(c *logbook.Case, mode LesionReading) Reading {
 	r := Reading{Lesions: make([]ReadLesion, 0, len(c.Lesions))}
 	for i := range c.Lesions {
@@ -189,8 +221,10 @@ func ReadLesions(c *logbook.Case, mode LesionReading) Reading {
 			rl.Histology, rl.Dysplasia, rl.FromOptical = h, d, true
 		case l.Histology.IsFinal():
 			rl.Histology, rl.Dysplasia = l.Histology, l.Dysplasia
+		case HasNoSpecimen(l):
+			rl.Histology, rl.Dysplasia, rl.NoSpecimen = logbook.TubularAdenoma, logbook.DysplasiaLow, true
 		default:
-			r.Unread = append(r.Unread, l.LesionNo)
+			r.Awaiting = append(r.Awaiting, rl)
 			continue
 		}
 		r.Lesions = append(r.Lesions, rl)
@@ -200,10 +234,13 @@ func ReadLesions(c *logbook.Case, mode LesionReading) Reading {
 
 // Suggest returns the surveillance interval for c under guideline g, applying
 // clinical-reference §4 "How the program applies the table" step by step:
-// the exam gate (repeat), exclusions and findings outside the tables
-// (outside), lesions without histology that no optical call can stand in for
-// (pending), then the guideline's table with the shortest candidate winning.
-// An unknown guideline is read as the default.
+// the exam gate (repeat), the exclusions (outside), the lesions read
+// (histology, an optical call standing in, or with no specimen the
+// conservative tubular-adenoma reading), findings outside the tables
+// (outside: checked before awaiting, so a known cancer is never shown as
+// awaiting histology), lesions still awaiting histology (pending), then the
+// guideline's table with the shortest candidate winning. An unknown
+// guideline is read as the default.
 func Suggest(g Guideline, c *logbook.Case) Suggestion {
 	return SuggestReading(g, c, HistologyFirst)
 }
@@ -249,17 +286,17 @@ func suggest(g Guideline, c *logbook.Case, mode LesionReading, withReasons bool)
 		return s
 	}
 	rd := ReadLesions(c, mode)
-	if len(rd.Unread) > 0 {
-		s.Interval = logbook.IntervalPending
-		if withReasons {
-			for _, no := range rd.Unread {
-				s.Reasons = append(s.Reasons, fmt.Sprintf("lesion %d has no final histology and no high-confidence optical call of a diminutive polyp to stand in for it", no))
-			}
-		}
+	if reasons := outsideFindings(rd); len(reasons) > 0 {
+		s.Interval, s.Reasons = logbook.IntervalOutside, reasons
 		return s
 	}
-	if reasons := outsideFindings(rd.Lesions); len(reasons) > 0 {
-		s.Interval, s.Reasons = logbook.IntervalOutside, reasons
+	if len(rd.Awaiting) > 0 {
+		s.Interval = logbook.IntervalPending
+		if withReasons {
+			for _, l := range rd.Awaiting {
+				s.Reasons = append(s.Reasons, fmt.Sprintf("lesion %d was sent to pathology and its histology is still awaited; no high-confidence optical call of a diminutive polyp stands in for it", l.LesionNo))
+			}
+		}
 		return s
 	}
 	var cs candidates
@@ -276,12 +313,35 @@ func suggest(g Guideline, c *logbook.Case, mode LesionReading, withReasons bool)
 		return s
 	}
 	s.Interval, s.Reasons = cs.shortest()
-	for _, l := range rd.Lesions {
-		if l.FromOptical {
+	for i := range rd.Lesions {
+		l := &rd.Lesions[i]
+		switch {
+		case l.FromOptical:
 			s.Reasons = append(s.Reasons, fmt.Sprintf("lesion %d read by its high-confidence optical call (%s, %d mm) in place of histology", l.LesionNo, opticalWord(l.Histology), l.SizeMM))
+		case l.NoSpecimen:
+			s.Reasons = append(s.Reasons, noSpecimenReason(c, l))
 		}
 	}
 	return s
+}
+
+// noSpecimenReason says why a lesion with no specimen was read as a tubular
+// adenoma with low-grade dysplasia of its size.
+func noSpecimenReason(c *logbook.Case, rl *ReadLesion) string {
+	why := "was not sent to pathology"
+	for i := range c.Lesions {
+		if l := &c.Lesions[i]; l.LesionNo == rl.LesionNo {
+			switch {
+			case l.Resection == logbook.ResectionNone:
+				why = "was left in place"
+			case l.Retrieved == logbook.No:
+				why = "was not retrieved"
+			}
+			break
+		}
+	}
+	return fmt.Sprintf("lesion %d %s, so it will have no histology: read as a tubular adenoma with low-grade dysplasia of its recorded %d mm "+
+		"(the conservative reading; no guideline table covers a polyp without histology)", rl.LesionNo, why, rl.SizeMM)
 }
 
 // failsExamGate reports what examGate explains: an incomplete extent or a
@@ -322,13 +382,27 @@ func isSerrated(h logbook.Histology) bool {
 }
 
 // outsideFindings returns the findings that put the procedure outside every
-// guideline's table (clinical-reference §4 step 2): adenocarcinoma, more
-// than 10 SSLs, more than 20 hyperplastic polyps, or the WHO 2019 serrated
-// polyposis criteria.
-func outsideFindings(ls []ReadLesion) []string {
+// guideline's table (clinical-reference §4 step 2), checked before any
+// lesion awaiting histology can make the interval pending: adenocarcinoma;
+// a lesion of 10 mm or more not removed (resection none or biopsy only,
+// whether or not its histology has come: the tables assume complete
+// removal); more than 10 SSLs; more than 20 hyperplastic polyps; or the WHO
+// 2019 serrated polyposis criteria. The counts use the lesions read.
+func outsideFindings(rd Reading) []string {
 	var rs []string
+	for _, list := range [][]ReadLesion{rd.Lesions, rd.Awaiting} {
+		for _, l := range list {
+			if l.SizeMM >= 10 && (l.Resection == logbook.ResectionNone || l.Resection == logbook.BiopsyOnly) {
+				how := "was not removed"
+				if l.Resection == logbook.BiopsyOnly {
+					how = "was only biopsied"
+				}
+				rs = append(rs, fmt.Sprintf("lesion %d of %d mm %s; the guideline tables assume complete removal, so its removal is planned first", l.LesionNo, l.SizeMM, how))
+			}
+		}
+	}
 	var nSSL, nHP, nSerrated, nSerratedProx, nProx5, nProx10 int
-	for _, l := range ls {
+	for _, l := range rd.Lesions {
 		if l.Histology == logbook.Adenocarcinoma {
 			rs = append(rs, fmt.Sprintf("lesion %d is an adenocarcinoma", l.LesionNo))
 		}

@@ -3,10 +3,13 @@ package report
 import "polypledger/logbook"
 
 // serratedDysplasia reports a serrated polyp "with dysplasia" for the ESGE
-// and BSG tables: an SSL with dysplasia, or any serrated lesion whose
-// recorded dysplasia is low or high (a TSA with a grade recorded).
+// and BSG tables: an SSL with dysplasia, any TSA whatever its dysplasia
+// field says (TSAs are regarded as dysplastic lesions; clinical-reference §4,
+// the conservative reading — from memory, not verified against the
+// guideline texts), or any other serrated lesion whose recorded dysplasia is
+// low or high.
 func serratedDysplasia(l ReadLesion) bool {
-	return l.Histology == logbook.HistSSLDysplasia ||
+	return l.Histology == logbook.HistSSLDysplasia || l.Histology == logbook.HistTSA ||
 		(isSerrated(l.Histology) && (l.Dysplasia == logbook.DysplasiaLow || l.Dysplasia == logbook.DysplasiaHigh))
 }
 
@@ -14,8 +17,9 @@ func serratedDysplasia(l ReadLesion) bool {
 // clinical-reference §4): an early check at 3–6 months after piecemeal
 // removal of a polyp of 20 mm or more; 3 years for an adenoma of 10 mm or
 // more or with high-grade dysplasia, 5 or more adenomas, or a serrated polyp
-// (SSL, TSA or hyperplastic) of 10 mm or more or with dysplasia; otherwise
-// back to screening. Villous histology alone does not raise the risk here.
+// (SSL, TSA or hyperplastic) of 10 mm or more or with dysplasia (every TSA:
+// see serratedDysplasia); otherwise back to screening. Villous histology
+// alone does not raise the risk here.
 func esgeCandidates(ls []ReadLesion) candidates {
 	var cs candidates
 	var nA, nSer int

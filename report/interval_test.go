@@ -96,8 +96,13 @@ func TestSuggestUSMSTF(t *testing.T) {
 		// Row "piecemeal resection of adenoma or SSL ≥20 mm" → 6 mo.
 		{"piecemeal adenoma 20 mm", fxCase("P15", fxLesion(1, hTA, 20, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, "piecemeal"},
 		{"piecemeal SSL 25 mm", fxCase("P16", fxLesion(1, hSSL, 25, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, ""},
-		// Not TSA (§4 step 4): a piecemeal 30 mm TSA stays at 3 y.
-		{"piecemeal TSA is not 6 mo", fxCase("P17", fxLesion(1, hTSA, 30, fxRes(logbook.EMRPiecemeal))), logbook.Interval3y, ""},
+		// USMSTF 2020 manages TSA like SSL, so piecemeal removal of a TSA
+		// of 20 mm or more is the 6-month row too (clinical-reference §4
+		// step 4 — from memory, not verified against the guideline text).
+		{"piecemeal TSA 30 mm", fxCase("P17", fxLesion(1, hTSA, 30, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, "traditional serrated adenoma of 30 mm removed piecemeal"},
+		{"piecemeal TSA 20 mm", fxCase("P17b", fxLesion(1, hTSA, 20, fxRes(logbook.EMRPiecemeal))), logbook.Interval6m, ""},
+		{"piecemeal TSA 19 mm is 3 y", fxCase("P17c", fxLesion(1, hTSA, 19, fxRes(logbook.EMRPiecemeal))), logbook.Interval3y, "traditional serrated"},
+		{"en bloc TSA 30 mm is 3 y", fxCase("P17d", fxLesion(1, hTSA, 30, fxRes(logbook.EMREnBloc))), logbook.Interval3y, ""},
 		// En bloc 20 mm adenoma is the ≥10 mm row, 3 y; piecemeal 19 mm too.
 		{"en bloc adenoma 20 mm", fxCase("P18", fxLesion(1, hTA, 20, fxRes(logbook.EMREnBloc))), logbook.Interval3y, ""},
 		{"piecemeal adenoma 19 mm", fxCase("P19", fxLesion(1, hTA, 19, fxRes(logbook.EMRPiecemeal))), logbook.Interval3y, ""},
@@ -145,7 +150,11 @@ func TestSuggestESGE(t *testing.T) {
 		// "any serrated polyp <10 mm without dysplasia" → screening.
 		{"small SSL", fxCase("E5", fxLesion(1, hSSL, 8)), logbook.IntervalScreening, "low-risk findings only: 0 adenomas and 1 serrated polyp"},
 		{"small hyperplastic", fxCase("E6", fxLesion(1, hHP, 8)), logbook.IntervalScreening, ""},
-		{"small TSA without a grade", fxCase("E7", fxLesion(1, hTSA, 8)), logbook.IntervalScreening, ""},
+		// A TSA is a serrated polyp with dysplasia whatever its dysplasia
+		// field says (clinical-reference §4, esge-2020 — from memory, not
+		// verified against the guideline text): 3 y even when small.
+		{"small TSA without a grade", fxCase("E7", fxLesion(1, hTSA, 8)), logbook.Interval3y, "serrated polyp with dysplasia (traditional serrated adenoma)"},
+		{"small TSA recorded without dysplasia", fxCase("E7b", fxLesion(1, hTSA, 4, fxDys(logbook.DysplasiaNone))), logbook.Interval3y, "with dysplasia"},
 		// "≥1 adenoma ≥10 mm or with high-grade dysplasia" → 3 y.
 		{"adenoma 10 mm", fxCase("E8", fxLesion(1, hTA, 10)), logbook.Interval3y, "10 mm or more"},
 		{"high-grade dysplasia", fxCase("E9", fxLesion(1, hTA, 4, fxDys(logbook.DysplasiaHigh))), logbook.Interval3y, "high-grade"},
@@ -180,6 +189,12 @@ func TestSuggestBSG(t *testing.T) {
 		{"2 premalignant, 1 advanced", fxCase("B3", fxLesion(1, hTA, 15), fxLesion(2, hTA, 4)), logbook.Interval3y, "2 premalignant polyps including 1 advanced"},
 		{"high-grade and small SSL", fxCase("B4", fxLesion(1, hTA, 4, fxDys(logbook.DysplasiaHigh)), fxLesion(2, hSSL, 4)), logbook.Interval3y, ""},
 		{"SSL with dysplasia and adenoma", fxCase("B5", fxLesion(1, hSSLD, 6), fxLesion(2, hTA, 4)), logbook.Interval3y, ""},
+		// A TSA is an advanced polyp (a serrated polyp with dysplasia)
+		// whatever its dysplasia field says (clinical-reference §4 — from
+		// memory, not verified): with one more premalignant polyp, 3 y.
+		{"small TSA without a grade and adenoma", fxCase("B5b", fxLesion(1, hTSA, 6), fxLesion(2, hTA, 4)), logbook.Interval3y, "2 premalignant polyps including 1 advanced"},
+		{"small TSA recorded without dysplasia and adenoma", fxCase("B5c", fxLesion(1, hTSA, 6, fxDys(logbook.DysplasiaNone)), fxLesion(2, hTA, 4)), logbook.Interval3y, "including 1 advanced"},
+		{"small TSA alone", fxCase("B5d", fxLesion(1, hTSA, 6)), logbook.IntervalScreening, "1 of them advanced"},
 		{"serrated 10 mm and adenoma", fxCase("B6", fxLesion(1, hHP, 10, fxAt(logbook.Sigmoid)), fxLesion(2, hTA, 4)), logbook.Interval3y, ""},
 		// "≥5 premalignant polyps" → 3 y; 4 is not enough.
 		{"5 premalignant", fxCase("B7", fxLesions(1, 5, hTA, 4)...), logbook.Interval3y, "5 premalignant"},
@@ -246,15 +261,19 @@ func TestSuggestGateAndOutside(t *testing.T) {
 		{"substituted SSL fxAwaiting histology", fxCase("G19", fxLesion(1, "", 5, fxCall(logbook.OpticalSSL, logbook.HighConfidence), fxAwaiting)), logbook.Interval5to10y, ""},
 		// Three substituted adenomas plus two with histology: 5 adenomas → 3 y.
 		{"substituted and histology together", fxCase("G20", fxJoin(fxLesions(1, 3, "", 2, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence), fxDiscarded), fxLesions(4, 2, hTA, 7))...), logbook.Interval3y, "5 adenomas"},
-		{"low confidence awaits histology", fxCase("G21", fxLesion(1, "", 4, fxCall(logbook.OpticalAdenoma, logbook.LowConfidence), fxDiscarded)), logbook.IntervalPending, "lesion 1"},
+		// A low-confidence call cannot stand in; discarded unsent, the
+		// lesion will never have histology, so it is read as a tubular
+		// adenoma of its size (§4 step 1), not held at pending.
+		{"low confidence, not sent", fxCase("G21", fxLesion(1, "", 4, fxCall(logbook.OpticalAdenoma, logbook.LowConfidence), fxDiscarded)), logbook.Interval7to10y, "lesion 1 was not sent to pathology"},
+		{"low confidence awaits histology", fxCase("G21b", fxLesion(1, "", 4, fxCall(logbook.OpticalAdenoma, logbook.LowConfidence), fxAwaiting)), logbook.IntervalPending, "lesion 1 was sent to pathology"},
 		{"6 mm is not diminutive", fxCase("G22", fxLesion(1, "", 6, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence), fxAwaiting)), logbook.IntervalPending, ""},
 		{"deep invasive call is never substituted", fxCase("G23", fxLesion(1, "", 5, fxCall(logbook.OpticalDeepInvasive, logbook.HighConfidence), fxAwaiting)), logbook.IntervalPending, ""},
 		{"no optical call", fxCase("G24", fxLesion(1, hTA, 4), fxLesion(2, "", 4, fxAwaiting)), logbook.IntervalPending, "lesion 2"},
 		// Histology, when final, wins over the optical call.
 		{"histology beats the call", fxCase("G25", fxLesion(1, hSSL, 4, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence))), logbook.Interval5to10y, ""},
-		// Step 1 comes before step 2: a cancer with another lesion still
-		// pending is pending, not outside.
-		{"pending before outside", fxCase("G26", fxLesion(1, hCA, 25), fxLesion(2, "", 8, fxAwaiting)), logbook.IntervalPending, ""},
+		// Outside is decided before awaiting (§4 step 2): a known cancer is
+		// never shown as awaiting histology.
+		{"cancer beside a pending lesion is outside", fxCase("G26", fxLesion(1, hCA, 25), fxLesion(2, "", 8, fxAwaiting)), logbook.IntervalOutside, "lesion 1 is an adenocarcinoma"},
 	}
 	for _, g := range Guidelines {
 		t.Run(string(g), func(t *testing.T) {
@@ -328,7 +347,7 @@ func TestReadLesionsModes(t *testing.T) {
 		fxLesion(4, hSSL, 3, fxCall(logbook.OpticalSSL, logbook.HighConfidence)),    // stands in, same answer
 	)
 	h, o := ReadLesions(c, HistologyFirst), ReadLesions(c, OpticalFirst)
-	if len(h.Unread) != 0 || len(o.Unread) != 0 || len(h.Lesions) != 4 || len(o.Lesions) != 4 {
+	if len(h.Awaiting) != 0 || len(o.Awaiting) != 0 || len(h.Lesions) != 4 || len(o.Lesions) != 4 {
 		t.Fatalf("readings %+v / %+v", h, o)
 	}
 	wantH := []logbook.Histology{hHP, hTA, hTA, hSSL}
@@ -343,5 +362,104 @@ func TestReadLesionsModes(t *testing.T) {
 	}
 	if o.Lesions[0].Dysplasia != logbook.DysplasiaLow {
 		t.Errorf("an adenoma call stands for low-grade dysplasia, got %q", o.Lesions[0].Dysplasia)
+	}
+}
+
+// notRetrieved: resected but lost, so never sent.
+func notRetrieved(l *logbook.Lesion) {
+	l.Retrieved, l.SentToPathology, l.Histology, l.Dysplasia = logbook.No, logbook.No, "", ""
+}
+
+// leftInPlace: not removed and not sent.
+func leftInPlace(l *logbook.Lesion) {
+	l.Resection, l.Retrieved, l.SentToPathology, l.Histology, l.Dysplasia = logbook.ResectionNone, logbook.No, logbook.No, "", ""
+}
+
+// TestSuggestReadingOrder covers the reading order of clinical-reference §4
+// steps 1 and 2 under each guideline: findings outside the tables are
+// decided before any lesion awaiting histology makes the interval pending;
+// a lesion with no specimen (not retrieved, not sent, left in place) is read
+// as a tubular adenoma with low-grade dysplasia of its recorded size (the
+// conservative reading, common practice: no guideline table covers a polyp
+// without histology) unless a high-confidence optical call of a diminutive
+// polyp stands in; a lesion of 10 mm or more not removed (resection none or
+// biopsy only) is outside, since the tables assume complete removal. The
+// interval rows behind each expectation are those of TestSuggestUSMSTF
+// (Gupta 2020), TestSuggestESGE (Hassan 2020) and TestSuggestBSG (Rutter
+// 2020); the WHO serrated polyposis criteria (WHO Classification of Digestive
+// System Tumours, 5th ed., 2019) are from memory in the reference — not
+// verified here.
+func TestSuggestReadingOrder(t *testing.T) {
+	type want struct{ usmstf, esge, bsg logbook.Interval }
+	outside := want{logbook.IntervalOutside, logbook.IntervalOutside, logbook.IntervalOutside}
+	pending := want{logbook.IntervalPending, logbook.IntervalPending, logbook.IntervalPending}
+	// WHO criterion 1 (5 serrated ≥5 mm proximal to the rectum, 2 of them
+	// ≥10 mm) beside a lesion still awaiting histology.
+	who1 := fxJoin(fxLesions(1, 3, hHP, 5, fxAt(logbook.Sigmoid)), fxLesions(4, 2, hSSL, 10, fxAt(logbook.Transverse)),
+		[]logbook.Lesion{fxLesion(6, "", 7, fxAwaiting)})
+	hiHP := fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence)
+	tests := []struct {
+		name   string
+		c      *logbook.Case
+		want   want
+		reason string // in the reasons under every guideline
+	}{
+		// Rule: a known cancer is never "awaiting histology".
+		{"adenocarcinoma and a pending lesion", fxCase("R1", fxLesion(1, hCA, 18, fxDys(logbook.DysplasiaHigh)), fxLesion(2, "", 8, fxAwaiting)), outside, "lesion 1 is an adenocarcinoma"},
+		{"adenocarcinoma and a lesion sent, no result entered", fxCase("R2", fxLesion(1, hCA, 30, fxRes(logbook.EMRPiecemeal)), fxLesion(2, "", 4, func(l *logbook.Lesion) { l.Histology, l.Dysplasia = "", "" })), outside, "adenocarcinoma"},
+		{"adenocarcinoma and a lesion not retrieved", fxCase("R3", fxLesion(1, hCA, 12), fxLesion(2, "", 4, notRetrieved)), outside, "adenocarcinoma"},
+		// Counts and serrated polyposis are decided before awaiting too.
+		{"11 SSL and a pending lesion", fxCase("R4", append(fxLesions(1, 11, hSSL, 3, fxAt(logbook.Rectum)), fxLesion(12, "", 5, fxAwaiting))...), outside, "11 sessile serrated lesions"},
+		{"serrated polyposis and a pending lesion", fxCase("R5", who1...), outside, "serrated polyposis criteria met"},
+		// Nothing outside: a lesion awaiting histology holds the interval.
+		{"one lesion pending", fxCase("R6", fxLesion(1, hTA, 4), fxLesion(2, "", 4, fxAwaiting)), pending, "lesion 2 was sent to pathology and its histology is still awaited"},
+		// No specimen: read as a tubular adenoma, low-grade, of its size.
+		// 4 mm not retrieved → 1 small adenoma: 7–10 y; ESGE and BSG back
+		// to screening.
+		{"4 mm not retrieved", fxCase("R7", fxLesion(1, "", 4, notRetrieved)),
+			want{logbook.Interval7to10y, logbook.IntervalScreening, logbook.IntervalScreening},
+			"lesion 1 was not retrieved, so it will have no histology: read as a tubular adenoma with low-grade dysplasia of its recorded 4 mm"},
+		// 12 mm removed but not retrieved → adenoma ≥10 mm: 3 y (USMSTF,
+		// ESGE); one advanced polyp alone is not high risk under BSG.
+		{"12 mm not retrieved", fxCase("R8", fxLesion(1, "", 12, fxRes(logbook.HotSnare), notRetrieved)),
+			want{logbook.Interval3y, logbook.Interval3y, logbook.IntervalScreening}, "read as a tubular adenoma with low-grade dysplasia of its recorded 12 mm"},
+		// Retrieved but discarded, with only a low-confidence call.
+		{"6 mm discarded, low-confidence call", fxCase("R9", fxLesion(1, "", 6, fxCall(logbook.OpticalHyperplastic, logbook.LowConfidence), fxDiscarded)),
+			want{logbook.Interval7to10y, logbook.IntervalScreening, logbook.IntervalScreening}, "lesion 1 was not sent to pathology"},
+		// A histology field left at "pending" on a lesion not sent: it will
+		// never come, so it is read as a tubular adenoma, not awaited.
+		{"pending on a lesion not sent", fxCase("R10", fxLesion(1, "", 5, fxRes(logbook.ColdForceps), func(l *logbook.Lesion) {
+			l.SentToPathology, l.Histology, l.Dysplasia = logbook.No, logbook.HistPending, ""
+		})), want{logbook.Interval7to10y, logbook.IntervalScreening, logbook.IntervalScreening}, "was not sent to pathology"},
+		// 8 mm left in place → read as an 8 mm tubular adenoma.
+		{"8 mm left in place", fxCase("R11", fxLesion(1, "", 8, leftInPlace)),
+			want{logbook.Interval7to10y, logbook.IntervalScreening, logbook.IntervalScreening}, "lesion 1 was left in place"},
+		// An eligible high-confidence diminutive call stands in instead: a
+		// 3 mm rectal polyp called hyperplastic and left in place is a
+		// hyperplastic polyp (10 y; back to screening; not premalignant
+		// under BSG).
+		{"diminutive hyperplastic call stands in", fxCase("R12", fxLesion(1, "", 3, fxAt(logbook.Rectum), hiHP, leftInPlace)),
+			want{logbook.Interval10y, logbook.IntervalScreening, logbook.IntervalScreening}, "read by its high-confidence optical call (hyperplastic, 3 mm)"},
+		// A no-specimen lesion counts with the adenomas that have histology:
+		// 2 + 1 = 3 adenomas → 3–5 y (USMSTF); ESGE 1–4 small adenomas →
+		// screening; BSG 3 premalignant, none advanced → screening.
+		{"no-specimen adenoma adds to the count", fxCase("R13", fxLesion(1, hTA, 4), fxLesion(2, hTA, 5), fxLesion(3, "", 4, notRetrieved)),
+			want{logbook.Interval3to5y, logbook.IntervalScreening, logbook.IntervalScreening}, "was not retrieved"},
+		// 10 mm or more not removed: outside, the tables assume complete
+		// removal — whether the lesion was left, biopsied with histology, or
+		// biopsied with histology still pending.
+		{"12 mm left in place", fxCase("R14", fxLesion(1, "", 12, leftInPlace)), outside, "lesion 1 of 12 mm was not removed; the guideline tables assume complete removal"},
+		{"10 mm biopsied, histology back", fxCase("R15", fxLesion(1, hTA, 10, fxRes(logbook.BiopsyOnly))), outside, "lesion 1 of 10 mm was only biopsied; the guideline tables assume complete removal"},
+		{"25 mm biopsied, histology pending", fxCase("R16", fxLesion(1, hTA, 4), fxLesion(2, "", 25, fxRes(logbook.BiopsyOnly), fxAwaiting)), outside, "tables assume complete removal"},
+		{"25 mm biopsied, not sent", fxCase("R17", fxLesion(1, "", 25, fxRes(logbook.BiopsyOnly), fxDiscarded)), outside, "was only biopsied"},
+		// 9 mm biopsied only is under the 10 mm rule: read by its histology.
+		{"9 mm biopsied", fxCase("R18", fxLesion(1, hTA, 9, fxRes(logbook.BiopsyOnly))),
+			want{logbook.Interval7to10y, logbook.IntervalScreening, logbook.IntervalScreening}, ""},
+	}
+	for _, tc := range tests {
+		for _, g := range Guidelines {
+			w := map[Guideline]logbook.Interval{USMSTF2020: tc.want.usmstf, ESGE2020: tc.want.esge, BSG2020: tc.want.bsg}[g]
+			runIntervalCases(t, g, []intervalCase{{tc.name + "/" + string(g), tc.c, w, tc.reason}})
+		}
 	}
 }

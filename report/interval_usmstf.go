@@ -36,6 +36,12 @@ func usmstfCandidates(ls []ReadLesion) candidates {
 				cs.add(logbook.Interval3y, "lesion %d: sessile serrated lesion with dysplasia", l.LesionNo)
 			}
 		case l.Histology == logbook.HistTSA:
+			// USMSTF 2020 manages a TSA like an SSL, so its piecemeal
+			// removal at 20 mm or more calls for the 6-month check too
+			// (clinical-reference §4 step 4 — from memory, not verified).
+			if l.SizeMM >= 20 && l.Resection == logbook.EMRPiecemeal {
+				cs.add(logbook.Interval6m, "lesion %d: traditional serrated adenoma of %d mm removed piecemeal", l.LesionNo, l.SizeMM)
+			}
 			cs.add(logbook.Interval3y, "lesion %d: traditional serrated adenoma", l.LesionNo)
 		case l.Histology == logbook.HistHyperplastic:
 			if l.SizeMM >= 10 {

@@ -65,8 +65,8 @@ func (p *population) add(f *caseFacts, c *logbook.Case) {
 	}
 }
 
-func (p *population) indicators(prof *Profile, days int, isUnit bool) []Indicator {
-	out := p.counts.indicators(prof, days, !isUnit)
+func (p *population) indicators(prof *Profile, per Period, isUnit bool) []Indicator {
+	out := p.counts.indicators(prof, per, isUnit)
 	for _, a := range p.extra {
 		out = append(out, a.Indicators()...)
 	}
@@ -142,27 +142,46 @@ func (m *Metrics) period() (from, to time.Time) {
 	return from, to
 }
 
-// periodDays is the number of days from from to to, both included, or 0.
-func periodDays(from, to time.Time) int {
-	if from.IsZero() || to.IsZero() || to.Before(from) {
+// Period is the span figures are counted over: From and To are its first
+// and last day, both included; a zero end means no period is known.
+type Period struct{ From, To time.Time }
+
+// Days is the number of days from From to To, both included, or 0.
+func (p Period) Days() int {
+	if p.From.IsZero() || p.To.IsZero() || p.To.Before(p.From) {
 		return 0
 	}
-	return int(to.Sub(from).Hours()/24+0.5) + 1
+	return int(p.To.Sub(p.From).Hours()/24+0.5) + 1
+}
+
+// FullYear reports whether the period covers at least one calendar year:
+// To is on or after From plus one year less one day. 2026-01-01 to
+// 2026-12-31 is a year, and so is 2024-02-29 to 2025-02-28; 2026-01-02 to
+// 2026-12-31 (364 days) is not. Procedure volume is judged only over such a
+// period (clinical-reference §2): a standard's yearly count is not a rate
+// that a quarter can be scaled up to meet.
+func (p Period) FullYear() bool {
+	if p.From.IsZero() || p.To.IsZero() {
+		return false
+	}
+	return !p.To.Before(p.From.AddDate(1, 0, -1))
 }
 
 // Result returns the indicators over every case added: the unit, then each
 // operator with ≥1 procedure in the period, sorted by id. From and To are
 // the period's bounds (an open end is shown as the first or last procedure
-// date). Volume is judged per operator only: the standard's figure is per
-// endoscopist, so the unit's volume is reported.
+// date). Volume is judged per operator only and over a full year only (see
+// Period.FullYear): the standard's figure is a yearly count per
+// endoscopist, so the unit's volume, and any volume over a shorter period,
+// is reported with a note saying why.
 func (m *Metrics) Result() MetricsResult {
 	from, to := m.period()
-	days := periodDays(from, to)
+	per := Period{From: from, To: to}
 	r := MetricsResult{
 		From:      logbook.FormatDate(from),
 		To:        logbook.FormatDate(to),
 		Standard:  m.prof.ID,
-		Unit:      PopulationResult{Indicators: m.unit.indicators(m.prof, days, true)},
+		Unit:      PopulationResult{Indicators: m.unit.indicators(m.prof, per, true)},
 		Operators: make([]OperatorResult, 0, len(m.ops)),
 	}
 	ids := make([]string, 0, len(m.ops))
@@ -171,7 +190,7 @@ func (m *Metrics) Result() MetricsResult {
 	}
 	sort.Strings(ids)
 	for _, id := range ids {
-		r.Operators = append(r.Operators, OperatorResult{OperatorID: id, Indicators: m.ops[id].indicators(m.prof, days, false)})
+		r.Operators = append(r.Operators, OperatorResult{OperatorID: id, Indicators: m.ops[id].indicators(m.prof, per, false)})
 	}
 	return r
 }

@@ -5,6 +5,7 @@ import (
 	"math"
 	"slices"
 	"sort"
+	"strings"
 	"testing"
 
 	"polypledger/logbook"
@@ -16,6 +17,13 @@ import (
 func TestIndicatorCounts(t *testing.T) {
 	adenoma := mkLesion()
 	hyper := mkLesion(histology(logbook.HistHyperplastic))
+	// Six procedures of every kind, complete ones with and without a photo.
+	photoMix := []logbook.Case{
+		mkCase(), mkCase(eExtent(logbook.ExtentTerminalIleum), ePhoto(logbook.No)),
+		mkCase(eExtent(logbook.ExtentAnastomosis), ePhoto(logbook.Unrecorded)),
+		mkCase(eAge(30), eInd(logbook.Diagnostic), eExcl(logbook.IBD)),
+		mkCase(eIncomplete(logbook.ReasonPoorPrep)), mkCase(eIncomplete(logbook.ReasonLooping)),
+	}
 	tests := []struct {
 		name     string
 		profile  string
@@ -157,6 +165,30 @@ func TestIndicatorCounts(t *testing.T) {
 				mkCase(eIncomplete(logbook.ReasonSevereColitis)), mkCase(eIncomplete(logbook.ReasonLooping)),
 				mkCase(eIncomplete(logbook.ReasonDiscomfort)),
 			}),
+		},
+		{
+			// BSG/JAG 2016 counts "unadjusted caecal intubation with photo
+			// documentation" (Rees 2016; clinical-reference §2, the profile's
+			// cir_requires_photo): four complete, of which the ileum and
+			// anastomosis ones have no photo → 2/6.
+			name: "cir photo-documented under bsg-jag-2016", profile: "bsg-jag-2016", id: "cir", num: 2, den: 6,
+			cases: photoMix,
+		},
+		{
+			// The same records under asge-acg-2024, which measures photo
+			// documentation apart (Rex 2024): 4/6.
+			name: "cir without the photo rule", profile: "asge-acg-2024", id: "cir", num: 4, den: 6,
+			cases: photoMix,
+		},
+		{
+			// cir_adjusted under bsg-jag-2016 takes the same photo rule
+			// (clinical-reference §2): 3 complete, 1 of them without a photo,
+			// looping stays, obstruction leaves → 2/4.
+			name: "cir_adjusted photo-documented under bsg-jag-2016", profile: "bsg-jag-2016", id: "cir_adjusted", num: 2, den: 4,
+			cases: []logbook.Case{
+				mkCase(), mkCase(), mkCase(ePhoto(logbook.No)),
+				mkCase(eIncomplete(logbook.ReasonObstruction)), mkCase(eIncomplete(logbook.ReasonLooping)),
+			},
 		},
 		{
 			// Complete procedures: photo yes ×2, no, unrecorded → 2/4; the
@@ -314,6 +346,26 @@ func TestIndicatorCounts(t *testing.T) {
 	}
 }
 
+// TestCIRPhotoNote checks that a caecal intubation rate counted with the
+// photo rule says so beside the figure, and only then (clinical-reference §2:
+// bsg-jag-2016 yes, Rees 2016; asge-acg-2024 and esge-2017 no).
+func TestCIRPhotoNote(t *testing.T) {
+	for _, tc := range []struct {
+		profile string
+		noted   bool
+	}{{"asge-acg-2024", false}, {"bsg-jag-2016", true}, {"esge-2017", false}} {
+		r := unitResult(shipped(t, tc.profile), []logbook.Case{mkCase()})
+		for _, id := range []string{"cir", "cir_adjusted"} {
+			if got := mustFind(t, r.Unit.Indicators, id).Note != ""; got != tc.noted {
+				t.Errorf("%s %s: note %v, want %v", tc.profile, id, got, tc.noted)
+			}
+		}
+		if n := mustFind(t, r.Unit.Indicators, "caecal_photo").Note; n != "" {
+			t.Errorf("%s caecal_photo: note %q", tc.profile, n)
+		}
+	}
+}
+
 func withdrawalCases() []logbook.Case {
 	return []logbook.Case{
 		mkCase(eWithdrawal(360)), mkCase(eWithdrawal(480)), mkCase(eWithdrawal(600)),
@@ -458,8 +510,9 @@ func TestPeriodInclusive(t *testing.T) {
 
 func TestStatus(t *testing.T) {
 	// Verdict rules of clinical-reference §2: meets at or past the target (≥
-	// a minimum, ≤ a maximum), below otherwise, too_few under min_cases (30),
-	// reported with no target.
+	// a minimum, ≤ a maximum; strictly past it where the source says
+	// "below"), below otherwise, too_few under min_cases (30), reported with
+	// no target.
 	withAdenomas := func(k, n int) []logbook.Case {
 		return concat(repeat(k, mkCase(withLesions(mkLesion()))), repeat(n-k, mkCase()))
 	}
@@ -478,9 +531,15 @@ func TestStatus(t *testing.T) {
 		{"adr 13/40 below", "asge-acg-2024", withAdenomas(13, 40), "adr", Below},
 		{"adr 29/29 too few", "asge-acg-2024", withAdenomas(29, 29), "adr", TooFew},
 		{"adr 11/30 judged at 30", "asge-acg-2024", withAdenomas(11, 30), "adr", Meets},
-		{"adr_male reported", "asge-acg-2024", withAdenomas(14, 40), "adr_male", Reported},
-		// JAG discomfort maximum 10% (Siau 2023).
-		{"discomfort 3/30 = 10% meets", "bsg-jag-2016", withDiscomfort(3, 30), "comfort_discomfort", Meets},
+		// ASGE/ACG 2024 ADR in men ≥40% (from memory of the 2024 text in the
+		// clinical reference — not verified here); mkCase is male.
+		{"adr_male 16/40 = 40% meets", "asge-acg-2024", withAdenomas(16, 40), "adr_male", Meets},
+		{"adr_male 15/40 below", "asge-acg-2024", withAdenomas(15, 40), "adr_male", Below},
+		{"adr_female has no cases", "asge-acg-2024", withAdenomas(16, 40), "adr_female", TooFew},
+		// JAG discomfort "below 10%" (Siau 2023), a strict maximum: exactly
+		// at the limit does not meet it.
+		{"discomfort 3/30 = 10% exactly is below", "bsg-jag-2016", withDiscomfort(3, 30), "comfort_discomfort", Below},
+		{"discomfort 2/30 meets", "bsg-jag-2016", withDiscomfort(2, 30), "comfort_discomfort", Meets},
 		{"discomfort 4/30 below", "bsg-jag-2016", withDiscomfort(4, 30), "comfort_discomfort", Below},
 		{"discomfort under asge reported", "asge-acg-2024", withDiscomfort(4, 30), "comfort_discomfort", Reported},
 		{"empty denominator with target is too few", "asge-acg-2024", withAdenomas(0, 3), "prep_adequate", TooFew},
@@ -498,8 +557,59 @@ func TestStatus(t *testing.T) {
 	}
 	// The maximum is flagged on the indicator.
 	ind := mustFind(t, unitResult(shipped(t, "bsg-jag-2016"), withDiscomfort(1, 30)).Unit.Indicators, "comfort_discomfort")
-	if !ind.Maximum || ind.Target == nil || *ind.Target != 0.10 {
-		t.Errorf("discomfort target = %v maximum %v, want ≤0.10", ind.Target, ind.Maximum)
+	if !ind.Maximum || !ind.Strict || ind.Target == nil || *ind.Target != 0.10 {
+		t.Errorf("discomfort target = %v maximum %v strict %v, want <0.10", ind.Target, ind.Maximum, ind.Strict)
+	}
+	if got := FormatTarget(ind); got != "< 10.0%" {
+		t.Errorf("strict maximum printed %q, want \"< 10.0%%\"", got)
+	}
+}
+
+// TestJudgeStrict checks every comparison a target can ask for at, just
+// past and just short of the limit (clinical-reference §2, "Verdict": a
+// strict maximum such as discomfort below 10% (Siau 2023), perforation below
+// 1 per 1000 and bleeding below 1 per 100 (Rees 2016, screening table) is not
+// met exactly at the limit; a plain minimum or maximum is).
+func TestJudgeStrict(t *testing.T) {
+	v := func(x float64) *float64 { return &x }
+	tests := []struct {
+		name   string
+		t      Target
+		k, n   int
+		want   Status
+		sign   string
+		strict bool
+	}{
+		{"minimum reached", Target{Minimum: v(0.35)}, 14, 40, Meets, "≥", false},
+		{"minimum missed", Target{Minimum: v(0.35)}, 13, 40, Below, "≥", false},
+		{"strict minimum at the limit", Target{Minimum: v(0.35), Strict: true}, 14, 40, Below, ">", true},
+		{"strict minimum passed", Target{Minimum: v(0.35), Strict: true}, 15, 40, Meets, ">", true},
+		{"maximum at the limit", Target{Maximum: v(0.10)}, 3, 30, Meets, "≤", false},
+		{"maximum passed", Target{Maximum: v(0.10)}, 4, 30, Below, "≤", false},
+		{"discomfort below 10%: exactly 10%", Target{Maximum: v(0.10), Strict: true}, 3, 30, Below, "<", true},
+		{"discomfort below 10%: under", Target{Maximum: v(0.10), Strict: true}, 29, 300, Meets, "<", true},
+		{"perforation below 1/1000: exactly 1/1000", Target{Maximum: v(0.001), Strict: true}, 1, 1000, Below, "<", true},
+		{"bleeding below 1/100: exactly 1/100", Target{Maximum: v(0.01), Strict: true}, 1, 100, Below, "<", true},
+		{"strict but too few", Target{Maximum: v(0.10), Strict: true}, 0, 29, TooFew, "<", true},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			ind := Proportion("x", tc.k, tc.n)
+			// A stale flag from an earlier judgement must not survive.
+			ind.Maximum, ind.Strict = true, true
+			ind.Judge(&tc.t, 30)
+			if ind.Status != tc.want || ind.Strict != tc.strict {
+				t.Errorf("%d/%d: status %s strict %v, want %s strict %v", tc.k, tc.n, ind.Status, ind.Strict, tc.want, tc.strict)
+			}
+			if got := targetSign(ind.Maximum, ind.Strict); got != tc.sign {
+				t.Errorf("sign %q, want %q", got, tc.sign)
+			}
+		})
+	}
+	ind := Proportion("x", 1, 2)
+	ind.Judge(nil, 0)
+	if ind.Status != Reported || ind.Strict || ind.Maximum {
+		t.Errorf("no target: %+v", ind)
 	}
 }
 
@@ -610,36 +720,105 @@ func TestMedianOfCounts(t *testing.T) {
 	}
 }
 
+// TestVolume checks procedure volume: procedures × 365 / days in the
+// period (both ends included), judged against the BSG/JAG 100 per
+// endoscopist per year (Rees 2016) only for an operator over a period of a
+// year or more, reported with a note otherwise, and never "too few": the
+// case-count gate does not apply to a count of procedures (clinical-reference
+// §2, volume).
 func TestVolume(t *testing.T) {
-	// Volume = procedures × 365 / days in the period (both ends included).
-	// 2026-01-01 to 2026-03-31 is 90 days; E01 has 30 procedures → 121.67 per
-	// year, at or above the BSG/JAG 100 (Rees 2016); E02 has 20 → 81.1, below.
-	// The unit's figure is reported, not judged.
-	opt := MetricsOptions{From: mkDate(t, "2026-01-01"), To: mkDate(t, "2026-03-31")}
-	m := NewMetrics(shipped(t, "bsg-jag-2016"), opt)
-	for i := range 50 {
-		op := "E01"
-		if i >= 30 {
-			op = "E02"
-		}
-		c := mkCase(eOp(op))
-		m.Add(&c)
-	}
-	r := m.Result()
 	tests := []struct {
-		inds   []Indicator
-		num    float64
-		status Status
+		name     string
+		from, to string
+		days     int
+		e01, e02 int // procedures per operator
+		s01, s02 Status
+		note     string // in both operators' notes, "" for none
 	}{
-		{r.Unit.Indicators, 50, Reported},
-		{r.Operators[0].Indicators, 30, Meets},
-		{r.Operators[1].Indicators, 20, Below},
+		// A quarter, 90 days: 30 → 121.7 and 20 → 81.1 per year, neither judged.
+		{"quarter", "2026-01-01", "2026-03-31", 90, 30, 20, Reported, Reported, "volume is judged over a year or more"},
+		// One day short of a year (364 days): still not judged.
+		{"a day short of a year", "2026-01-02", "2026-12-31", 364, 100, 20, Reported, Reported, "this period is shorter"},
+		// A calendar year: 100 meets the minimum exactly; 99 is below.
+		{"calendar year", "2026-01-01", "2026-12-31", 365, 100, 99, Meets, Below, ""},
+		// From 29 February, a year ends on 28 February (366 days).
+		{"leap year", "2024-02-29", "2025-02-28", 366, 101, 99, Meets, Below, ""},
+		// 5 procedures in a year are below 100, not too few to judge: the
+		// minimum of 30 cases is for rates, and volume's denominator is days.
+		{"five in a year is below, not too few", "2026-01-01", "2026-12-31", 365, 5, 150, Below, Meets, ""},
+		// Two years: 200 over 730 days is 100 per year.
+		{"two years", "2025-01-01", "2026-12-31", 730, 200, 150, Meets, Below, ""},
 	}
 	for _, tc := range tests {
-		ind := mustFind(t, tc.inds, "volume")
-		if ind.Numerator != tc.num || ind.Denominator != 90 || !near(*ind.Value, tc.num*365/90, 1e-9) || ind.Status != tc.status {
-			t.Errorf("volume = %v/%d = %v %s, want %v/90 %s", ind.Numerator, ind.Denominator, *ind.Value, ind.Status, tc.num, tc.status)
+		t.Run(tc.name, func(t *testing.T) {
+			m := NewMetrics(shipped(t, "bsg-jag-2016"), MetricsOptions{From: mkDate(t, tc.from), To: mkDate(t, tc.to)})
+			for i := range tc.e01 + tc.e02 {
+				op := "E01"
+				if i >= tc.e01 {
+					op = "E02"
+				}
+				c := mkCase(eOp(op), eOn(t, tc.to))
+				m.Add(&c)
+			}
+			r := m.Result()
+			unit := mustFind(t, r.Unit.Indicators, "volume")
+			if unit.Status != Reported || unit.Target != nil || !strings.Contains(unit.Note, "per endoscopist") {
+				t.Errorf("unit volume %s target %v note %q: want reported with the per-endoscopist note", unit.Status, unit.Target, unit.Note)
+			}
+			for i, want := range []struct {
+				n int
+				s Status
+			}{{tc.e01, tc.s01}, {tc.e02, tc.s02}} {
+				ind := mustFind(t, r.Operators[i].Indicators, "volume")
+				if ind.Numerator != float64(want.n) || ind.Denominator != tc.days || !near(*ind.Value, float64(want.n)*365/float64(tc.days), 1e-9) {
+					t.Errorf("%s volume = %v/%d = %v, want %d/%d", r.Operators[i].OperatorID, ind.Numerator, ind.Denominator, *ind.Value, want.n, tc.days)
+				}
+				if ind.Status != want.s {
+					t.Errorf("%s volume status %s, want %s", r.Operators[i].OperatorID, ind.Status, want.s)
+				}
+				if (tc.note == "") != (ind.Note == "") || !strings.Contains(ind.Note, tc.note) {
+					t.Errorf("%s volume note %q, want one with %q", r.Operators[i].OperatorID, ind.Note, tc.note)
+				}
+				if tc.note != "" && !strings.Contains(ind.Note, "≥ 100 per year") {
+					t.Errorf("note %q does not name the target", ind.Note)
+				}
+			}
+		})
+	}
+	// Without a volume target (asge-acg-2024) nothing needs explaining.
+	c := mkCase()
+	ind := mustFind(t, unitResult(shipped(t, "asge-acg-2024"), []logbook.Case{c}).Operators[0].Indicators, "volume")
+	if ind.Status != Reported || ind.Note != "" {
+		t.Errorf("volume without a target: %s, note %q", ind.Status, ind.Note)
+	}
+}
+
+// TestPeriodFullYear checks how "a year" is decided for volume: the last day
+// on or after the first day plus one year less one day (common practice:
+// a calendar year counted from the first day).
+func TestPeriodFullYear(t *testing.T) {
+	tests := []struct {
+		from, to string
+		days     int
+		year     bool
+	}{
+		{"2026-01-01", "2026-12-31", 365, true},
+		{"2026-01-02", "2026-12-31", 364, false},
+		{"2026-07-01", "2027-06-30", 365, true},
+		{"2024-01-01", "2024-12-30", 365, false}, // a leap year needs 366 days
+		{"2024-01-01", "2024-12-31", 366, true},
+		{"2024-02-29", "2025-02-28", 366, true},
+		{"2026-01-01", "2026-03-31", 90, false},
+		{"2026-01-01", "2028-01-01", 731, true},
+	}
+	for _, tc := range tests {
+		p := Period{From: mkDate(t, tc.from), To: mkDate(t, tc.to)}
+		if p.Days() != tc.days || p.FullYear() != tc.year {
+			t.Errorf("%s to %s: %d days, year %v; want %d, %v", tc.from, tc.to, p.Days(), p.FullYear(), tc.days, tc.year)
 		}
+	}
+	if (Period{}).FullYear() || (Period{}).Days() != 0 {
+		t.Error("an unknown period is no year")
 	}
 }
 

@@ -51,11 +51,13 @@ func (t BinaryTable) Matrix() [][]int {
 // coefficient of agreement for nominal scales", Educ Psychol Meas
 // 1960;20:37–46): κ = (po − pe)/(1 − pe), with po the observed and pe the
 // chance agreement from the margins. SE is the large-sample standard error
-// Cohen gives, √(po(1−po) / (n(1−pe)²)), and CI is κ ± z·SE with z the
-// 97.5% normal quantile (1.959964), not clamped, so that the interval is
-// exactly the stated formula (it can pass 1 in small samples with high
-// agreement). Kappa, SE and CI are NaN when n is 0 or pe is 1 (every item in
-// one category for both ratings, where kappa is undefined).
+// of Fleiss JL, Cohen J, Everitt BS, "Large sample standard errors of kappa
+// and weighted kappa", Psychol Bull 1969;72:323–327 — the one
+// general-purpose statistics libraries report (see kappaSE) — and CI is
+// κ ± z·SE with z the 97.5% normal quantile (1.959964), clamped to [−1, 1],
+// the range of kappa (clinical-reference §6). Kappa, SE and CI are NaN when
+// n is 0 or pe is 1 (every item in one category for both ratings, where
+// kappa is undefined).
 type Kappa struct {
 	Agreements int      `json:"agreements"`
 	N          int      `json:"n"`
@@ -85,7 +87,7 @@ func (k Kappa) MarshalJSON() ([]byte, error) {
 // first rating and columns the second, categories in the same order.
 func CohenKappa(table [][]int) Kappa {
 	k := Kappa{Po: math.NaN(), Pe: math.NaN(), Kappa: math.NaN(), SE: math.NaN(), CI: undefined()}
-	rows := make([]float64, len(table))
+	rows := make([]float64, len(table)) // counts, then proportions
 	cols := make([]float64, len(table))
 	for i, row := range table {
 		for j, v := range row {
@@ -114,14 +116,50 @@ func CohenKappa(table [][]int) Kappa {
 		return k
 	}
 	k.Kappa = (k.Po - k.Pe) / (1 - k.Pe)
-	k.SE = math.Sqrt(k.Po * (1 - k.Po) / (n * (1 - k.Pe) * (1 - k.Pe)))
+	for i := range rows {
+		rows[i] /= n
+		cols[i] /= n
+	}
+	k.SE = kappaSE(table, rows, cols, n, k.Pe, k.Kappa)
 	half := z95 * k.SE
-	k.CI = Interval{k.Kappa - half, k.Kappa + half}
+	k.CI = Interval{math.Max(-1, k.Kappa-half), math.Min(1, k.Kappa+half)}
 	return k
 }
 
+// kappaSE is the Fleiss–Cohen–Everitt (1969) large-sample standard error of
+// kappa for a square table of counts with row and column proportions rows
+// and cols, n items, chance agreement pe and kappa kappa. With p_ij the
+// cell proportions, p_i. the rows and p_.j the columns:
+//
+//	A = Σ_i p_ii [1 − (p_i. + p_.i)(1 − κ)]²
+//	B = (1 − κ)² Σ_{i≠j} p_ij (p_.i + p_j.)²
+//	C = [κ − pe(1 − κ)]²
+//	SE = √((A + B − C) / (n (1 − pe)²))
+//
+// A rounding error that makes A + B − C a little below zero (perfect
+// agreement) gives 0.
+func kappaSE(table [][]int, rows, cols []float64, n, pe, kappa float64) float64 {
+	var a, b float64
+	for i, row := range table {
+		for j, v := range row {
+			p := float64(v) / n
+			if i == j {
+				d := 1 - (rows[i]+cols[i])*(1-kappa)
+				a += p * d * d
+			} else {
+				s := cols[i] + rows[j]
+				b += p * s * s
+			}
+		}
+	}
+	b *= (1 - kappa) * (1 - kappa)
+	c := kappa - pe*(1-kappa)
+	return math.Sqrt(math.Max(0, (a+b-c*c)/(n*(1-pe)*(1-pe))))
+}
+
 // Indicator returns the kappa as an indicator of kind "kappa": numerator the
-// agreements, denominator the items, value κ and interval κ ± 1.96·SE.
+// agreements, denominator the items, value κ and interval κ ± 1.96·SE
+// clamped to [−1, 1].
 func (k Kappa) Indicator(id string) Indicator {
 	ind := Indicator{ID: id, Numerator: float64(k.Agreements), Denominator: k.N, Kind: "kappa"}
 	ind.Value, ind.CILow, ind.CIHigh = ptr(k.Kappa), ptr(k.CI.Low), ptr(k.CI.High)

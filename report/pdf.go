@@ -251,11 +251,15 @@ func (d *doc) para(s string) {
 }
 
 // note prints small explanatory text.
-func (d *doc) note(s string) {
-	d.pdf.SetFont("go", "", 7.5)
+func (d *doc) note(s string) { d.noteSized(s, 7.5, 3.4) }
+
+// noteSized prints explanatory text in a font of size points with lines lh
+// millimetres apart.
+func (d *doc) noteSized(s string, size, lh float64) {
+	d.pdf.SetFont("go", "", size)
 	d.pdf.SetTextColor(60, 60, 60)
 	d.pdf.SetX(marginL)
-	d.pdf.MultiCell(contentW, 3.4, s, "", "L", false)
+	d.pdf.MultiCell(contentW, lh, s, "", "L", false)
 	d.pdf.SetTextColor(0, 0, 0)
 	d.pdf.Ln(1)
 }
@@ -416,7 +420,7 @@ func shortVerdict(ind Indicator) string {
 	if ind.Value == nil {
 		return "–"
 	}
-	v := FormatValue(ind)
+	v := notedValue(ind)
 	switch ind.Status {
 	case Meets:
 		return v + " ●"
@@ -430,7 +434,7 @@ func shortVerdict(ind Indicator) string {
 
 // indicatorRow is the standard row of an indicator table.
 func indicatorRow(ind Indicator) []string {
-	return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)}
+	return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)}
 }
 
 // indicatorColumns are the columns of indicatorRow.

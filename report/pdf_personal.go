@@ -140,8 +140,9 @@ func (d *doc) personalReport() {
 		case TooFew:
 			v = "○ too few to judge"
 		}
-		return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v}
+		return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v}
 	}))
+	d.indicatorNotes(me.Indicators)
 	d.compact = false
 	d.newPage("Your trends by quarter", true)
 	for _, id := range []string{"adr", "cir", "withdrawal_negative"} {
@@ -209,4 +210,5 @@ func (d *doc) traineeReport() {
 		irows = append(irows, indicatorRow(ind))
 	}
 	d.table(indicatorColumns(), irows)
+	d.indicatorNotes(tr.Indicators)
 }

@@ -187,6 +187,7 @@ func (d *doc) summary() {
 		"● meets the target, ▼ below it, ○ too few cases to judge, ■ reported without a target.")
 	d.compact = true
 	d.table(indicatorColumns(), groupedRows(d.in.Data.Metrics.Unit.Indicators, indicatorRow))
+	d.indicatorNotes(d.in.Data.Metrics.Unit.Indicators)
 	d.compact = false
 }
 
@@ -227,6 +228,7 @@ func (d *doc) operatorOverview() {
 		forest = append(forest, ForestRow{Label: o.OperatorID, Indicator: adr})
 	}
 	d.table(cols, rows)
+	d.overviewNotes(overviewIDs())
 	fd := ForestData{IndicatorID: "adr", Rows: forest}
 	if t := forest[0].Indicator.Target; t != nil {
 		fd.Reference, fd.ReferenceLabel = t, "standard's target"
@@ -313,9 +315,10 @@ func (d *doc) scorecard(inds []Indicator, ids []string) {
 		if ind.Status == TooFew {
 			v = "○ too few to judge"
 		}
-		rows = append(rows, []string{IndicatorTitle(id), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v})
+		rows = append(rows, []string{IndicatorTitle(id), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v})
 	}
 	d.table(cols, rows)
+	d.indicatorNotes(pick(inds, ids))
 }
 
 // quarterSeries returns an indicator quarter by quarter for an operator
@@ -617,7 +620,7 @@ func (d *doc) adherence() {
 	}
 	d.newPage("Surveillance interval adherence", true)
 	d.note(fmt.Sprintf("Procedures whose recorded recommendation is the interval the program works out under %s, over "+
-		"procedures with a recorded recommendation. Codes are compared as written, so a range and a single value differ.", d.in.Guideline.Title()))
+		"procedures with a recorded recommendation; those whose interval still awaits histology are left out and counted in a note. Codes are compared as written, so a range and a single value differ.", d.in.Guideline.Title()))
 	inds = append(inds, [2]any{"", unit})
 	for _, o := range d.in.Data.Metrics.Operators {
 		if ind, ok := Find(o.Indicators, "interval_adherence"); ok {
@@ -628,7 +631,7 @@ func (d *doc) adherence() {
 	var forest []ForestRow
 	for _, x := range inds {
 		id, ind := x[0].(string), x[1].(Indicator)
-		rows = append(rows, []string{d.populationLabel(id), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)})
+		rows = append(rows, []string{d.populationLabel(id), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)})
 		label := "unit"
 		if id != "" {
 			label = id
@@ -636,6 +639,7 @@ func (d *doc) adherence() {
 		forest = append(forest, ForestRow{Label: label, Indicator: ind})
 	}
 	d.table([]column{{"Population", 52, "L"}, {"Cases", 24, "R"}, {"Value", 20, "R"}, {"95% interval", 30, "R"}, {"Target", 20, "R"}, {"Verdict", 34, "L"}}, rows)
+	d.populationNotes(inds)
 	fd := ForestData{IndicatorID: "interval_adherence", Rows: forest}
 	if t := unit.Target; t != nil {
 		fd.Reference, fd.ReferenceLabel = t, "target"

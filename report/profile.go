@@ -42,6 +42,14 @@ type Profile struct {
 	// StoolTest is the population of adr_stool_test_positive: indication
 	// stool_test_positive with this age and these exclusions.
 	StoolTest StoolTestRule `json:"stool_test_positive"`
+	// CIRRequiresPhoto, when true, counts a procedure in the numerator of
+	// cir and cir_adjusted only when it is complete and its caecal landmarks
+	// were photographed (caecal_photo yes). It follows the profile's source:
+	// BSG/JAG 2016 (Rees 2016) defines its caecal intubation rate "with photo
+	// documentation"; ASGE/ACG 2024 and ESGE 2017 count completeness alone
+	// and measure photo documentation as its own figure (caecal_photo).
+	// Absent means false (clinical-reference §2).
+	CIRRequiresPhoto bool `json:"cir_requires_photo,omitempty"`
 	// Targets maps an indicator id to what the profile asks of it; an
 	// indicator without an entry is reported with no verdict.
 	Targets map[string]Target `json:"targets"`
@@ -157,14 +165,25 @@ func indicatorKind(id string) (kind string, known bool) {
 // trailing data and every rule of validate are errors of type ProfileErrors,
 // each naming file, field and reason. A missing min_cases means
 // DefaultMinCases.
+//
+// Besides the populations and targets, two fields choose how a source
+// words its rule:
+//   - "cir_requires_photo": true makes cir and cir_adjusted count a
+//     complete procedure only with caecal_photo yes (BSG/JAG 2016); absent
+//     or false counts completeness alone.
+//   - "strict": true on a target asks for a value strictly below its maximum
+//     (or above its minimum), for sources that say "below" or "less than":
+//     a discomfort rate of exactly 10% then misses "below 10%". A strict
+//     target that no value could pass (a strict minimum of 1 for a
+//     proportion, a strict maximum of 0) is refused.
 func ParseProfile(file string, data []byte) (*Profile, error) {
 	var raw any
 	if err := json.Unmarshal(data, &raw); err != nil {
 		return nil, ProfileErrors{{File: file, Reason: jsonSyntaxReason(data, err)}}
 	}
 	var errs ProfileErrors
-	unknownFields(raw, reflect.TypeFor[Profile](), "", func(field string) {
-		errs = append(errs, ProfileError{File: file, Field: field, Reason: "unknown field"})
+	fieldProblems(raw, reflect.TypeFor[Profile](), "", func(field, reason string) {
+		errs = append(errs, ProfileError{File: file, Field: field, Reason: reason})
 	})
 	if len(errs) > 0 {
 		return nil, errs
@@ -188,6 +207,8 @@ func ParseProfile(file string, data []byte) (*Profile, error) {
 // jsonTypeName names a Go type as the JSON a user should write.
 func jsonTypeName(t reflect.Type) string {
 	switch t.Kind() {
+	case reflect.Bool:
+		return "true or false"
 	case reflect.Int, reflect.Int64, reflect.Float64:
 		return "a number"
 	case reflect.String:
@@ -215,10 +236,12 @@ func jsonSyntaxReason(data []byte, err error) string {
 	return "not valid JSON: " + err.Error()
 }
 
-// unknownFields walks decoded JSON against the Go type it will fill and calls
-// report with the JSON path of every key the type has no field for. The
-// standard decoder names the key but not where it is; this names the path.
-func unknownFields(v any, t reflect.Type, at string, report func(string)) {
+// fieldProblems walks decoded JSON against the Go type it will fill and
+// calls report with the JSON path of every key the type has no field for
+// ("unknown field") and of every value of the wrong JSON type. The standard
+// decoder names the key but not where it is, and loses map keys from the
+// path; this names the whole path, such as "targets.adr.strict".
+func fieldProblems(v any, t reflect.Type, at string, report func(field, reason string)) {
 	for t.Kind() == reflect.Pointer {
 		t = t.Elem()
 	}
@@ -228,11 +251,18 @@ func unknownFields(v any, t reflect.Type, at string, report func(string)) {
 		}
 		return at + "." + key
 	}
+	wrongType := func() {
+		report(at, fmt.Sprintf("is a JSON %s, want %s", jsonKind(v), jsonTypeName(t)))
+	}
+	if v == nil {
+		return // null leaves the field as it is
+	}
 	switch t.Kind() {
 	case reflect.Struct:
 		obj, ok := v.(map[string]any)
 		if !ok {
-			return // the typed decode reports the mismatch
+			wrongType()
+			return
 		}
 		keys := make([]string, 0, len(obj))
 		for k := range obj {
@@ -242,28 +272,65 @@ func unknownFields(v any, t reflect.Type, at string, report func(string)) {
 		for _, k := range keys {
 			f, ok := fieldByJSONName(t, k)
 			if !ok {
-				report(join(k))
+				report(join(k), "unknown field")
 				continue
 			}
-			unknownFields(obj[k], f.Type, join(k), report)
+			fieldProblems(obj[k], f.Type, join(k), report)
 		}
 	case reflect.Map:
 		obj, ok := v.(map[string]any)
 		if !ok {
+			wrongType()
 			return
 		}
-		for k, e := range obj {
-			unknownFields(e, t.Elem(), join(k), report)
+		keys := make([]string, 0, len(obj))
+		for k := range obj {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		for _, k := range keys {
+			fieldProblems(obj[k], t.Elem(), join(k), report)
 		}
 	case reflect.Slice:
 		list, ok := v.([]any)
 		if !ok {
+			wrongType()
 			return
 		}
 		for i, e := range list {
-			unknownFields(e, t.Elem(), at+"["+strconv.Itoa(i)+"]", report)
+			fieldProblems(e, t.Elem(), at+"["+strconv.Itoa(i)+"]", report)
+		}
+	case reflect.Bool:
+		if _, ok := v.(bool); !ok {
+			wrongType()
+		}
+	case reflect.String:
+		if _, ok := v.(string); !ok {
+			wrongType()
+		}
+	case reflect.Int, reflect.Int64, reflect.Float64:
+		if _, ok := v.(float64); !ok {
+			wrongType()
 		}
 	}
+}
+
+// jsonKind names the JSON type of a decoded value as encoding/json does in
+// its type errors.
+func jsonKind(v any) string {
+	switch v.(type) {
+	case bool:
+		return "bool"
+	case float64:
+		return "number"
+	case string:
+		return "string"
+	case []any:
+		return "array"
+	case map[string]any:
+		return "object"
+	}
+	return "null"
 }
 
 // fieldByJSONName finds the struct field the JSON key fills, as
@@ -377,6 +444,14 @@ func (p *Profile) validate(file string) ProfileErrors {
 					bad(at+"."+f.name, "%v is outside %v–%v", *f.v, lo, hi)
 				}
 			}
+		}
+		// A strict target must leave room to pass it: nothing is above the
+		// top of the scale or below its bottom.
+		switch {
+		case t.Strict && t.Minimum != nil && *t.Minimum >= hi:
+			bad(at+".strict", "a strict minimum of %v can never be passed (nothing is above %v); use a minimum without strict", *t.Minimum, hi)
+		case t.Strict && t.Maximum != nil && *t.Maximum <= lo:
+			bad(at+".strict", "a strict maximum of %v can never be met (nothing is below %v); use a maximum without strict", *t.Maximum, lo)
 		}
 		if t.Aspirational != nil {
 			switch {

@@ -43,7 +43,10 @@ func TestShippedProfiles(t *testing.T) {
 		{"asge-acg-2024", "cir", v(0.95), nil, nil},
 		{"asge-acg-2024", "prep_adequate", v(0.90), nil, nil},
 		{"asge-acg-2024", "withdrawal_negative", v(8), nil, nil},
-		{"asge-acg-2024", "adr_male", nil, nil, nil},
+		// Sex-specific ADR, 40% men and 30% women: from memory of the 2024
+		// text in the project's clinical reference — not verified here.
+		{"asge-acg-2024", "adr_male", v(0.40), nil, nil},
+		{"asge-acg-2024", "adr_female", v(0.30), nil, nil},
 		{"asge-acg-2024", "adr_stool_test_positive", nil, nil, nil}, // 2024 target not verified: reported
 		// Rees CJ et al., Gut 2016;65:1923–1929 (minimum / aspirational).
 		{"bsg-jag-2016", "cir", v(0.90), nil, v(0.95)},
@@ -108,6 +111,37 @@ func TestShippedProfiles(t *testing.T) {
 			t.Errorf("%s eligibility %+v", e.profile, p.Eligible)
 		}
 	}
+	// Caecal intubation with photo documentation: Rees 2016 counts
+	// "unadjusted caecal intubation with photo documentation"; ASGE/ACG 2024
+	// and ESGE 2017 measure photo documentation apart (clinical-reference §2).
+	// Discomfort "below 10%" is strict (Siau 2023); nothing else shipped is.
+	for _, tc := range []struct {
+		profile string
+		photo   bool
+		strict  []string
+	}{
+		{"asge-acg-2024", false, nil},
+		{"bsg-jag-2016", true, []string{"comfort_discomfort"}},
+		{"esge-2017", false, nil},
+	} {
+		p, _ := FindProfile(ps, tc.profile)
+		if p.CIRRequiresPhoto != tc.photo {
+			t.Errorf("%s: cir_requires_photo %v, want %v", tc.profile, p.CIRRequiresPhoto, tc.photo)
+		}
+		var strict []string
+		for id, tg := range p.Targets {
+			if tg.Strict {
+				strict = append(strict, id)
+			}
+		}
+		if !slices.Equal(strict, tc.strict) {
+			t.Errorf("%s: strict targets %v, want %v", tc.profile, strict, tc.strict)
+		}
+	}
+	if p, _ := FindProfile(ps, "asge-acg-2024"); !strings.Contains(p.Targets["adr_male"].Source, "memory") ||
+		!strings.Contains(p.Targets["adr_female"].Source, "memory") || !strings.Contains(p.Notes, "memory") {
+		t.Errorf("asge-acg-2024 does not mark its sex-specific ADR targets as from memory")
+	}
 	if p, _ := FindProfile(ps, "esge-2017"); !strings.Contains(p.Notes, "memory") {
 		t.Errorf("esge-2017 notes do not say the population is from memory: %q", p.Notes)
 	}
@@ -144,6 +178,12 @@ func TestParseProfileErrors(t *testing.T) {
 		{"aspirational below minimum", strings.Replace(validProfile, `{"minimum": 0.3}`, `{"minimum": 0.3, "aspirational": 0.2}`, 1), "targets.adr.aspirational", "below the minimum"},
 		{"target on a comparison", strings.Replace(validProfile, `"adr":`, `"adr_aid_difference":`, 1), "targets.adr_aid_difference", "takes no target"},
 		{"negative mean", strings.Replace(validProfile, `"adr": {"minimum": 0.3}`, `"withdrawal_negative": {"minimum": -6}`, 1), "targets.withdrawal_negative.minimum", "outside"},
+		// Strict targets (clinical-reference §2, "Verdict"): a strict target
+		// nothing can pass is refused, and the field takes true or false.
+		{"strict minimum of 100%", strings.Replace(validProfile, `{"minimum": 0.3}`, `{"minimum": 1, "strict": true}`, 1), "targets.adr.strict", "can never be passed"},
+		{"strict maximum of 0", strings.Replace(validProfile, `"adr": {"minimum": 0.3}`, `"perforation": {"maximum": 0, "strict": true}`, 1), "targets.perforation.strict", "can never be met"},
+		{"strict as a string", strings.Replace(validProfile, `{"minimum": 0.3}`, `{"minimum": 0.3, "strict": "yes"}`, 1), "targets.adr.strict", "want true or false"},
+		{"photo rule as a number", strings.Replace(validProfile, `"title"`, `"cir_requires_photo": 1, "title"`, 1), "cir_requires_photo", "want true or false"},
 		{"syntax", strings.Replace(validProfile, `"title": "Local audit",`, `"title": "Local audit"`, 1), "", "line 4"},
 		{"trailing data", validProfile + " {}", "", "not valid JSON"},
 	}
@@ -174,6 +214,14 @@ func TestParseProfileErrors(t *testing.T) {
 	}
 	if p.MinCases != DefaultMinCases {
 		t.Errorf("absent min_cases gave %d, want %d", p.MinCases, DefaultMinCases)
+	}
+	if p.CIRRequiresPhoto || p.Targets["adr"].Strict {
+		t.Errorf("absent cir_requires_photo and strict must read as false: %+v", p)
+	}
+	strict, err := ParseProfile("local.json", []byte(strings.Replace(validProfile, `"adr": {"minimum": 0.3}`,
+		`"comfort_discomfort": {"maximum": 0.1, "strict": true}, "perforation": {"maximum": 0.001, "strict": true}`, 1)))
+	if err != nil || !strict.Targets["comfort_discomfort"].Strict || !strict.Targets["perforation"].Strict {
+		t.Errorf("strict maxima: %+v, %v", strict, err)
 	}
 	zero, err := ParseProfile("local.json", []byte(strings.Replace(validProfile, `"title"`, `"min_cases": 0, "title"`, 1)))
 	if err != nil || zero.MinCases != 0 {

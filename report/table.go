@@ -23,6 +23,9 @@ func WriteTable(w io.Writer, r MetricsResult) error {
 			if ind.AwaitingHistology > 0 {
 				verdict += fmt.Sprintf("; %d awaiting histology", ind.AwaitingHistology)
 			}
+			if ind.Note != "" {
+				verdict += "; " + ind.Note
+			}
 			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", ind.ID, casesText(ind), valueText(ind, ind.Value),
 				intervalText(ind), targetText(ind), verdict)
 		}
@@ -103,11 +106,7 @@ func targetText(ind Indicator) string {
 	if ind.Target == nil {
 		return ""
 	}
-	s := "≥ "
-	if ind.Maximum {
-		s = "≤ "
-	}
-	s += valueText(ind, ind.Target)
+	s := targetSign(ind.Maximum, ind.Strict) + " " + valueText(ind, ind.Target)
 	if ind.Aspirational != nil {
 		s += " (aim " + valueText(ind, ind.Aspirational) + ")"
 	}

@@ -205,7 +205,7 @@ func (t *TraineeProgress) Result() []TraineeResult {
 			r.Months = append(r.Months, mc)
 		}
 		r.Indicators = append(r.Indicators, judged(Proportion("unassisted_caecal_intubation", st.reached, st.recorded), t.prof))
-		all := st.counts.indicators(t.prof, 0, false)
+		all := st.counts.indicators(t.prof, Period{}, false)
 		for _, want := range []string{"adr", "withdrawal_negative", "comfort_discomfort", "comfort_recorded"} {
 			if ind, ok := Find(all, want); ok {
 				r.Indicators = append(r.Indicators, ind)

@@ -38,6 +38,36 @@ func TestTrendsQuarters(t *testing.T) {
 	}
 }
 
+// TestTrendsVolume checks that a quarter's volume is never judged, however
+// many procedures it holds: the BSG/JAG 100 per year (Rees 2016) is judged
+// only over a year or more (clinical-reference §2, volume), while the same
+// cases over the whole year are judged.
+func TestTrendsVolume(t *testing.T) {
+	opt := MetricsOptions{From: mkDate(t, "2026-01-01"), To: mkDate(t, "2026-12-31")}
+	prof := shipped(t, "bsg-jag-2016")
+	tr := NewTrends(prof, opt)
+	m := NewMetrics(prof, opt)
+	for i := range 120 {
+		c := mkCase(eOn(t, fmt.Sprintf("2026-%02d-10", i%12+1)))
+		tr.Add(&c)
+		m.Add(&c)
+	}
+	r := tr.Result()
+	if len(r.Quarters) != 4 {
+		t.Fatalf("quarters %d", len(r.Quarters))
+	}
+	for _, q := range r.Quarters {
+		ind := mustFind(t, q.Metrics.Operators[0].Indicators, "volume")
+		// 30 procedures in a quarter of 90–92 days: about 120 per year.
+		if ind.Numerator != 30 || ind.Status != Reported || !strings.Contains(ind.Note, "a year or more") {
+			t.Errorf("%s volume %v %s note %q: want 30, reported with a note", q.Quarter, ind.Numerator, ind.Status, ind.Note)
+		}
+	}
+	if ind := mustFind(t, m.Result().Operators[0].Indicators, "volume"); ind.Status != Meets || ind.Note != "" {
+		t.Errorf("year volume %v %s note %q: want meets", ind.Numerator, ind.Status, ind.Note)
+	}
+}
+
 func TestRollingADR(t *testing.T) {
 	// One eligible case on the 15th of each month, 2025-01 to 2026-02, with
 	// an adenoma in 2025-01, 2025-02 and 2026-02. The 12 months ending
@@ -113,5 +143,28 @@ func TestWriteTable(t *testing.T) {
 	}
 	if strings.Index(head, "value") != strings.Index(adr, "33.3%") {
 		t.Errorf("columns not aligned:\n%s\n%s", head, adr)
+	}
+}
+
+// TestWriteTableStrictAndNote checks that the terminal table prints a strict
+// target's sign and every figure's Note (clinical-reference §2: discomfort
+// below 10%, Siau 2023, strict; volume over a quarter reported with a note).
+func TestWriteTableStrictAndNote(t *testing.T) {
+	opt := MetricsOptions{From: mkDate(t, "2026-01-01"), To: mkDate(t, "2026-03-31")}
+	m := NewMetrics(shipped(t, "bsg-jag-2016"), opt)
+	for _, c := range comfortCases() {
+		m.Add(&c)
+	}
+	r := m.Result()
+	var buf bytes.Buffer
+	if err := WriteTable(&buf, r); err != nil {
+		t.Fatal(err)
+	}
+	out := buf.String()
+	vol := mustFind(t, r.Operators[0].Indicators, "volume")
+	for _, want := range []string{"< 10.0%", vol.Note, volumeUnitNote, cirPhotoNote} {
+		if want == "" || !strings.Contains(out, want) {
+			t.Errorf("table lacks %q:\n%s", want, out)
+		}
 	}
 }
