@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"io"
 	"strconv"
+	"strings"
+	"unicode/utf8"
 
 	"polypledger/logbook"
 )
@@ -73,26 +75,46 @@ func writeAll[T any](cw *csv.Writer, cols []column[T], each func(emit func(*T) e
 	})
 }
 
-// SafeCell neutralises a cell that a spreadsheet would run as a formula: one
-// beginning with "=", "+", "-" (unless the whole cell is a decimal number),
-// "@", a tab or a carriage return gets a leading apostrophe, which
-// spreadsheets show as text. Every other cell is returned unchanged.
+// SafeCell neutralises a cell that a spreadsheet would run as a formula:
+// one beginning with "=", "+", "-" (unless the whole cell is a decimal
+// number), "@", a tab or a carriage return, or their full-width forms
+// "＝", "＋", "－" and "＠" (which some spreadsheets read as the plain
+// ones), gets a leading apostrophe, which spreadsheets show as text. So that
+// PlainCell can undo it exactly, a cell that already begins with
+// apostrophes before such a character gets one more. Every other cell is
+// returned unchanged.
 func SafeCell(v string) string {
-	if v == "" {
-		return v
-	}
-	switch v[0] {
-	case '=', '+', '@', '\t', '\r':
-		return "'" + v
-	case '-':
-		if plainNumber(v) {
-			return v
-		}
+	if needsApostrophe(v) {
 		return "'" + v
 	}
 	return v
 }
 
+// PlainCell undoes SafeCell: import reads a cell through it, so that an
+// exported file imports back to the same records. It removes one leading
+// apostrophe exactly where SafeCell adds one — before a formula-like value
+// — and leaves every other cell, including one that merely begins with an
+// apostrophe, as it is.
+func PlainCell(v string) string {
+	if rest, ok := strings.CutPrefix(v, "'"); ok && needsApostrophe(rest) {
+		return rest
+	}
+	return v
+}
+
+// needsApostrophe reports whether SafeCell puts an apostrophe before v:
+// when v, after any apostrophes it begins with, starts like a formula.
+func needsApostrophe(v string) bool {
+	rest := strings.TrimLeft(v, "'")
+	r, _ := utf8.DecodeRuneInString(rest)
+	switch r {
+	case '=', '+', '@', '\t', '\r', '＝', '＋', '－', '＠':
+		return true
+	case '-':
+		return !plainNumber(rest)
+	}
+	return false
+}
 // plainNumber reports whether v is a decimal number as a spreadsheet reads
 // one ("-12", "-2.5", "-1e5"); strconv also accepts "-inf", "-nan" and hex
 // floats, which a spreadsheet would take as a formula.
