@@ -115,6 +115,7 @@ func needsApostrophe(v string) bool {
 	}
 	return false
 }
+
 // plainNumber reports whether v is a decimal number as a spreadsheet reads
 // one ("-12", "-2.5", "-1e5"); strconv also accepts "-inf", "-nan" and hex
 // floats, which a spreadsheet would take as a formula.

@@ -264,7 +264,7 @@ func TestImportEveryProblemInOneRun(t *testing.T) {
 		procHeader,
 		procRowWith("P1", 17, map[string]string{"sex": "Q", "extent": ""}), // three bad values in one row
 		procRow("P0", 60), // already in the logbook
-		procRowWith("P1", 61, map[string]string{"performed_on": "2025-02-29"}), // a repeat, with a bad date too
+		procRowWith("P1", 61, map[string]string{"performed_on": "2025-02-29"}),   // a repeat, with a bad date too
 		procRowWith("P2", 62, map[string]string{"incomplete_reason": "looping"}), // a cross-field rule
 	}, "\n") + "\n"
 	_, err := importText(s, store.Procedures, "p.csv", procs, false)
