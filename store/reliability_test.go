@@ -781,7 +781,7 @@ func TestNoHospitalNumberAtRest(t *testing.T) {
 	noHospitalNumbers(t, "the write-ahead log", wal)
 	noHospitalNumbers(t, "the database file (store open)", readOrEmpty(t, db))
 	backup := filepath.Join(dir, "backup.db")
-	if err := s.Backup(context.Background(), backup); err != nil {
+	if err := s.Backup(context.Background(), backup, false); err != nil {
 		t.Fatal(err)
 	}
 	noHospitalNumbers(t, "the backup", readOrEmpty(t, backup))
