@@ -72,15 +72,15 @@ func TestUsageErrors(t *testing.T) {
 	}{
 		{"import with no arguments", []string{"import"}, "polypledger import: --db is required", importUsage},
 		{"export with no arguments", []string{"export"}, "polypledger export: --db is required",
-			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv"},
+			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv [--force]"},
 		{"demo with no arguments", []string{"demo"}, "polypledger demo: --db is required", "usage: polypledger demo --db PATH [--procedures N] [--seed S]"},
 		{"check with no arguments", []string{"check"}, "polypledger check: --db is required", "usage: polypledger check --db PATH"},
-		{"backup with no arguments", []string{"backup"}, "polypledger backup: --db is required", "usage: polypledger backup --db PATH --out FILE"},
+		{"backup with no arguments", []string{"backup"}, "polypledger backup: --db is required", "usage: polypledger backup --db PATH --out FILE [--force]"},
 		{"metrics with no arguments", []string{"metrics"}, "polypledger metrics: --db is required", metricsUsage},
 		{"interval with no arguments", []string{"interval"}, "polypledger interval: --db is required",
 			"usage: polypledger interval --db PATH [--procedure ID] [--guideline G] [--format json|text]"},
 		{"missing --db", []string{"export", "--kind", "procedures", "--out", filepath.Join(dir, "x.csv")}, "polypledger export: --db is required",
-			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv"},
+			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv [--force]"},
 		{"bad --kind", []string{"import", "--db", db, "--kind", "patients", csvFile},
 			`polypledger import: --kind: kind "patients" is not procedures, lesions or histology`, importUsage},
 		{"no --kind", []string{"import", "--db", db, csvFile},
@@ -186,7 +186,7 @@ func TestBadInputExits1(t *testing.T) {
 		if code != exitBad {
 			t.Errorf("exit %d, want %d", code, exitBad)
 		}
-		want := "polypledger import: " + bad + ":3: age: 17 is outside 18–110\n" +
+		want := bad + ":3: age: 17 is outside 18–110\n" +
 			bad + `:5: performed_on: "2025-02-29" is not a real calendar date (YYYY-MM-DD)` + "\n" +
 			bad + ": nothing was imported (2 problems in 4 rows)\n"
 		if stderr != want {

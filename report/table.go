@@ -23,8 +23,8 @@ func WriteTable(w io.Writer, r MetricsResult) error {
 			if ind.AwaitingHistology > 0 {
 				verdict += fmt.Sprintf("; %d awaiting histology", ind.AwaitingHistology)
 			}
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", ind.ID, casesText(ind), valueText(ind, ind.Value),
-				intervalText(ind), targetText(ind), verdict)
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", ind.ID, casesText(ind), FormatValue(ind),
+				intervalText(ind), FormatTarget(ind), verdict)
 		}
 	}
 	block("Unit", r.Unit.Indicators)

@@ -146,7 +146,7 @@ func TestRoundTripDemo(t *testing.T) {
 func TestExportUnknownKind(t *testing.T) {
 	s := openUnit(t)
 	var b strings.Builder
-	if err := s.Export(context.Background(), store.Kind("patients"), &b); err == nil {
+	if _, err := s.Export(context.Background(), store.Kind("patients"), &b); err == nil {
 		t.Error("export of an unknown kind succeeded")
 	}
 	if b.Len() != 0 {

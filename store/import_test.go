@@ -58,7 +58,7 @@ func mustImport(t *testing.T, s *store.Store, kind store.Kind, name, text string
 func exportText(t *testing.T, s *store.Store, kind store.Kind) string {
 	t.Helper()
 	var b bytes.Buffer
-	if err := s.Export(context.Background(), kind, &b); err != nil {
+	if _, err := s.Export(context.Background(), kind, &b); err != nil {
 		t.Fatalf("export %s: %v", kind, err)
 	}
 	return b.String()

@@ -650,9 +650,10 @@ func FuzzSafeCell(f *testing.F) {
 	})
 }
 
-// formulaLike reports whether a cell would be read as a formula.
+// formulaLike reports whether a cell would be read as a formula: it
+// starts like one, not behind an apostrophe.
 func formulaLike(cell string) bool {
-	return cell != "" && SafeCell(cell) != cell
+	return !strings.HasPrefix(cell, "'") && needsApostrophe(cell)
 }
 
 // TestExportNeutralisesHostileValues imports identifiers that validation
