@@ -242,7 +242,7 @@ func cmdCheck(ctx context.Context, e *env, args []string) error {
 	defer st.Close()
 	findings, err := st.Check(ctx)
 	if err != nil {
-		return err
+		return fmt.Errorf("%s: %w", *db, err)
 	}
 	if len(findings) > 0 {
 		return fmt.Errorf("%s has %d %s:\n%s", *db, len(findings), plural(len(findings), "problem", "problems"), strings.Join(findings, "\n"))

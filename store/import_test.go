@@ -13,6 +13,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"regexp"
 	"strings"
 	"testing"
 	"time"
@@ -794,5 +795,49 @@ func TestParseKind(t *testing.T) {
 	}
 	if _, err := store.ParseKind("patients"); err == nil || err.Error() != `kind "patients" is not procedures, lesions or histology` {
 		t.Errorf("ParseKind(patients): %v", err)
+	}
+}
+
+// TestImportKeepsUpperCasedPseudonyms: an exported file whose pseudonyms a
+// spreadsheet turned to capitals ("PSN:3F…") imports back to the same
+// patients; the pseudonym is not hashed again as if it were a hospital
+// number, which would silently re-key the patient under --update.
+func TestImportKeepsUpperCasedPseudonyms(t *testing.T) {
+	ctx := context.Background()
+	s := openUnit(t)
+	mustImport(t, s, store.Procedures, "p.csv", procHeader+"\n"+
+		procRowWith("P1", 60, map[string]string{"patient_ref": "RXH7654321"})+"\n"+
+		procRowWith("P2", 61, map[string]string{"patient_ref": "RXH7654322"})+"\n")
+	before := map[string]string{}
+	for _, id := range []string{"P1", "P2"} {
+		c, _ := s.Case(ctx, id)
+		before[id] = c.PatientKey
+	}
+	exported := exportText(t, s, store.Procedures)
+	upper := regexp.MustCompile(`psn:[0-9a-f]{64}`).ReplaceAllStringFunc(exported, strings.ToUpper)
+	if upper == exported || !strings.Contains(upper, "PSN:") {
+		t.Fatal("no pseudonym was upper-cased: the test would prove nothing")
+	}
+	if _, err := importText(s, store.Procedures, "upper.csv", upper, true); err != nil {
+		t.Fatal(err)
+	}
+	for id, key := range before {
+		if c, _ := s.Case(ctx, id); c.PatientKey != key {
+			t.Errorf("%s: patient key %s after re-import, was %s", id, c.PatientKey, key)
+		}
+	}
+	if again := exportText(t, s, store.Procedures); again != exported {
+		t.Errorf("export after re-import differs at %s", firstDifference(again, exported))
+	}
+}
+
+// TestImportRefusesAnAmountTooSmallToStore: "1e-400" would be stored as 0
+// (an underflow); it is refused, naming the line and column.
+func TestImportRefusesAnAmountTooSmallToStore(t *testing.T) {
+	s := openUnit(t)
+	_, err := importText(s, store.Procedures, "p.csv", procHeader+"\n"+procRowWith("P1", 60, map[string]string{"midazolam_mg": "1e-400"})+"\n", false)
+	want := []string{`p.csv:2: midazolam_mg: "1e-400" is too small to record (it would be stored as 0)`}
+	if got := errorLines(importError(t, err)); !reflect.DeepEqual(got, want) {
+		t.Errorf("problems %q, want %q", got, want)
 	}
 }

@@ -795,3 +795,49 @@ func TestSettingsRoundTrip(t *testing.T) {
 		}
 	}
 }
+
+// TestOpenOursWithHeaderInLog: a polypledger database that an older
+// program was killed while creating — the main file holds no more than
+// SQLite's header, the schema and a procedure are still in the write-ahead
+// log — is recognised as ours (from a private copy of the file and its
+// log) and opened with its data.
+func TestOpenOursWithHeaderInLog(t *testing.T) {
+	ctx := context.Background()
+	dir := t.TempDir()
+	src := filepath.Join(dir, "src.db")
+	raw := utRaw(t, src)
+	raw.SetMaxOpenConns(1)
+	ms, err := migrations()
+	if err != nil {
+		t.Fatal(err)
+	}
+	stmts := []string{"PRAGMA journal_mode=WAL", "PRAGMA wal_autocheckpoint=0"}
+	for _, m := range ms {
+		stmts = append(stmts, m.sql)
+	}
+	stmts = append(stmts, fmt.Sprintf("PRAGMA user_version = %d", len(ms)), fmt.Sprintf("PRAGMA application_id = %d", applicationID),
+		"INSERT INTO roster (id, name, role) VALUES ('E01', '', 'endoscopist')",
+		"INSERT INTO procedures (id, performed_on, operator_id, age, sex, indication, extent) VALUES ('P1', '2026-01-05', 'E01', 60, 'F', 'screening', 'caecum')")
+	for _, q := range stmts {
+		if _, err := raw.ExecContext(ctx, q); err != nil {
+			t.Fatalf("%.60s: %v", q, err)
+		}
+	}
+	path := filepath.Join(dir, "unit.db")
+	for _, suf := range []string{"", "-wal"} {
+		b, err := os.ReadFile(src + suf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		os.WriteFile(path+suf, b, 0o600)
+	}
+	raw.Close()
+	h, err := readHeader(path)
+	if err != nil || h.applicationID == applicationID || !h.wal {
+		t.Fatalf("the main file already says it is ours (%+v, %v): the test would prove nothing", h, err)
+	}
+	s := utOpen(t, path, Options{})
+	if c, err := s.Case(ctx, "P1"); err != nil || c.OperatorID != "E01" {
+		t.Errorf("the procedure in the log: %+v, %v", c.Procedure, err)
+	}
+}

@@ -85,7 +85,7 @@ type PageCounter struct {
 	tail  []byte // the end of what was written, for a marker split between writes
 }
 
-var pageMarker = []byte("\n/Type /Page\n")
+var pageMarker = []byte("/Type /Page\n")
 
 func (c *PageCounter) Write(p []byte) (int, error) {
 	buf := append(c.tail, p...)
