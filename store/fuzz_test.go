@@ -16,6 +16,7 @@ import (
 	"bytes"
 	"context"
 	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -85,8 +86,11 @@ func fuzzSeeds(kind Kind, valid []byte) [][]byte {
 // fuzzKinds are the kinds FuzzImportEndToEnd's kind byte chooses from.
 var fuzzKinds = []Kind{Procedures, Lesions, Histology}
 
-// FuzzImportEndToEnd imports data as the kind chosen by kind into a copy
-// of the template database, with or without --update.
+// FuzzImportEndToEnd imports data as the kind chosen by kind into the
+// template database, with or without --update. The database stays open
+// from one input to the next while imports are refused (which must change
+// nothing, and is checked); after an accepted one it is made again from
+// the template.
 func FuzzImportEndToEnd(f *testing.F) {
 	template := fuzzTemplate(f)
 	valid := fuzzValidFiles(f)
@@ -96,14 +100,24 @@ func FuzzImportEndToEnd(f *testing.F) {
 			f.Add(seed, uint8(i), true)
 		}
 	}
+	dir := f.TempDir()
+	var s *Store
+	f.Cleanup(func() {
+		if s != nil {
+			s.Close()
+		}
+	})
+	fresh := 0
 	f.Fuzz(func(t *testing.T, data []byte, kindByte uint8, update bool) {
 		kind := fuzzKinds[int(kindByte)%len(fuzzKinds)]
-		path := filepath.Join(t.TempDir(), "unit.db")
-		if err := os.WriteFile(path, template, 0o600); err != nil {
-			t.Fatal(err)
+		if s == nil {
+			fresh++
+			path := filepath.Join(dir, fmt.Sprintf("unit%d.db", fresh))
+			if err := os.WriteFile(path, template, 0o600); err != nil {
+				t.Fatal(err)
+			}
+			s = openTest(t, path, Options{Now: func() time.Time { return fuzzNow }})
 		}
-		s := openTest(t, path, Options{Now: func() time.Time { return fuzzNow }})
-		defer s.Close()
 		before := storeCounts(t, s)
 		ctx, cancel := context.WithTimeout(context.Background(), 20*time.Second)
 		defer cancel()
@@ -124,6 +138,15 @@ func FuzzImportEndToEnd(f *testing.F) {
 				t.Fatalf("a refused import changed the database: %+v, was %+v", after, before)
 			}
 			return
+		}
+		// An accepted import that changed the database: the next input
+		// starts again from the template.
+		if after != before {
+			defer func() {
+				s.Close()
+				os.Remove(s.Path())
+				s = nil
+			}()
 		}
 		// What the database accepted, the in-memory check accepts too.
 		if ie := checkFile(kind, "fuzz.csv", bytes.NewReader(data), testKey, fuzzNow); ie != nil {
@@ -202,7 +225,7 @@ func fuzzValidFiles(f *testing.F) map[Kind][]byte {
 }
 
 // storeCounts counts an open store's rows.
-func storeCounts(t *testing.T, s *Store) dbCounts {
+func storeCounts(t testing.TB, s *Store) dbCounts {
 	t.Helper()
 	var c dbCounts
 	for _, q := range []struct {
