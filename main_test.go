@@ -468,8 +468,8 @@ func TestCommandsSayWhatTheyDid(t *testing.T) {
 	out := filepath.Join(dir, "procedures.csv")
 	code, stdout, stderr := cli(t, "export", "--db", db, "--kind", "procedures", "--out", out)
 	rows := strings.Count(readFile(t, out), "\n") - 1
-	if want := fmt.Sprintf("wrote %s: %d procedures\n", out, rows); code != exitOK || stdout != want || rows != 300 {
-		t.Errorf("export: exit %d, %q, want %q (%d rows)", code, stdout, want, rows)
+	if want := fmt.Sprintf("wrote %s: %d procedures\n", out, rows); code != exitOK || stdout != want || rows != 300 || stderr != "" {
+		t.Errorf("export: exit %d, %q, want %q (%d rows); stderr %q", code, stdout, want, rows, stderr)
 	}
 	code, _, stderr = cli(t, "export", "--db", db, "--kind", "histology", "--out", "-")
 	if code != exitOK || !regexp.MustCompile(`^wrote \d+ histology results to standard output\n$`).MatchString(stderr) {

@@ -123,12 +123,10 @@ func (s *Store) Backup(ctx context.Context, out string, replace bool) error {
 	if err != nil {
 		return fmt.Errorf("backup %s: %w", out, s.explain(err))
 	}
-	f, err := safefile.Create(abs)
+	tmp, err := tempDatabase(abs)
 	if err != nil {
 		return fmt.Errorf("backup %s: %w", out, err)
 	}
-	tmp := f.Name()
-	f.Close()
 	defer removeJournals(tmp)
 	if err := vacuumInto(ctx, s.db, tmp); err != nil {
 		os.Remove(tmp)

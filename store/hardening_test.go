@@ -16,7 +16,6 @@ import (
 	"path/filepath"
 	"regexp"
 	"strings"
-	"sync"
 	"syscall"
 	"testing"
 	"time"
@@ -48,12 +47,7 @@ func noTemporaries(t testing.TB, dir string) {
 // and the database must pass check. Repeated over several rounds, so that
 // the processes meet at different moments of creation.
 func TestProcessesCreatingOneDatabase(t *testing.T) {
-	if testing.Short() {
-		t.Skip("builds and runs the binary; skipped with -short")
-	}
-	dir := t.TempDir()
-	home := filepath.Join(dir, "home")
-	os.Mkdir(home, 0o700)
+	dir, home := processTest(t)
 	const n = 1500
 	good := map[string]string{}
 	for i, prefix := range []string{"GA", "GB", "GC"} {
@@ -67,24 +61,11 @@ func TestProcessesCreatingOneDatabase(t *testing.T) {
 	for round := range 6 {
 		db := filepath.Join(dir, fmt.Sprintf("round%d", round), "unit.db")
 		os.Mkdir(filepath.Dir(db), 0o700)
-		var wg sync.WaitGroup
-		var mu sync.Mutex
-		results := map[string]cliRun{}
 		files := map[string]string{"bad": bad}
 		for k, v := range good {
 			files[k] = v
 		}
-		for name, file := range files {
-			wg.Add(1)
-			go func() {
-				defer wg.Done()
-				r := runCLI(t, home, env, "import", "--db", db, "--kind", "procedures", file)
-				mu.Lock()
-				results[name] = r
-				mu.Unlock()
-			}()
-		}
-		wg.Wait()
+		results := importAtOnce(t, home, env, db, files)
 		for name, r := range results {
 			if rawSQLLeak.MatchString(r.stderr) {
 				t.Errorf("round %d, %s: a raw driver message reached the user: %s", round, name, r.stderr)
@@ -139,12 +120,7 @@ func corruptRootPage(t *testing.T, path string) {
 // says so, and import and backup refuse it — the import writes nothing, the
 // backup makes no file — rather than write to it or copy it as sound.
 func TestDamagedDatabaseRefusedByWriters(t *testing.T) {
-	if testing.Short() {
-		t.Skip("builds and runs the binary; skipped with -short")
-	}
-	dir := t.TempDir()
-	home := filepath.Join(dir, "home")
-	os.Mkdir(home, 0o700)
+	dir, home := processTest(t)
 	db := filepath.Join(dir, "unit.db")
 	populatedDB(t, db, 600)
 	corruptRootPage(t, db)
@@ -278,12 +254,7 @@ func TestForeignDatabasesLeftUntouched(t *testing.T) {
 // byte for byte as it was — not migrated. While the backup runs, no file in
 // its folder is ever readable by others, even with a permissive umask.
 func TestBackupChangesNothingInItsSource(t *testing.T) {
-	if testing.Short() {
-		t.Skip("builds and runs the binary; skipped with -short")
-	}
-	dir := t.TempDir()
-	home := filepath.Join(dir, "home")
-	os.Mkdir(home, 0o700)
+	dir, home := processTest(t)
 	src := filepath.Join(dir, "old.db")
 	old := openTest(t, src, Options{migrateTo: 1})
 	cases := inventedCases(t, 20000, "B", 9)
@@ -361,12 +332,7 @@ func TestBackupChangesNothingInItsSource(t *testing.T) {
 // next run of the same command removes what the killed one left and
 // succeeds.
 func TestKilledWritersLeaveNoTemporaryBehind(t *testing.T) {
-	if testing.Short() {
-		t.Skip("builds and runs the binary; skipped with -short")
-	}
-	dir := t.TempDir()
-	home := filepath.Join(dir, "home")
-	os.Mkdir(home, 0o700)
+	dir, home := processTest(t)
 	db := filepath.Join(dir, "unit.db")
 	populatedDB(t, db, 30000)
 	for _, tc := range []struct {
@@ -506,12 +472,7 @@ func TestNoHospitalNumberInMessages(t *testing.T) {
 // that other users can open: the command still works and warns, saying how
 // to make them owner-only.
 func TestKeyOpenToOthersIsWarnedAbout(t *testing.T) {
-	if testing.Short() {
-		t.Skip("builds and runs the binary; skipped with -short")
-	}
-	dir := t.TempDir()
-	home := filepath.Join(dir, "home")
-	os.Mkdir(home, 0o700)
+	dir, home := processTest(t)
 	csvPath := writeFile(t, dir, "p.csv", proceduresCSV(t, inventedCases(t, 5, "K", 3)))
 	db := filepath.Join(dir, "unit.db")
 	r := runCLI(t, home, nil, "import", "--db", db, "--kind", "procedures", csvPath)

@@ -19,6 +19,8 @@ import (
 
 	"modernc.org/sqlite"
 	sqlite3 "modernc.org/sqlite/lib"
+
+	"polypledger/internal/safefile"
 )
 
 // applicationID marks a SQLite file as a polypledger database ("PlPg").
@@ -303,6 +305,17 @@ func JournalOf(path string) (db string, ok bool) {
 func hasLog(path string) bool {
 	fi, err := os.Stat(path + "-wal")
 	return err == nil && fi.Size() > 0
+}
+
+// tempDatabase makes an empty, owner-only temporary file beside path for a
+// database to be built in (a new database, or a backup copy) and returns
+// its name; the caller removes it, and its journals, if it is not placed.
+func tempDatabase(path string) (string, error) {
+	f, err := safefile.Create(path)
+	if err != nil {
+		return "", err
+	}
+	return f.Name(), f.Close()
 }
 
 // removeJournals removes the files SQLite keeps beside a database that is

@@ -197,12 +197,10 @@ func Create(ctx context.Context, path string, opt Options, fill func(*Store) err
 	if err := os.MkdirAll(dir, 0o700); err != nil {
 		return fmt.Errorf("cannot create folder %s for the database: %w", dir, err)
 	}
-	f, err := safefile.Create(abs)
+	tmp, err := tempDatabase(abs)
 	if err != nil {
 		return fmt.Errorf("cannot create database %s: %w", path, err)
 	}
-	tmp := f.Name()
-	f.Close()
 	defer removeJournals(tmp)
 	opt.ReadOnly = false
 	s, err := open(ctx, tmp, path, opt)
