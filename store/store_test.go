@@ -841,3 +841,41 @@ func TestOpenOursWithHeaderInLog(t *testing.T) {
 		t.Errorf("the procedure in the log: %+v, %v", c.Procedure, err)
 	}
 }
+
+// TestOpenersOfAnOldDatabaseMigrateOnce opens a schema-1 database from
+// several connection pools at once, as several programs starting
+// together would: each upgrade step is applied once, and every opener
+// succeeds.
+func TestOpenersOfAnOldDatabaseMigrateOnce(t *testing.T) {
+	ctx := context.Background()
+	for round := range 5 {
+		path := filepath.Join(t.TempDir(), fmt.Sprintf("old%d.db", round))
+		old := utOpen(t, path, Options{migrateTo: 1})
+		utAddRoster(t, old)
+		if err := old.Close(); err != nil {
+			t.Fatal(err)
+		}
+		errs := make(chan error, 4)
+		for range 4 {
+			go func() {
+				s, err := Open(ctx, path, Options{BusyTimeout: time.Minute})
+				if err == nil {
+					err = s.Close()
+				}
+				errs <- err
+			}()
+		}
+		for range 4 {
+			if err := <-errs; err != nil {
+				t.Errorf("round %d: an opener failed: %v", round, err)
+			}
+		}
+		s := utOpen(t, path, Options{ReadOnly: true})
+		if v, _ := s.Version(ctx); v != SchemaVersion {
+			t.Errorf("round %d: schema %d after the openers, want %d", round, v, SchemaVersion)
+		}
+		if findings, err := s.Check(ctx); err != nil || len(findings) > 0 {
+			t.Errorf("round %d: check: %q, %v", round, findings, err)
+		}
+	}
+}
