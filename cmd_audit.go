@@ -125,7 +125,7 @@ func writeIntervalText[T any](w io.Writer, g report.Guideline, rows []T, fields 
 	fmt.Fprintf(w, "Suggested surveillance intervals under %s (%s)\n\n", g, g.Title())
 	for _, r := range rows {
 		id, iv, reasons := fields(r)
-		fmt.Fprintf(w, "%s: %s\n", id, iv)
+		fmt.Fprintf(w, "%s: %s\n", id, iv.Words())
 		for _, why := range reasons {
 			fmt.Fprintf(w, "    - %s\n", why)
 		}

@@ -16,12 +16,6 @@ import (
 // version is stamped at build time with -ldflags "-X main.version=…".
 var version = "dev"
 
-// openStore opens the database named by --db, with the unit key when the
-// command needs to pseudonymise patient references.
-func openStore(ctx context.Context, path string, withKey bool) (*store.Store, error) {
-	return workspace.OpenStore(ctx, path, withKey)
-}
-
 func cmdVersion(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("version", "", e.stderr)
 	if _, err := parse(fs, args); err != nil {
@@ -45,42 +39,39 @@ func cmdDemo(ctx context.Context, e *env, args []string) error {
 	if *n < 1 || *n > 20_000_000 {
 		return usagef("--procedures must be between 1 and 20000000")
 	}
-	_, statErr := os.Stat(*db)
-	created := errors.Is(statErr, os.ErrNotExist)
-	st, err := openStore(ctx, *db, true)
-	if err != nil {
-		return err
-	}
 	progress := func(done int) {
 		if *n >= 100_000 && done%(*n/10) < store.ProgressEvery {
 			fmt.Fprintf(e.stderr, "demo: %d of %d procedures (%d%%)\n", done, *n, done*100 / *n)
 		}
 	}
-	count, err := workspace.CreateDemo(ctx, st, *n, *seed, progress)
-	cerr := st.Close()
+	var count int
+	created, err := workspace.Fill(ctx, *db, true, func(st *store.Store) error {
+		var err error
+		count, err = workspace.CreateDemo(ctx, st, *n, *seed, progress)
+		return err
+	})
+	warnKey(e)
 	if err != nil {
-		if created {
-			removeDB(*db)
-		}
 		return fmt.Errorf("demo %s: %w", *db, err)
 	}
-	if cerr != nil {
-		return cerr
+	verb := "created"
+	if !created {
+		verb = "filled the empty database"
 	}
-	fmt.Fprintf(e.stdout, "created %s: %s, %d procedures (invented data)\n", *db, demo.UnitName, count)
+	fmt.Fprintf(e.stdout, "%s %s: %s, %d procedures (invented data)\n", verb, *db, demo.UnitName, count)
 	return nil
 }
 
-// removeDB deletes a database file this command created and its journals.
-func removeDB(path string) {
-	for _, suffix := range []string{"", "-wal", "-shm"} {
-		os.Remove(path + suffix)
+// warnKey prints any warning about who else can open the unit key.
+func warnKey(e *env) {
+	for _, w := range workspace.KeyWarnings() {
+		fmt.Fprintln(e.stderr, "polypledger:", w)
 	}
 }
 
 func cmdImport(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("import", "--db PATH --kind procedures|lesions|histology [--update] FILE.csv", e.stderr)
-	db := fs.String("db", "", "database file")
+	db := fs.String("db", "", "database file (created if it does not exist)")
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
 	update := fs.Bool("update", false, "replace records already stored instead of refusing them")
 	pos, err := parse(fs, args)
@@ -105,48 +96,86 @@ func cmdImport(ctx context.Context, e *env, args []string) error {
 	defer f.Close()
 	var size int64
 	if fi, err := f.Stat(); err == nil {
+		if fi.IsDir() {
+			return fmt.Errorf("%s is a folder, not a CSV file", name)
+		}
 		size = fi.Size()
 	}
-	_, statErr := os.Stat(*db)
-	created := errors.Is(statErr, os.ErrNotExist)
-	st, err := openStore(ctx, *db, kind == store.Procedures)
-	if err != nil {
-		return err
-	}
-	res, err := st.Import(ctx, kind, name, f, store.ImportOptions{
+	opt := store.ImportOptions{
 		Update: *update,
 		Progress: func(rows int, read int64) {
 			if size > 0 {
-				fmt.Fprintf(e.stderr, "%s: %d rows read (%d%%)\n", name, rows, read*100/size)
+				fmt.Fprintf(e.stderr, "%s: %d rows read (%d%%)\n", name, rows, min(read, size)*100/size)
 			} else {
 				fmt.Fprintf(e.stderr, "%s: %d rows read\n", name, rows)
 			}
 		},
+	}
+	// A new database is made whole by Fill: if the import fails, no file
+	// is left, and no file is ever deleted. If another program creates the
+	// database meanwhile, the file is read again into theirs.
+	var res store.ImportResult
+	reads := 0
+	created, err := workspace.Fill(ctx, *db, kind == store.Procedures, func(st *store.Store) error {
+		if reads++; reads > 1 {
+			if _, err := f.Seek(0, io.SeekStart); err != nil {
+				return fmt.Errorf("another program created %s while %s was being read, and %s cannot be read a second time; nothing was imported — run the import again", *db, name, name)
+			}
+		}
+		var err error
+		res, err = st.Import(ctx, kind, name, f, opt)
+		return err
 	})
-	if cerr := st.Close(); err == nil {
-		err = cerr
+	if kind == store.Procedures {
+		warnKey(e)
 	}
 	if err != nil {
-		if created {
-			removeDB(*db) // nothing was stored: leave no empty database behind
-		}
 		return err
 	}
 	if created {
 		fmt.Fprintf(e.stdout, "created a new database %s\n", *db)
 	}
-	fmt.Fprintf(e.stdout, "%s: imported %d rows (%d new, %d updated)\n", name, res.Rows, res.Inserted, res.Updated)
+	fmt.Fprintf(e.stdout, "%s: imported %d %s (%d new, %d updated)\n", name, res.Rows, plural(res.Rows, "row", "rows"), res.Inserted, res.Updated)
 	for _, r := range res.RosterAdded {
 		fmt.Fprintf(e.stdout, "%s: added %s to the roster as %s (give them a name in unit settings)\n", name, r.ID, r.Role)
 	}
 	return nil
 }
 
+// plural picks the word for a count.
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
+}
+
+// recordWords name what a kind of file holds, one and many.
+var recordWords = map[store.Kind][2]string{
+	store.Procedures: {"procedure", "procedures"},
+	store.Lesions:    {"lesion", "lesions"},
+	store.Histology:  {"histology result", "histology results"},
+}
+
+// output is where a command writes a file: the --out and --force flags.
+func output(out string, force bool, db string) workspace.Output {
+	return workspace.Output{Path: out, Replace: force, Database: db}
+}
+
+// forceHint adds the way to replace an existing file to the refusal.
+func forceHint(err error) error {
+	if errors.Is(err, store.ErrExists) {
+		return fmt.Errorf("%w, or give --force to replace it", err)
+	}
+	return err
+}
+
 func cmdExport(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("export", "--db PATH --kind procedures|lesions|histology --out FILE.csv", e.stderr)
+	fs := newFlags("export", "--db PATH --kind procedures|lesions|histology --out FILE.csv [--force]", e.stderr)
 	db := fs.String("db", "", "database file")
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
 	out := fs.String("out", "", "CSV file to write (- for standard output)")
+	force := fs.Bool("force", false, "replace the file if it exists (never a database)")
 	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
 	}
@@ -159,15 +188,39 @@ func cmdExport(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return usagef("--kind: %v", err)
 	}
+	if err := mustExist(*db); err != nil {
+		return err
+	}
+	dest := output(*out, *force, *db)
+	if *out != "-" {
+		if err := dest.Check(); err != nil {
+			return forceHint(err)
+		}
+	}
 	st, err := store.Open(ctx, *db, store.Options{ReadOnly: true})
 	if err != nil {
 		return err
 	}
 	defer st.Close()
+	words := recordWords[kind]
 	if *out == "-" {
-		return st.Export(ctx, kind, e.stdout)
+		n, err := st.Export(ctx, kind, e.stdout)
+		if err == nil {
+			fmt.Fprintf(e.stderr, "wrote %d %s to standard output\n", n, plural(n, words[0], words[1]))
+		}
+		return err
 	}
-	return workspace.WriteFileAtomically(*out, func(w io.Writer) error { return st.Export(ctx, kind, w) })
+	var n int
+	err = dest.Write(func(w io.Writer) error {
+		var err error
+		n, err = st.Export(ctx, kind, w)
+		return err
+	})
+	if err != nil {
+		return forceHint(err)
+	}
+	fmt.Fprintf(e.stdout, "wrote %s: %d %s\n", *out, n, plural(n, words[0], words[1]))
+	return nil
 }
 
 func cmdCheck(ctx context.Context, e *env, args []string) error {
@@ -189,20 +242,21 @@ func cmdCheck(ctx context.Context, e *env, args []string) error {
 	defer st.Close()
 	findings, err := st.Check(ctx)
 	if err != nil {
-		return err
+		return fmt.Errorf("%s: %w", *db, err)
 	}
 	if len(findings) > 0 {
-		return fmt.Errorf("%s has %d problems:\n%s", *db, len(findings), strings.Join(findings, "\n"))
+		return fmt.Errorf("%s has %d %s:\n%s", *db, len(findings), plural(len(findings), "problem", "problems"), strings.Join(findings, "\n"))
 	}
 	n, _ := st.CountProcedures(ctx, store.ListQuery{})
-	fmt.Fprintf(e.stdout, "%s: ok (schema %d, %d procedures)\n", *db, store.SchemaVersion, n)
+	fmt.Fprintf(e.stdout, "%s: ok (schema %d, %d %s)\n", *db, store.SchemaVersion, n, plural(n, "procedure", "procedures"))
 	return nil
 }
 
 func cmdBackup(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("backup", "--db PATH --out FILE", e.stderr)
+	fs := newFlags("backup", "--db PATH --out FILE [--force]", e.stderr)
 	db := fs.String("db", "", "database file")
 	out := fs.String("out", "", "backup file to create")
+	force := fs.Bool("force", false, "replace the file if it exists (never a database: an older backup is not replaced)")
 	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
 	}
@@ -214,14 +268,16 @@ func cmdBackup(ctx context.Context, e *env, args []string) error {
 	if err := mustExist(*db); err != nil {
 		return err
 	}
-	st, err := store.Open(ctx, *db, store.Options{})
+	// Read-only, and an older schema as it is: a backup changes nothing
+	// in its source.
+	st, err := store.Open(ctx, *db, store.Options{ReadOnly: true, KeepSchema: true})
 	if err != nil {
 		return err
 	}
 	defer st.Close()
-	if err := st.Backup(ctx, *out); err != nil {
-		return err
+	if err := st.Backup(ctx, *out, *force); err != nil {
+		return forceHint(err)
 	}
-	fmt.Fprintf(e.stdout, "backed up %s to %s\n", *db, *out)
+	fmt.Fprintf(e.stdout, "backed up %s to %s (checked)\n", *db, *out)
 	return nil
 }

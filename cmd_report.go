@@ -3,20 +3,21 @@ package main
 import (
 	"context"
 	"fmt"
-	"os"
-	"path/filepath"
+	"io"
+	"strings"
 	"time"
 
 	"polypledger/assets"
 	"polypledger/logbook"
 	"polypledger/report"
 	"polypledger/store"
+	"polypledger/workspace"
 )
 
 // cmdReport writes a PDF report: the unit audit, an endoscopist's personal
 // report (--operator) or a trainee's logbook (--trainee).
 func cmdReport(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("report", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf", e.stderr)
+	fs := newFlags("report", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf [--force]", e.stderr)
 	db := fs.String("db", "", "database file")
 	fromS := fs.String("from", "", "first day of the period (YYYY-MM-DD)")
 	toS := fs.String("to", "", "last day of the period (YYYY-MM-DD)")
@@ -24,6 +25,7 @@ func cmdReport(ctx context.Context, e *env, args []string) error {
 	operator := fs.String("operator", "", "personal report for this endoscopist; others appear as anonymous peers")
 	trainee := fs.String("trainee", "", "logbook for this trainee")
 	out := fs.String("out", "", "PDF file to write")
+	force := fs.Bool("force", false, "replace the file if it exists (never a database)")
 	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
 	}
@@ -40,6 +42,13 @@ func cmdReport(ctx context.Context, e *env, args []string) error {
 	if *operator != "" && *trainee != "" {
 		return usagef("--operator and --trainee cannot both be given")
 	}
+	dest := output(*out, *force, *db)
+	if err := mustExist(*db); err != nil {
+		return err
+	}
+	if err := dest.Check(); err != nil {
+		return forceHint(err)
+	}
 	a, err := openAudit(ctx, *db, *standard)
 	if err != nil {
 		return err
@@ -54,8 +63,9 @@ func cmdReport(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	names := make(map[string]string, len(roster))
+	roles := make(map[string]logbook.Role, len(roster))
 	for _, r := range roster {
-		names[r.ID] = r.Name
+		names[r.ID], roles[r.ID] = r.Name, r.Role
 	}
 	in := report.ReportInput{
 		Kind: report.UnitReport, UnitName: a.settings.UnitName, Profile: a.profile, Guideline: g,
@@ -64,18 +74,21 @@ func cmdReport(ctx context.Context, e *env, args []string) error {
 		Fonts: report.ReportFonts{Regular: assets.FontRegular(), Bold: assets.FontBold()},
 	}
 	filter := store.CaseFilter{From: from, To: to}
+	what := "unit audit report"
 	switch {
 	case *operator != "":
-		if _, ok := names[*operator]; !ok {
-			return fmt.Errorf("--operator %s is not on the unit's roster", *operator)
+		if err := rosterRole(roster, "operator", *operator, logbook.RoleEndoscopist); err != nil {
+			return err
 		}
 		in.Kind, in.SubjectID = report.PersonalReport, *operator
+		what = "personal report for " + *operator
 	case *trainee != "":
-		if _, ok := names[*trainee]; !ok {
-			return fmt.Errorf("--trainee %s is not on the unit's roster", *trainee)
+		if err := rosterRole(roster, "trainee", *trainee, logbook.RoleTrainee); err != nil {
+			return err
 		}
 		in.Kind, in.SubjectID = report.TraineeReport, *trainee
 		filter.TraineeID = *trainee
+		what = "trainee logbook for " + *trainee
 	}
 	pass, err := report.NewReportPass(a.profile, report.ReportPassOptions{From: from, To: to, Extra: a.extraFigures(g)})
 	if err != nil {
@@ -85,7 +98,53 @@ func cmdReport(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	in.Data = pass.Result()
-	return writeFileAtomic(*out, func(f *os.File) error { return report.WritePDF(f, in) })
+	var pages int
+	err = dest.Write(func(w io.Writer) error {
+		pc := &workspace.PageCounter{W: w}
+		err := report.WritePDF(pc, in)
+		pages = pc.Pages
+		return err
+	})
+	if err != nil {
+		return forceHint(err)
+	}
+	fmt.Fprintf(e.stdout, "wrote %s: %s, %s to %s, %d %s\n", *out, what, *fromS, *toS, pages, plural(pages, "page", "pages"))
+	return nil
+}
+
+// rosterRole refuses a --operator or --trainee id that is not on the
+// roster in the role the report is for: a trainee's logbook of an
+// endoscopist (or the reverse) would be an empty report.
+func rosterRole(roster []logbook.RosterEntry, flagName, id string, want logbook.Role) error {
+	var same []string
+	for _, r := range roster {
+		if r.Role == want {
+			same = append(same, r.ID)
+		}
+	}
+	list := "none"
+	if len(same) > 0 {
+		list = strings.Join(same, ", ")
+	}
+	for _, r := range roster {
+		if r.ID != id {
+			continue
+		}
+		if r.Role == want {
+			return nil
+		}
+		return fmt.Errorf("--%s %s: %s is on the roster as %s %s, not %s %s; nothing was written (%ss on the roster: %s)",
+			flagName, id, id, article(string(r.Role)), r.Role, article(string(want)), want, want, list)
+	}
+	return fmt.Errorf("--%s %s is not on the unit's roster; nothing was written (%ss on the roster: %s)", flagName, id, want, list)
+}
+
+// article is "a" or "an" before a word.
+func article(word string) string {
+	if strings.ContainsRune("aeiou", rune(word[0])) {
+		return "an"
+	}
+	return "a"
 }
 
 // streamCases feeds every selected case to add in one pass. Reading the
@@ -129,25 +188,4 @@ func streamCases(ctx context.Context, st *store.Store, f store.CaseFilter, add f
 	close(full)
 	<-done
 	return err
-}
-
-// writeFileAtomic writes a file through a temporary file in the same
-// folder, so that a failed report never leaves a half-written PDF.
-func writeFileAtomic(path string, write func(*os.File) error) error {
-	tmp, err := os.CreateTemp(filepath.Dir(path), ".polypledger-report-*.pdf")
-	if err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	defer os.Remove(tmp.Name())
-	if err := write(tmp); err != nil {
-		tmp.Close()
-		return err
-	}
-	if err := tmp.Close(); err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	if err := os.Rename(tmp.Name(), path); err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	return nil
 }

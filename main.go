@@ -25,12 +25,12 @@ With no command, opens the desktop app on the default database.
 Commands:
   demo      --db PATH [--procedures N] [--seed S]        create an invented demo unit
   import    --db PATH --kind procedures|lesions|histology [--update] FILE.csv
-  export    --db PATH --kind procedures|lesions|histology --out FILE.csv
+  export    --db PATH --kind procedures|lesions|histology --out FILE.csv [--force]
   metrics   --db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]
   interval  --db PATH [--procedure ID] [--guideline G] [--format json|text]
-  report    --db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf
+  report    --db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf [--force]
   check     --db PATH                                     integrity check
-  backup    --db PATH --out FILE                          consistent copy while in use
+  backup    --db PATH --out FILE [--force]                consistent copy while in use
   version                                                 program and schema version
 Run "polypledger COMMAND -h" for a command's flags.`
 
@@ -132,6 +132,7 @@ func run(ctx context.Context, args []string, e *env) (code int) {
 	}
 	err := cmd(ctx, e, args[1:])
 	var ue usageError
+	var refused *store.ImportError
 	switch {
 	case err == nil:
 		return exitOK
@@ -143,6 +144,10 @@ func run(ctx context.Context, args []string, e *env) (code int) {
 			fmt.Fprintln(e.stderr, commandUsage(name))
 		}
 		return exitUsage
+	case errors.As(err, &refused):
+		// Every line names the file: FILE:LINE: column: reason.
+		fmt.Fprintln(e.stderr, refused.Error())
+		return exitBad
 	default:
 		fmt.Fprintf(e.stderr, "polypledger %s: %v\n", name, err)
 		return exitBad

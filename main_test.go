@@ -8,12 +8,17 @@ package main
 import (
 	"bytes"
 	"context"
+	"database/sql"
 	"errors"
+	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
+
+	"polypledger/store"
 )
 
 func TestMain(m *testing.M) {
@@ -72,15 +77,15 @@ func TestUsageErrors(t *testing.T) {
 	}{
 		{"import with no arguments", []string{"import"}, "polypledger import: --db is required", importUsage},
 		{"export with no arguments", []string{"export"}, "polypledger export: --db is required",
-			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv"},
+			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv [--force]"},
 		{"demo with no arguments", []string{"demo"}, "polypledger demo: --db is required", "usage: polypledger demo --db PATH [--procedures N] [--seed S]"},
 		{"check with no arguments", []string{"check"}, "polypledger check: --db is required", "usage: polypledger check --db PATH"},
-		{"backup with no arguments", []string{"backup"}, "polypledger backup: --db is required", "usage: polypledger backup --db PATH --out FILE"},
+		{"backup with no arguments", []string{"backup"}, "polypledger backup: --db is required", "usage: polypledger backup --db PATH --out FILE [--force]"},
 		{"metrics with no arguments", []string{"metrics"}, "polypledger metrics: --db is required", metricsUsage},
 		{"interval with no arguments", []string{"interval"}, "polypledger interval: --db is required",
 			"usage: polypledger interval --db PATH [--procedure ID] [--guideline G] [--format json|text]"},
 		{"missing --db", []string{"export", "--kind", "procedures", "--out", filepath.Join(dir, "x.csv")}, "polypledger export: --db is required",
-			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv"},
+			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv [--force]"},
 		{"bad --kind", []string{"import", "--db", db, "--kind", "patients", csvFile},
 			`polypledger import: --kind: kind "patients" is not procedures, lesions or histology`, importUsage},
 		{"no --kind", []string{"import", "--db", db, csvFile},
@@ -186,7 +191,7 @@ func TestBadInputExits1(t *testing.T) {
 		if code != exitBad {
 			t.Errorf("exit %d, want %d", code, exitBad)
 		}
-		want := "polypledger import: " + bad + ":3: age: 17 is outside 18–110\n" +
+		want := bad + ":3: age: 17 is outside 18–110\n" +
 			bad + `:5: performed_on: "2025-02-29" is not a real calendar date (YYYY-MM-DD)` + "\n" +
 			bad + ": nothing was imported (2 problems in 4 rows)\n"
 		if stderr != want {
@@ -313,5 +318,222 @@ func TestExitCodesOfTheProcess(t *testing.T) {
 		if code != tt.code {
 			t.Errorf("polypledger %s: exit %d, want %d; stderr:\n%s", strings.Join(tt.args, " "), code, tt.code, stderr.String())
 		}
+	}
+}
+
+// runProcess runs the real program (this test binary acting as
+// polypledger) with the config folder home and returns its exit code and
+// outputs.
+func runProcess(t *testing.T, home string, args ...string) (code int, stdout, stderr string) {
+	t.Helper()
+	cmd := exec.Command(os.Args[0], args...)
+	cmd.Env = append(os.Environ(), "POLYPLEDGER_TEST_AS_CLI=1", "POLYPLEDGER_HOME="+home)
+	var out, errb bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &out, &errb
+	err := cmd.Run()
+	var ee *exec.ExitError
+	if errors.As(err, &ee) {
+		code = ee.ExitCode()
+	} else if err != nil {
+		t.Fatalf("%v: %v", args, err)
+	}
+	return code, out.String(), errb.String()
+}
+
+// TestImportProblemsStartWithTheFileName runs the real program on files
+// with problems of every sort and checks that every line it prints on
+// standard error has the form FILE:… — no line carries the program's own
+// prefix — so that an editor or a script can take each one to its line.
+func TestImportProblemsStartWithTheFileName(t *testing.T) {
+	dir := unitHome(t)
+	home := filepath.Join(dir, "home")
+	os.Mkdir(home, 0o700)
+	db := filepath.Join(dir, "unit.db")
+	header := strings.Join(store.Columns(store.Procedures), ",")
+	row := func(id, age string) string {
+		return id + ",2025-03-01,E01,,,,," + age + ",F,screening,outpatient,none,caecum,,yes,480,3,3,3,yes,2,50,,no,1,no,none,"
+	}
+	var many strings.Builder
+	many.WriteString(header + "\n")
+	for i := range 150 {
+		many.WriteString(row(fmt.Sprintf("P%d", i), "200") + "\n")
+	}
+	files := map[string]string{
+		"many.csv":       many.String(),
+		"header.csv":     header + ",colour\n" + row("P1", "17") + ",blue\n",
+		"headerless.csv": row("P1", "60") + "\n",
+		"empty.csv":      "",
+		"latin1.csv":     header + "\n" + strings.Replace(row("P1", "60"), "E01", "M\xfcller", 1) + "\n",
+	}
+	for name, text := range files {
+		path := writeFile(t, filepath.Join(dir, name), text)
+		code, stdout, stderr := runProcess(t, home, "import", "--db", db, "--kind", "procedures", path)
+		if code != exitBad || stdout != "" {
+			t.Errorf("%s: exit %d, stdout %q", name, code, stdout)
+		}
+		lines := strings.Split(strings.TrimSuffix(stderr, "\n"), "\n")
+		if len(lines) < 2 {
+			t.Errorf("%s: stderr %q has no problem and summary", name, stderr)
+		}
+		for _, l := range lines {
+			if !strings.HasPrefix(l, path+":") {
+				t.Errorf("%s: the line %q does not start with the file name", name, l)
+			}
+		}
+	}
+	if _, err := os.Stat(db); !errors.Is(err, os.ErrNotExist) {
+		t.Error("a refused import into a new database left a database behind")
+	}
+}
+
+// demoUnit makes a small demo database for the command tests.
+func demoUnit(t *testing.T, path string) {
+	t.Helper()
+	if code, _, stderr := cli(t, "demo", "--db", path, "--procedures", "300", "--seed", "5"); code != exitOK {
+		t.Fatalf("demo: exit %d: %s", code, stderr)
+	}
+}
+
+// TestOutputsNeverReplaceUnasked: export, report and backup leave an
+// existing file alone unless --force is given, and never replace the
+// database they read (by any name), its journals, or another database,
+// even with --force.
+func TestOutputsNeverReplaceUnasked(t *testing.T) {
+	dir := unitHome(t)
+	db := filepath.Join(dir, "unit.db")
+	other := filepath.Join(dir, "other.db")
+	demoUnit(t, db)
+	demoUnit(t, other)
+	dbBytes, otherBytes := readFile(t, db), readFile(t, other)
+	notes := writeFile(t, filepath.Join(dir, "notes.txt"), "somebody's notes\n")
+	period := []string{"--from", "2020-01-01", "--to", "2030-12-31"}
+	commands := map[string][]string{
+		"export": {"export", "--db", db, "--kind", "procedures"},
+		"report": append([]string{"report", "--db", db}, period...),
+		"backup": {"backup", "--db", db},
+	}
+	for name, base := range commands {
+		for _, tc := range []struct {
+			out   string
+			force bool
+			want  string
+		}{
+			{notes, false, "notes.txt already exists; choose another name, or give --force to replace it"},
+			{db, false, "is the database itself"},
+			{db, true, "is the database itself"},
+			{filepath.Join(dir, ".", "sub", "..", "unit.db"), true, "is the database itself"},
+			{db + "-wal", true, "belongs to the database"},
+			{other, true, "is a database; it is never replaced"},
+		} {
+			args := append(append([]string(nil), base...), "--out", tc.out)
+			if tc.force {
+				args = append(args, "--force")
+			}
+			code, _, stderr := cli(t, args...)
+			if code != exitBad || !strings.Contains(stderr, tc.want) {
+				t.Errorf("%s --out %s (force %v): exit %d, %q; want exit 1 saying %q", name, tc.out, tc.force, code, stderr, tc.want)
+			}
+		}
+		if readFile(t, notes) != "somebody's notes\n" {
+			t.Fatalf("%s replaced a file without --force", name)
+		}
+	}
+	if readFile(t, db) != dbBytes || readFile(t, other) != otherBytes {
+		t.Fatal("a database was changed by a refused output")
+	}
+	if _, err := os.Stat(db + "-wal"); err == nil && readFile(t, db+"-wal") != "" {
+		t.Error("the database's write-ahead log was written to")
+	}
+	// With --force an ordinary file is replaced, whole.
+	if code, _, stderr := cli(t, "export", "--db", db, "--kind", "lesions", "--out", notes, "--force"); code != exitOK {
+		t.Fatalf("export --force over a text file: exit %d: %s", code, stderr)
+	}
+	if !strings.HasPrefix(readFile(t, notes), "procedure_id,lesion_no,") {
+		t.Error("export --force did not replace the file with the export")
+	}
+	if code, stdout, _ := cli(t, "check", "--db", db); code != exitOK || !strings.Contains(stdout, "ok") {
+		t.Errorf("check after the refused outputs: exit %d, %s", code, stdout)
+	}
+}
+
+// TestCommandsSayWhatTheyDid: export and report say what they wrote, where
+// and how much; check counts its problems in words and names the record;
+// a trainee logbook of an endoscopist is refused; interval text reads in
+// words (its JSON keeps the codes); the metrics table gives units.
+func TestCommandsSayWhatTheyDid(t *testing.T) {
+	dir := unitHome(t)
+	db := filepath.Join(dir, "unit.db")
+	demoUnit(t, db)
+
+	out := filepath.Join(dir, "procedures.csv")
+	code, stdout, stderr := cli(t, "export", "--db", db, "--kind", "procedures", "--out", out)
+	rows := strings.Count(readFile(t, out), "\n") - 1
+	if want := fmt.Sprintf("wrote %s: %d procedures\n", out, rows); code != exitOK || stdout != want || rows != 300 || stderr != "" {
+		t.Errorf("export: exit %d, %q, want %q (%d rows); stderr %q", code, stdout, want, rows, stderr)
+	}
+	code, _, stderr = cli(t, "export", "--db", db, "--kind", "histology", "--out", "-")
+	if code != exitOK || !regexp.MustCompile(`^wrote \d+ histology results to standard output\n$`).MatchString(stderr) {
+		t.Errorf("export to standard output: exit %d, stderr %q", code, stderr)
+	}
+
+	pdf := filepath.Join(dir, "unit.pdf")
+	code, stdout, stderr = cli(t, "report", "--db", db, "--from", "2024-01-01", "--to", "2025-12-31", "--out", pdf)
+	pages := strings.Count(readFile(t, pdf), "/Type /Page\n")
+	if pdfinfo, err := exec.LookPath("pdfinfo"); err == nil {
+		// Counted by another reader of PDF files where there is one.
+		info, err := exec.Command(pdfinfo, pdf).Output()
+		if m := regexp.MustCompile(`(?m)^Pages:\s+(\d+)$`).FindSubmatch(info); err != nil || m == nil {
+			t.Errorf("pdfinfo cannot read the report: %v", err)
+		} else {
+			fmt.Sscan(string(m[1]), &pages)
+		}
+	}
+	if want := fmt.Sprintf("wrote %s: unit audit report, 2024-01-01 to 2025-12-31, %d pages\n", pdf, pages); code != exitOK || stdout != want || pages < 3 {
+		t.Errorf("report: exit %d, %q, want %q; %s", code, stdout, want, stderr)
+	}
+	for _, tc := range []struct{ flag, id, want string }{
+		{"--trainee", "E06", "--trainee E06: E06 is on the roster as an endoscopist, not a trainee; nothing was written (trainees on the roster: T01, T02)"},
+		{"--operator", "T01", "--operator T01: T01 is on the roster as a trainee, not an endoscopist; nothing was written"},
+		{"--trainee", "T99", "--trainee T99 is not on the unit's roster; nothing was written (trainees on the roster: T01, T02)"},
+	} {
+		target := filepath.Join(dir, tc.id+".pdf")
+		code, _, stderr = cli(t, "report", "--db", db, "--from", "2024-01-01", "--to", "2025-12-31", tc.flag, tc.id, "--out", target)
+		if code != exitBad || !strings.Contains(stderr, tc.want) {
+			t.Errorf("report %s %s: exit %d, %q; want %q", tc.flag, tc.id, code, stderr, tc.want)
+		}
+		if _, err := os.Stat(target); err == nil {
+			t.Errorf("report %s %s wrote a file", tc.flag, tc.id)
+		}
+	}
+
+	code, stdout, _ = cli(t, "interval", "--db", db, "--format", "text")
+	if code != exitOK || !strings.Contains(stdout, ": 3 years\n") && !strings.Contains(stdout, ": 10 years\n") {
+		t.Errorf("interval text: exit %d, no interval in words in:\n%.400s", code, stdout)
+	}
+	if m := regexp.MustCompile(`(?m)^\S+: (2-6m|3-6m|6m|1y|3y|3-5y|5-10y|7-10y|10y|screening|repeat|outside|pending)$`).FindString(stdout); m != "" {
+		t.Errorf("interval text prints a code: %q", m)
+	}
+	if _, stdout, _ = cli(t, "interval", "--db", db, "--format", "json"); !strings.Contains(stdout, `"interval": "`) || strings.Contains(stdout, "years") {
+		t.Errorf("interval json does not keep the codes:\n%.300s", stdout)
+	}
+	_, stdout, _ = cli(t, "metrics", "--db", db, "--from", "2020-01-01", "--to", "2030-12-31", "--format", "table")
+	for _, line := range strings.Split(stdout, "\n") {
+		if strings.HasPrefix(line, "sedation_") && strings.Contains(line, "median") && !regexp.MustCompile(`\d (mg|µg)\s`).MatchString(line) && !strings.Contains(line, "–") {
+			t.Errorf("a median without its unit: %q", line)
+		}
+	}
+
+	// One planted problem: "1 problem", naming the procedure it is in.
+	raw, err := sql.Open("sqlite", "file:"+db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := raw.Exec("UPDATE procedures SET age = 200 WHERE id = 'LK0000007'"); err != nil {
+		t.Fatal(err)
+	}
+	raw.Close()
+	code, _, stderr = cli(t, "check", "--db", db)
+	if want := "polypledger check: " + db + " has 1 problem:\nprocedure LK0000007: age: 200 is outside 18–110\n"; code != exitBad || stderr != want {
+		t.Errorf("check: exit %d, %q, want %q", code, stderr, want)
 	}
 }

@@ -208,7 +208,7 @@ func (s *unitScreen) backup() {
 
 func (s *unitScreen) backupTo(path string) {
 	removeDatabase(path) // the save dialog created an empty file; Backup wants a new name
-	if err := s.u.st.Backup(s.u.ctx, path); err != nil {
+	if err := s.u.st.Backup(s.u.ctx, path, false); err != nil {
 		s.message.SetText("Backup failed: " + err.Error())
 		return
 	}

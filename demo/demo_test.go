@@ -66,7 +66,7 @@ func exports(t *testing.T, s *store.Store) map[store.Kind]string {
 	out := map[store.Kind]string{}
 	for _, k := range []store.Kind{store.Procedures, store.Lesions, store.Histology} {
 		var b bytes.Buffer
-		if err := s.Export(context.Background(), k, &b); err != nil {
+		if _, err := s.Export(context.Background(), k, &b); err != nil {
 			t.Fatal(err)
 		}
 		out[k] = b.String()

@@ -22,14 +22,14 @@ func ParseDate(s string) (time.Time, error) {
 		return time.Time{}, nil
 	}
 	if len(s) != len(DateLayout) {
-		return time.Time{}, fmt.Errorf("%q is not a date in the form YYYY-MM-DD", s)
+		return time.Time{}, fmt.Errorf("%s is not a date in the form YYYY-MM-DD", QuoteValue(s))
 	}
 	d, err := time.Parse(DateLayout, s)
 	if err != nil {
-		return time.Time{}, fmt.Errorf("%q is not a real calendar date (YYYY-MM-DD)", s)
+		return time.Time{}, fmt.Errorf("%s is not a real calendar date (YYYY-MM-DD)", QuoteValue(s))
 	}
 	if d.Year() < 1900 {
-		return time.Time{}, fmt.Errorf("%q is before 1900", s)
+		return time.Time{}, fmt.Errorf("%s is before 1900", QuoteValue(s))
 	}
 	return d, nil
 }
@@ -65,9 +65,9 @@ func ParseYesNo(s string, allowNA bool) (YesNo, error) {
 		}
 	}
 	if allowNA {
-		return Unrecorded, fmt.Errorf("%q is not yes, no or not_applicable", s)
+		return Unrecorded, fmt.Errorf("%s is not yes, no or not_applicable", QuoteValue(s))
 	}
-	return Unrecorded, fmt.Errorf("%q is not yes or no", s)
+	return Unrecorded, fmt.Errorf("%s is not yes or no", QuoteValue(s))
 }
 
 // ParseCount reads a whole number; "" gives NotRecorded.
@@ -77,22 +77,40 @@ func ParseCount(s string) (int, error) {
 	}
 	n, err := strconv.Atoi(s)
 	if err != nil || n < 0 {
-		return NotRecorded, fmt.Errorf("%q is not a whole number of zero or more", s)
+		return NotRecorded, fmt.Errorf("%s is not a whole number of zero or more", QuoteValue(s))
 	}
 	return n, nil
 }
 
 // ParseDose reads a non-negative decimal amount such as "2.5"; "" gives
-// NotRecorded.
+// NotRecorded. An amount too small to be held ("1e-400", which would
+// become 0) is refused rather than recorded as zero.
 func ParseDose(s string) (float64, error) {
 	if s == "" {
 		return NotRecorded, nil
 	}
 	v, err := strconv.ParseFloat(s, 64)
 	if err != nil || !decimal(s) || v < 0 || math.IsInf(v, 0) || math.IsNaN(v) {
-		return NotRecorded, fmt.Errorf("%q is not an amount of zero or more", s)
+		return NotRecorded, fmt.Errorf("%s is not an amount of zero or more", QuoteValue(s))
+	}
+	if v == 0 && nonZeroMantissa(s) {
+		return NotRecorded, fmt.Errorf("%s is too small to record (it would be stored as 0)", QuoteValue(s))
 	}
 	return v, nil
+}
+
+// nonZeroMantissa reports whether the digits before any exponent of a
+// decimal number include one that is not zero.
+func nonZeroMantissa(s string) bool {
+	for i := 0; i < len(s); i++ {
+		switch c := s[i]; {
+		case c == 'e' || c == 'E':
+			return false
+		case c >= '1' && c <= '9':
+			return true
+		}
+	}
+	return false
 }
 
 // decimal reports whether s is written with decimal digits, a point and an
@@ -149,7 +167,7 @@ func ParseCode[T ~string](s string, set []T) (T, error) {
 	for i, c := range set {
 		names[i] = string(c)
 	}
-	return "", fmt.Errorf("%q is not one of %s", s, strings.Join(names, ", "))
+	return "", fmt.Errorf("%s is not one of %s", QuoteValue(s), strings.Join(names, ", "))
 }
 
 // ParseMinSec reads a withdrawal time typed as minutes:seconds ("7:30") or as
@@ -162,17 +180,17 @@ func ParseMinSec(s string) (int, error) {
 	m, sec, found := strings.Cut(s, ":")
 	mins, err := strconv.Atoi(m)
 	if err != nil || !digits(m) || mins > MaxWithdrawalSeconds/60 {
-		return NotRecorded, fmt.Errorf("%q is not minutes:seconds", s)
+		return NotRecorded, fmt.Errorf("%s is not minutes:seconds", QuoteValue(s))
 	}
 	secs := 0
 	if found {
 		secs, err = strconv.Atoi(sec)
 		if err != nil || !digits(sec) || secs > 59 || len(sec) != 2 {
-			return NotRecorded, fmt.Errorf("%q is not minutes:seconds (seconds 00–59)", s)
+			return NotRecorded, fmt.Errorf("%s is not minutes:seconds (seconds 00–59)", QuoteValue(s))
 		}
 	}
 	if mins*60+secs > MaxWithdrawalSeconds {
-		return NotRecorded, fmt.Errorf("%q is longer than %d minutes", s, MaxWithdrawalSeconds/60)
+		return NotRecorded, fmt.Errorf("%s is longer than %d minutes", QuoteValue(s), MaxWithdrawalSeconds/60)
 	}
 	return mins*60 + secs, nil
 }
@@ -196,15 +214,16 @@ var ErrNoKey = errors.New("no unit key to pseudonymise patient references")
 // Pseudonymise turns a patient reference as typed or imported (for example a
 // hospital number) into the stored pseudonym: HMAC-SHA-256 under the unit
 // key, hex encoded (clinical-reference §7). A reference that is already a
-// pseudonym in export form ("psn:" and 64 hex digits) is kept as it is.
-// Surrounding spaces and letter case of the reference are ignored so that
-// "ab123" and "AB123 " give the same pseudonym.
+// pseudonym in export form ("psn:" and 64 hex digits, in either letter
+// case, as a spreadsheet may have upper-cased it) is kept as it is, never
+// hashed again. Surrounding spaces and letter case of the reference are
+// ignored so that "ab123" and "AB123 " give the same pseudonym.
 func Pseudonymise(key []byte, ref string) (string, error) {
 	ref = strings.TrimSpace(ref)
 	if ref == "" {
 		return "", nil
 	}
-	if h, ok := strings.CutPrefix(ref, pseudonymPrefix); ok && IsPatientKey(h) {
+	if h, ok := exportedKey(ref); ok {
 		return h, nil
 	}
 	if len(key) == 0 {
@@ -218,8 +237,18 @@ func Pseudonymise(key []byte, ref string) (string, error) {
 // IsExportPseudonym reports whether a patient reference as typed or
 // imported is already a pseudonym in export form, which Pseudonymise keeps.
 func IsExportPseudonym(ref string) bool {
-	h, ok := strings.CutPrefix(strings.TrimSpace(ref), pseudonymPrefix)
-	return ok && IsPatientKey(h)
+	_, ok := exportedKey(strings.TrimSpace(ref))
+	return ok
+}
+
+// exportedKey returns the stored pseudonym that ref carries in export form
+// ("psn:" and 64 hex digits, either letter case), in the stored lower case.
+func exportedKey(ref string) (string, bool) {
+	if len(ref) != len(pseudonymPrefix)+64 || !strings.EqualFold(ref[:len(pseudonymPrefix)], pseudonymPrefix) {
+		return "", false
+	}
+	h := strings.ToLower(ref[len(pseudonymPrefix):])
+	return h, IsPatientKey(h)
 }
 
 // IsPatientKey reports whether s has the stored pseudonym's form: 64

@@ -149,6 +149,10 @@ func TestParseDose(t *testing.T) {
 		{"NaN", NotRecorded, false},
 		{"Inf", NotRecorded, false},
 		{"1e400", NotRecorded, false},
+		{"1e-400", NotRecorded, false}, // underflows to 0: refused, not stored as 0
+		{"0.5e-330", NotRecorded, false},
+		{"0e5", 0, true},
+		{"0.000", 0, true},
 		{"2,5", NotRecorded, false},
 	}
 	for _, tt := range tests {
@@ -258,6 +262,17 @@ func TestPseudonymise(t *testing.T) {
 	if _, err := Pseudonymise(nil, "RXH1234567"); !errors.Is(err, ErrNoKey) {
 		t.Errorf("Pseudonymise without a key: error %v, want ErrNoKey", err)
 	}
+	// An exported pseudonym that a spreadsheet upper-cased is still the
+	// same pseudonym, never hashed again as if it were a hospital number.
+	for _, ref := range []string{"PSN:" + strings.ToUpper(want), "Psn:" + want, " psn:" + strings.ToUpper(want) + " "} {
+		got, err := Pseudonymise(key, ref)
+		if err != nil || got != want {
+			t.Errorf("Pseudonymise(%q) = %q, %v; want the pseudonym it carries, %q", ref, got, err, want)
+		}
+		if !IsExportPseudonym(ref) {
+			t.Errorf("IsExportPseudonym(%q) = false", ref)
+		}
+	}
 	// "psn:" followed by something that is not a pseudonym is hashed like
 	// any other reference.
 	got, err := Pseudonymise(key, "psn:RXH1")
@@ -298,5 +313,62 @@ func TestPatientKeyForms(t *testing.T) {
 	}
 	if got := ExportPseudonym(""); got != "" {
 		t.Errorf(`ExportPseudonym("") = %q`, got)
+	}
+}
+
+func TestQuoteValue(t *testing.T) {
+	long := strings.Repeat("x", 100_000)
+	tests := []struct {
+		in, want string
+	}{
+		{"", `""`},
+		{"2025-02-29", `"2025-02-29"`},
+		{"screenning", `"screenning"`},
+		{"E01", `"E01"`},
+		{"1e-400", `"1e-400"`},
+		{"3y", `"3y"`},
+		{"\xff\xfe", `"\xff\xfe"`},
+		// Possible patient references are never shown.
+		{"RXH1234567", "a value of 10 characters (not shown, as it may identify a patient)"},
+		{"9434765919", "a value of 10 characters (not shown, as it may identify a patient)"},
+		{"943 476 5919", "a value of 12 characters (not shown, as it may identify a patient)"},
+		{"AB123", "a value of 5 characters (not shown, as it may identify a patient)"},
+		// A huge value is cut.
+		{long, `"` + strings.Repeat("x", MaxShownValue-1) + `…" (100000 characters)`},
+	}
+	for _, tt := range tests {
+		if got := QuoteValue(tt.in); got != tt.want {
+			t.Errorf("QuoteValue(%.50q) = %q, want %q", tt.in, got, tt.want)
+		}
+	}
+	// Every parser quotes through QuoteValue: a hospital number in a column
+	// of another kind is not echoed.
+	for name, parse := range map[string]func(string) error{
+		"date":   func(s string) error { _, err := ParseDate(s); return err },
+		"count":  func(s string) error { _, err := ParseCount(s); return err },
+		"dose":   func(s string) error { _, err := ParseDose(s); return err },
+		"yes/no": func(s string) error { _, err := ParseYesNo(s, true); return err },
+		"code":   func(s string) error { _, err := ParseCode(s, Sexes); return err },
+		"min:s":  func(s string) error { _, err := ParseMinSec(s); return err },
+	} {
+		err := parse("RXH1234567")
+		if err == nil || strings.Contains(err.Error(), "1234567") {
+			t.Errorf("%s parser: %v; want a refusal that does not show the value", name, err)
+		}
+		err = parse(long)
+		if err == nil || len(err.Error()) > 300 {
+			t.Errorf("%s parser: a %d-byte value gives a message of %d bytes", name, len(long), len(err.Error()))
+		}
+	}
+}
+
+func TestIntervalWords(t *testing.T) {
+	for _, iv := range Intervals {
+		if w := iv.Words(); w == "" || w == string(iv) {
+			t.Errorf("interval %s has no words of its own (%q)", iv, w)
+		}
+	}
+	if got := Interval3y.Words(); got != "3 years" {
+		t.Errorf("3y reads %q, want \"3 years\"", got)
 	}
 }

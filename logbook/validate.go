@@ -5,6 +5,7 @@ import (
 	"strings"
 	"time"
 	"unicode"
+	"unicode/utf8"
 )
 
 // FieldError is one broken rule of a record: the field (named as its CSV
@@ -61,6 +62,10 @@ func checkID(ps *Problems, field, id string, required bool) {
 		ps.add(field, "is longer than %d characters", MaxIDLength)
 		return
 	}
+	if !utf8.ValidString(id) {
+		ps.add(field, "is not valid UTF-8 text")
+		return
+	}
 	if strings.TrimSpace(id) != id {
 		ps.add(field, "has leading or trailing spaces")
 		return
@@ -85,7 +90,7 @@ func checkCode[T ~string](ps *Problems, field string, v T, set []T, required boo
 		for i, c := range set {
 			names[i] = string(c)
 		}
-		ps.add(field, "%q is not one of %s", string(v), strings.Join(names, ", "))
+		ps.add(field, "%s is not one of %s", QuoteValue(string(v)), strings.Join(names, ", "))
 	}
 }
 
@@ -305,6 +310,8 @@ func ValidateRosterEntry(r RosterEntry) Problems {
 	checkID(&ps, "id", r.ID, true)
 	if len(r.Name) > 200 {
 		ps.add("name", "is longer than 200 characters")
+	} else if !utf8.ValidString(r.Name) {
+		ps.add("name", "is not valid UTF-8 text")
 	}
 	checkCode(&ps, "role", r.Role, Roles, true)
 	return ps

@@ -113,6 +113,7 @@ func TestValidateProcedure(t *testing.T) {
 		{"id of 64 characters", func(p *Procedure) { p.ID = strings.Repeat("x", MaxIDLength) }, nil},
 		{"id with spaces around", func(p *Procedure) { p.OperatorID = " E01" }, []FieldError{fe("operator_id", "has leading or trailing spaces")}},
 		{"id with a control character", func(p *Procedure) { p.TraineeID = "T\x0701" }, []FieldError{fe("trainee_id", "contains a control character")}},
+		{"id that is not UTF-8", func(p *Procedure) { p.OperatorID = "E\xe901" }, []FieldError{fe("operator_id", "is not valid UTF-8 text")}},
 		{"patient reference in clear", func(p *Procedure) { p.PatientKey = "RXH1234567" }, []FieldError{fe("patient_ref", "is not a pseudonym")}},
 		{"no patient reference", func(p *Procedure) { p.PatientKey = "" }, nil},
 

@@ -26,8 +26,8 @@ func WriteTable(w io.Writer, r MetricsResult) error {
 			if ind.Note != "" {
 				verdict += "; " + ind.Note
 			}
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", ind.ID, casesText(ind), valueText(ind, ind.Value),
-				intervalText(ind), targetText(ind), verdict)
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", ind.ID, casesText(ind), FormatValue(ind),
+				intervalText(ind), FormatTarget(ind), verdict)
 		}
 	}
 	block("Unit", r.Unit.Indicators)

@@ -2,10 +2,13 @@ package store
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
+	"sync"
 
+	"polypledger/internal/safefile"
 	"polypledger/logbook"
 )
 
@@ -46,25 +49,45 @@ func (s *Store) Check(ctx context.Context) ([]string, error) {
 	// elsewhere does not raise findings about dates.
 	today := s.today().AddDate(0, 0, 1)
 	const maxFindings = 1000
-	err = s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error {
+	// A stored value that cannot be read is a finding about its record;
+	// the check goes on, and does not report the same field again as
+	// missing.
+	var mu sync.Mutex
+	unread := map[string]map[string]bool{} // record → columns
+	onBad := func(record, column string, err error) {
+		mu.Lock()
+		defer mu.Unlock()
+		if unread[record] == nil {
+			unread[record] = map[string]bool{}
+		}
+		unread[record][column] = true
+		out = append(out, fmt.Sprintf("%s: stored %s: %v", record, column, err))
+	}
+	add := func(record string, ps logbook.Problems) {
+		for _, p := range ps {
+			if !unread[record][p.Field] {
+				out = append(out, record+": "+p.Error())
+			}
+		}
+	}
+	err = s.forEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error {
+		mu.Lock()
+		defer mu.Unlock()
 		if len(out) >= maxFindings {
 			return nil
 		}
-		for _, p := range logbook.ValidateProcedure(c.Procedure, today) {
-			out = append(out, fmt.Sprintf("procedure %s: %s", c.ID, p))
-		}
+		name := procedureName(&c.Procedure)
+		add(name, logbook.ValidateProcedure(c.Procedure, today))
 		for _, id := range []string{c.OperatorID, c.TraineeID} {
 			if id != "" && !onRoster[id] {
-				out = append(out, fmt.Sprintf("procedure %s: %s is not on the roster", c.ID, id))
+				out = append(out, fmt.Sprintf("%s: %s is not on the roster", name, id))
 			}
 		}
-		for _, l := range c.Lesions {
-			for _, p := range logbook.ValidateLesion(l, today) {
-				out = append(out, fmt.Sprintf("lesion %s#%d: %s", c.ID, l.LesionNo, p))
-			}
+		for i := range c.Lesions {
+			add(lesionName(&c.Lesions[i]), logbook.ValidateLesion(c.Lesions[i], today))
 		}
 		return nil
-	})
+	}, onBad)
 	if err != nil {
 		return nil, err
 	}
@@ -75,30 +98,48 @@ func (s *Store) Check(ctx context.Context) ([]string, error) {
 }
 
 // Backup writes a consistent copy of the database to out while other
-// programs may be writing to it. out must not exist; the copy is written
-// beside it under a temporary name, checked, and renamed into place, so a
-// failed backup leaves no partial file. The copy is readable by its owner
-// only.
-func (s *Store) Backup(ctx context.Context, out string) error {
+// programs may be writing to it, and changes nothing in the database (open
+// it ReadOnly, with KeepSchema for an older schema, to be sure of that). A
+// database that fails SQLite's quick integrity check is refused
+// (ErrDamaged). The copy is written beside out under a temporary name,
+// readable by its owner only from the moment it exists, checked — SQLite's
+// full integrity check, and the same schema as the database — synced to
+// disk, and only then put at out, so a failed backup leaves no file. out
+// must not exist unless replace is set, and is never the database itself,
+// one of its journals, or any SQLite database (see CheckOutput): an older
+// backup is not replaced.
+func (s *Store) Backup(ctx context.Context, out string, replace bool) error {
 	abs, err := filepath.Abs(out)
 	if err != nil {
 		return err
 	}
-	if _, err := os.Stat(abs); err == nil {
-		return fmt.Errorf("backup %s: the file already exists; choose a new name", out)
+	if err := CheckOutput(abs, s.path, replace); err != nil {
+		return fmt.Errorf("backup %s: %w", out, err)
 	}
-	tmp := abs + ".partial"
-	os.Remove(tmp)
+	if err := quickCheck(ctx, s.db); err != nil {
+		return fmt.Errorf("backup refused: %w", s.explain(err))
+	}
+	version, err := s.Version(ctx)
+	if err != nil {
+		return fmt.Errorf("backup %s: %w", out, s.explain(err))
+	}
+	tmp, err := tempDatabase(abs)
+	if err != nil {
+		return fmt.Errorf("backup %s: %w", out, err)
+	}
+	defer removeJournals(tmp)
 	if err := vacuumInto(ctx, s.db, tmp); err != nil {
 		os.Remove(tmp)
 		return fmt.Errorf("backup %s: %w", out, s.explain(err))
 	}
-	if err := os.Chmod(tmp, 0o600); err != nil {
+	if err := verifyCopy(ctx, tmp, version); err != nil {
 		os.Remove(tmp)
-		return fmt.Errorf("backup %s: %w", out, err)
+		return fmt.Errorf("backup %s: the copy failed its check, so no backup was made: %w", out, err)
 	}
-	if err := os.Rename(tmp, abs); err != nil {
-		os.Remove(tmp)
+	if err := safefile.Place(tmp, abs, replace); err != nil {
+		if errors.Is(err, ErrExists) {
+			return fmt.Errorf("backup %s: the file already exists; choose a new name", out)
+		}
 		return fmt.Errorf("backup %s: %w", out, err)
 	}
 	return nil

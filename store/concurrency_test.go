@@ -51,20 +51,7 @@ func TestTwoImportingProcesses(t *testing.T) {
 	// A generous lock wait, so that a slow shared machine does not turn
 	// queueing into a refusal; the refusal is tested below.
 	env := []string{"POLYPLEDGER_BUSY_TIMEOUT=2m"}
-	var wg sync.WaitGroup
-	results := map[string]cliRun{}
-	var mu sync.Mutex
-	for prefix, file := range files {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			r := runCLI(t, home, env, "import", "--db", db, "--kind", "procedures", file)
-			mu.Lock()
-			results[prefix] = r
-			mu.Unlock()
-		}()
-	}
-	wg.Wait()
+	results := importAtOnce(t, home, env, db, files)
 	for prefix, r := range results {
 		if r.code != 0 {
 			t.Errorf("import of %s failed (exit %d): %s", prefix, r.code, r.stderr)
@@ -77,6 +64,43 @@ func TestTwoImportingProcesses(t *testing.T) {
 		t.Errorf("%d procedures in all, want %d", got, 2*n)
 	}
 	mustCheck(t, db)
+}
+
+// importAtOnce starts one import process per file (named by its key) into
+// db at the same moment and returns how each ended.
+func importAtOnce(t *testing.T, home string, env []string, db string, files map[string]string) map[string]cliRun {
+	t.Helper()
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	results := map[string]cliRun{}
+	for name, file := range files {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			r := runCLI(t, home, env, "import", "--db", db, "--kind", "procedures", file)
+			mu.Lock()
+			results[name] = r
+			mu.Unlock()
+		}()
+	}
+	wg.Wait()
+	return results
+}
+
+// processTest skips a test that runs the binary under -short, and returns
+// a fresh folder and, inside it, a configuration folder (owner-only) for
+// the program.
+func processTest(t *testing.T) (dir, home string) {
+	t.Helper()
+	if testing.Short() {
+		t.Skip("builds and runs the binary; skipped with -short")
+	}
+	dir = t.TempDir()
+	home = filepath.Join(dir, "home")
+	if err := os.Mkdir(home, 0o700); err != nil {
+		t.Fatal(err)
+	}
+	return dir, home
 }
 
 // holdWriteLock opens a second connection to path and holds a write

@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"io"
 	"strconv"
+	"strings"
+	"unicode/utf8"
 
 	"polypledger/logbook"
 )
@@ -15,17 +17,19 @@ import (
 // (always with the optional tattoo column), or histology.csv (the final
 // results with their report dates). Patient references are written as their
 // pseudonyms, never as hospital numbers. Cells a spreadsheet would run as a
-// formula are neutralised (see SafeCell).
-func (s *Store) Export(ctx context.Context, kind Kind, w io.Writer) error {
+// formula are neutralised (see SafeCell). It returns how many records
+// (rows after the header) it wrote.
+func (s *Store) Export(ctx context.Context, kind Kind, w io.Writer) (int, error) {
 	cw := csv.NewWriter(w)
+	var n int
 	var err error
 	switch kind {
 	case Procedures:
-		err = writeAll(cw, procedureColumns, func(emit func(*logbook.Procedure) error) error {
+		n, err = writeAll(cw, procedureColumns, func(emit func(*logbook.Procedure) error) error {
 			return s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error { return emit(&c.Procedure) })
 		})
 	case Lesions:
-		err = writeAll(cw, lesionColumns, func(emit func(*logbook.Lesion) error) error {
+		n, err = writeAll(cw, lesionColumns, func(emit func(*logbook.Lesion) error) error {
 			return s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error {
 				for i := range c.Lesions {
 					if err := emit(&c.Lesions[i]); err != nil {
@@ -36,7 +40,7 @@ func (s *Store) Export(ctx context.Context, kind Kind, w io.Writer) error {
 			})
 		})
 	case Histology:
-		err = writeAll(cw, histologyColumns, func(emit func(*logbook.HistologyResult) error) error {
+		n, err = writeAll(cw, histologyColumns, func(emit func(*logbook.HistologyResult) error) error {
 			return s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error {
 				for _, l := range c.Lesions {
 					if !l.Histology.IsFinal() {
@@ -51,46 +55,70 @@ func (s *Store) Export(ctx context.Context, kind Kind, w io.Writer) error {
 			})
 		})
 	default:
-		return fmt.Errorf("kind %q is not procedures, lesions or histology", kind)
+		return 0, fmt.Errorf("kind %q is not procedures, lesions or histology", kind)
 	}
 	if err != nil {
-		return err
+		return n, err
 	}
 	cw.Flush()
-	return cw.Error()
+	return n, cw.Error()
 }
 
-func writeAll[T any](cw *csv.Writer, cols []column[T], each func(emit func(*T) error) error) error {
+func writeAll[T any](cw *csv.Writer, cols []column[T], each func(emit func(*T) error) error) (int, error) {
 	if err := cw.Write(names(cols)); err != nil {
-		return err
+		return 0, err
 	}
-	return each(func(r *T) error {
+	n := 0
+	err := each(func(r *T) error {
 		row := csvRow(cols, r)
 		for i := range row {
 			row[i] = SafeCell(row[i])
 		}
+		n++
 		return cw.Write(row)
 	})
+	return n, err
 }
 
-// SafeCell neutralises a cell that a spreadsheet would run as a formula: one
-// beginning with "=", "+", "-" (unless the whole cell is a decimal number),
-// "@", a tab or a carriage return gets a leading apostrophe, which
-// spreadsheets show as text. Every other cell is returned unchanged.
+// SafeCell neutralises a cell that a spreadsheet would run as a formula:
+// one beginning with "=", "+", "-" (unless the whole cell is a decimal
+// number), "@", a tab or a carriage return, or their full-width forms
+// "＝", "＋", "－" and "＠" (which some spreadsheets read as the plain
+// ones), gets a leading apostrophe, which spreadsheets show as text. So that
+// PlainCell can undo it exactly, a cell that already begins with
+// apostrophes before such a character gets one more. Every other cell is
+// returned unchanged.
 func SafeCell(v string) string {
-	if v == "" {
-		return v
-	}
-	switch v[0] {
-	case '=', '+', '@', '\t', '\r':
-		return "'" + v
-	case '-':
-		if plainNumber(v) {
-			return v
-		}
+	if needsApostrophe(v) {
 		return "'" + v
 	}
 	return v
+}
+
+// PlainCell undoes SafeCell: import reads a cell through it, so that an
+// exported file imports back to the same records. It removes one leading
+// apostrophe exactly where SafeCell adds one — before a formula-like value
+// — and leaves every other cell, including one that merely begins with an
+// apostrophe, as it is.
+func PlainCell(v string) string {
+	if rest, ok := strings.CutPrefix(v, "'"); ok && needsApostrophe(rest) {
+		return rest
+	}
+	return v
+}
+
+// needsApostrophe reports whether SafeCell puts an apostrophe before v:
+// when v, after any apostrophes it begins with, starts like a formula.
+func needsApostrophe(v string) bool {
+	rest := strings.TrimLeft(v, "'")
+	r, _ := utf8.DecodeRuneInString(rest)
+	switch r {
+	case '=', '+', '@', '\t', '\r', '＝', '＋', '－', '＠':
+		return true
+	case '-':
+		return !plainNumber(rest)
+	}
+	return false
 }
 
 // plainNumber reports whether v is a decimal number as a spreadsheet reads

@@ -6,6 +6,8 @@ package store_test
 
 import (
 	"context"
+	"fmt"
+	"reflect"
 	"strconv"
 	"strings"
 	"testing"
@@ -144,7 +146,7 @@ func TestRoundTripDemo(t *testing.T) {
 func TestExportUnknownKind(t *testing.T) {
 	s := openUnit(t)
 	var b strings.Builder
-	if err := s.Export(context.Background(), store.Kind("patients"), &b); err == nil {
+	if _, err := s.Export(context.Background(), store.Kind("patients"), &b); err == nil {
 		t.Error("export of an unknown kind succeeded")
 	}
 	if b.Len() != 0 {
@@ -163,4 +165,85 @@ func TestExportEmptyDatabaseWritesHeaders(t *testing.T) {
 	if !strings.HasSuffix(strings.Join(store.Columns(store.Lesions), ","), ",tattoo") {
 		t.Error("the lesions export lacks the optional tattoo column")
 	}
+}
+
+// hostileValues are identifiers that validation lets through but a
+// spreadsheet would run as a formula (OWASP "CSV injection" guidance;
+// common practice), their full-width forms, and values that really begin
+// with an apostrophe, the character export puts before a formula.
+var hostileValues = []string{
+	"=X1", `=HYPERLINK("http://example.invalid","open")`, "+SUM(1)", "@SUM(1)", "-2+3", "-A1", "-",
+	"＝1+1", "＋SUM(1)", "－3", "＠A1",
+	"'", "''", "'abc", "'=X1", "''=X1", "'-12", "'－3",
+	"-12", "-2.5", "a'b", "a=b",
+}
+
+// TestExportImportHostileValuesRoundTrip stores every hostile value as a
+// procedure id, an endoscopist and a trainee, exports, and imports the
+// export into a new database: the same records come back — no apostrophe
+// turned into part of an id, no extra case, no phantom roster entry — and
+// exporting again gives the same files.
+func TestExportImportHostileValuesRoundTrip(t *testing.T) {
+	ctx := context.Background()
+	a := openUnit(t)
+	rows := []string{procHeader}
+	les := []string{lesHeader}
+	for i, v := range hostileValues {
+		rows = append(rows, line(store.Procedures, map[string]string{
+			"procedure_id": cell(v), "performed_on": "2026-03-02", "operator_id": cell(v),
+			"trainee_id": cell(fmt.Sprintf("T%d%s", i, v)), "age": "60", "sex": "F", "indication": "screening", "extent": "caecum"}))
+		les = append(les, lesRow(cell(v), 1, "rectum", "3", nil))
+	}
+	mustImport(t, a, store.Procedures, "p.csv", strings.Join(rows, "\n")+"\n")
+	mustImport(t, a, store.Lesions, "l.csv", strings.Join(les, "\n")+"\n")
+	for _, v := range hostileValues {
+		if c, err := a.Case(ctx, v); err != nil || c.OperatorID != v {
+			t.Fatalf("value %q was not stored as it is: %+v, %v", v, c.Procedure, err)
+		}
+	}
+	first := exportAll(t, a)
+	for _, k := range kinds {
+		for _, cell := range strings.FieldsFunc(first[k], func(r rune) bool { return r == ',' || r == '\n' }) {
+			if cell = strings.Trim(cell, `"`); cell != "" && store.SafeCell(cell) != cell && !strings.HasPrefix(cell, "'") {
+				t.Errorf("%s export: cell %q would run as a formula", k, cell)
+			}
+		}
+	}
+
+	b := openUnit(t)
+	importAll(t, b, first)
+	for _, v := range hostileValues {
+		c, err := b.Case(ctx, v)
+		if err != nil {
+			t.Errorf("case %q did not come back: %v", v, err)
+			continue
+		}
+		if c.OperatorID != v || len(c.Lesions) != 1 {
+			t.Errorf("case %q came back with operator %q and %d lesions", v, c.OperatorID, len(c.Lesions))
+		}
+	}
+	if ca, cb := counts(t, a), counts(t, b); ca[0] != cb[0] || ca[1] != cb[1] || ca[0] != len(hostileValues) {
+		t.Errorf("procedures and lesions: %v first, %v after the round trip; want %d each", ca, cb, len(hostileValues))
+	}
+	ra, _ := a.Roster(ctx)
+	rb, _ := b.Roster(ctx)
+	if !reflect.DeepEqual(ra, rb) {
+		t.Errorf("roster after the round trip\n got %v\nwant %v", rb, ra)
+	}
+	second := exportAll(t, b)
+	for _, k := range kinds {
+		if second[k] != first[k] {
+			t.Errorf("%s: export after import differs at %s", k, firstDifference(second[k], first[k]))
+		}
+	}
+}
+
+// cell writes a value as a CSV cell the way export does: behind an
+// apostrophe where it looks like a formula, and quoted where it needs it.
+func cell(v string) string {
+	v = store.SafeCell(v)
+	if strings.ContainsAny(v, `",`+"\n\r") {
+		return `"` + strings.ReplaceAll(v, `"`, `""`) + `"`
+	}
+	return v
 }

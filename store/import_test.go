@@ -13,6 +13,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"regexp"
 	"strings"
 	"testing"
 	"time"
@@ -58,7 +59,7 @@ func mustImport(t *testing.T, s *store.Store, kind store.Kind, name, text string
 func exportText(t *testing.T, s *store.Store, kind store.Kind) string {
 	t.Helper()
 	var b bytes.Buffer
-	if err := s.Export(context.Background(), kind, &b); err != nil {
+	if _, err := s.Export(context.Background(), kind, &b); err != nil {
 		t.Fatalf("export %s: %v", kind, err)
 	}
 	return b.String()
@@ -190,42 +191,56 @@ func TestImportHeaderInAnyOrder(t *testing.T) {
 	}
 }
 
-func TestImportHeaderProblemsRefusedBeforeAnyRow(t *testing.T) {
+// TestImportHeaderAndRowProblemsInOneRun: problems of the header do not
+// hide those of the rows; one run lists both (unknown, repeated and
+// missing columns, and every bad value of the rows, which are read by the
+// columns the header does name).
+func TestImportHeaderAndRowProblemsInOneRun(t *testing.T) {
+	noAge := strings.NewReplacer(",age,", ",", ",extent,", ",").Replace(procHeader)
 	tests := []struct {
 		name   string
 		kind   store.Kind
 		header string
+		row    string
 		want   []string
 	}{
-		{"unknown column", store.Procedures, procHeader + ",colour", []string{
+		{"unknown column", store.Procedures, procHeader + ",colour", procRowWith("P1", 60, map[string]string{"performed_on": "not-a-date"}) + ",blue", []string{
 			"h.csv:1: colour: is not a column of this kind of file (expected: " + strings.Join(store.Columns(store.Procedures), ", ") + ")",
+			`h.csv:2: performed_on: "not-a-date" is not a real calendar date (YYYY-MM-DD)`,
 		}},
-		{"missing required columns", store.Procedures, strings.NewReplacer(",age,", ",", ",extent,", ",").Replace(procHeader), []string{
+		{"missing required columns", store.Procedures, noAge, "P1,2026-03-02,E01,,,,,F,screening,,,,,,,,,,,,,,,,,", []string{
 			"h.csv:1: age: required column is missing from the header",
 			"h.csv:1: extent: required column is missing from the header",
 		}},
-		{"repeated column", store.Procedures, procHeader + ",age", []string{
-			"h.csv:1: age: appears twice in the header",
+		{"missing required columns and a bad row", store.Procedures, noAge, "P1,2026-03-02,E01,,,,,Q,screening,,,,,,,,,,,,,,,,,", []string{
+			"h.csv:1: age: required column is missing from the header",
+			"h.csv:1: extent: required column is missing from the header",
+			`h.csv:2: sex: "Q" is not one of F, M, X, U`,
 		}},
-		{"unnamed column", store.Procedures, procHeader + ",", []string{
+		{"repeated column", store.Procedures, procHeader + ",age", procRow("P1", 17) + ",70", []string{
+			"h.csv:1: age: appears twice in the header",
+			"h.csv:2: age: 17 is outside 18–110",
+		}},
+		{"unnamed column", store.Procedures, procHeader + ",", procRow("P1", 60) + ",x", []string{
 			"h.csv:1: column 29: has no name in the header",
 		}},
-		{"lesion columns in a histology file", store.Histology, "procedure_id,lesion_no,histology,dysplasia,reported_on,segment", []string{
+		{"lesion columns in a histology file", store.Histology, "procedure_id,lesion_no,histology,dysplasia,reported_on,segment", "P1,1,ssl,moderate,2026-03-10,rectum", []string{
 			"h.csv:1: segment: is not a column of this kind of file (expected: procedure_id, lesion_no, histology, dysplasia, reported_on)",
+			`h.csv:2: dysplasia: "moderate" is not one of none, low, high`,
+			"h.csv:2: procedure_id: P1 is not in the logbook",
 		}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
 			s := openUnit(t)
 			before := counts(t, s)
-			// The data row is broken too; it must not be read at all.
-			_, err := importText(s, tt.kind, "h.csv", tt.header+"\nP1,not-a-date,,,,,,,,\n", false)
+			_, err := importText(s, tt.kind, "h.csv", tt.header+"\n"+tt.row+"\n", false)
 			ie := importError(t, err)
 			if got := errorLines(ie); !reflect.DeepEqual(got, tt.want) {
 				t.Errorf("problems\n got %q\nwant %q", got, tt.want)
 			}
-			if ie.Rows != 0 {
-				t.Errorf("%d data rows read after a bad header", ie.Rows)
+			if ie.Rows != 1 {
+				t.Errorf("%d data rows read, want 1", ie.Rows)
 			}
 			if after := counts(t, s); after != before {
 				t.Errorf("stored counts changed from %v to %v", before, after)
@@ -236,6 +251,144 @@ func TestImportHeaderProblemsRefusedBeforeAnyRow(t *testing.T) {
 	_, err := importText(s, store.Procedures, "empty.csv", "", false)
 	if got := errorLines(importError(t, err)); !reflect.DeepEqual(got, []string{"empty.csv:1: header: the file is empty"}) {
 		t.Errorf("empty file: %q", got)
+	}
+}
+
+// TestImportEveryProblemInOneRun: a file whose rows break several rules at
+// once — values, a row's own rules, a repeat within the file, a clash with
+// the logbook and a reference to a procedure that is not there — lists all
+// of them in one run, so that nothing new appears once these are fixed.
+func TestImportEveryProblemInOneRun(t *testing.T) {
+	s := openUnit(t)
+	mustImport(t, s, store.Procedures, "seed.csv", procHeader+"\n"+procRow("P0", 50)+"\n")
+	procs := strings.Join([]string{
+		procHeader,
+		procRowWith("P1", 17, map[string]string{"sex": "Q", "extent": ""}), // three bad values in one row
+		procRow("P0", 60), // already in the logbook
+		procRowWith("P1", 61, map[string]string{"performed_on": "2025-02-29"}),   // a repeat, with a bad date too
+		procRowWith("P2", 62, map[string]string{"incomplete_reason": "looping"}), // a cross-field rule
+	}, "\n") + "\n"
+	_, err := importText(s, store.Procedures, "p.csv", procs, false)
+	want := []string{
+		`p.csv:2: sex: "Q" is not one of F, M, X, U`,
+		"p.csv:2: age: 17 is outside 18–110",
+		"p.csv:2: extent: is required",
+		"p.csv:3: procedure_id: P0 is already in the logbook (import with --update to replace it)",
+		`p.csv:4: performed_on: "2025-02-29" is not a real calendar date (YYYY-MM-DD)`,
+		"p.csv:4: procedure_id: P1 appears more than once in this file",
+		"p.csv:5: incomplete_reason: is given but extent is caecum, not incomplete",
+	}
+	if got := errorLines(importError(t, err)); !reflect.DeepEqual(got, want) {
+		t.Errorf("procedures: problems\n got %q\nwant %q", got, want)
+	}
+	les := strings.Join([]string{
+		lesHeader,
+		lesRow("P9", 1, "rectum", "200", nil), // bad size and an unknown procedure
+		lesRow("P0", 1, "colon", "3", nil),    // bad segment
+		lesRow("P0", 1, "rectum", "3", nil),   // the same lesion again
+	}, "\n") + "\n"
+	_, err = importText(s, store.Lesions, "l.csv", les, false)
+	want = []string{
+		"l.csv:2: size_mm: 200 is outside 1–150",
+		"l.csv:2: procedure_id: P9 is not in the logbook (import its procedure first)",
+		`l.csv:3: segment: "colon" is not one of caecum, ascending, hepatic_flexure, transverse, splenic_flexure, descending, sigmoid, rectum`,
+		"l.csv:4: lesion_no: lesion 1 of procedure P0 appears more than once in this file",
+	}
+	if got := errorLines(importError(t, err)); !reflect.DeepEqual(got, want) {
+		t.Errorf("lesions: problems\n got %q\nwant %q", got, want)
+	}
+	if c := counts(t, s); c[0] != 1 || c[1] != 0 {
+		t.Errorf("stored %v after refused imports", c)
+	}
+}
+
+// TestImportHostileFiles offers files that are not what they claim: each
+// is refused with a message naming the line and column, quickly, without
+// echoing a hospital number or a huge value.
+func TestImportHostileFiles(t *testing.T) {
+	hospital := "RXH7654321"
+	row := procRowWith("P1", 60, map[string]string{"patient_ref": hospital})
+	huge := strings.Repeat("A", 100<<20)
+	tests := []struct {
+		name string
+		file string
+		want []string
+	}{
+		{"no header row", row + "\n" + procRow("P2", 61) + "\n", []string{
+			"x.csv:1: header: the first line is not a header row: none of its 28 values names a column of a procedures file (they are not shown, as they may be patient data); the first line must name the columns (expected: " + strings.Join(store.Columns(store.Procedures), ", ") + ")",
+		}},
+		{"a hospital number as a column name", procHeader + "," + hospital + "\n" + procRow("P1", 60) + ",x\n", []string{
+			"x.csv:1: column 29: a value of 10 characters (not shown, as it may identify a patient) is not a column of this kind of file (expected: " + strings.Join(store.Columns(store.Procedures), ", ") + ")",
+		}},
+		{"a hospital number in the wrong column", procHeader + "\n" + procRowWith("P1", 60, map[string]string{"sex": hospital}) + "\n", []string{
+			"x.csv:2: sex: a value of 10 characters (not shown, as it may identify a patient) is not one of F, M, X, U",
+		}},
+		{"Latin-1 bytes", procHeader + "\n" + procRowWith("P1", 60, map[string]string{"operator_id": "Dr M\xfcller"}) + "\n", []string{
+			"x.csv:2: operator_id: is not valid UTF-8 text (save the file as UTF-8 CSV)",
+		}},
+		{"UTF-16", "\xff\xfe" + procHeader, []string{
+			"x.csv:1: header: the file is saved as UTF-16 text; save it as UTF-8 CSV",
+		}},
+		{"a value over the limit", procHeader + "\n" + procRowWith("P1", 60, map[string]string{"operator_id": strings.Repeat("E", 5000)}) + "\n", []string{
+			"x.csv:2: operator_id: is 5000 bytes long; no value may be longer than 1024",
+		}},
+		{"a 100 MB value", procHeader + "\n" + procRowWith("P1", 60, map[string]string{"operator_id": huge}) + "\n", []string{
+			"x.csv:2: row: is longer than 65536 bytes, far longer than any row of a procedures file; the rest of the file was not read (is it the right file? a quote left open makes the rest of a file one value)",
+		}},
+		{"a quote left open", procHeader + "\n" + procRow("P1", 60) + "\n\"" + strings.Repeat(procRow("P2", 61)+"\n", 10000), []string{
+			// The line is where the reader gave up, within the open quote.
+			"x.csv:LINE: row: is longer than 65536 bytes, far longer than any row of a procedures file; the rest of the file was not read (is it the right file? a quote left open makes the rest of a file one value)",
+		}},
+		{"a huge header", strings.Repeat("x", 200<<10), []string{
+			"x.csv:1: row: is longer than 65536 bytes, far longer than any row of a procedures file; the rest of the file was not read (is it the right file? a quote left open makes the rest of a file one value)",
+		}},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			s := openUnit(t)
+			before := counts(t, s)
+			_, err := importText(s, store.Procedures, "x.csv", tt.file, false)
+			ie := importError(t, err)
+			got := errorLines(ie)
+			if len(got) == 1 && strings.Contains(tt.want[0], ":LINE:") {
+				if n := ie.Errors[0].Line; n < 3 || n > 10002 {
+					t.Errorf("the open quote is reported at line %d, outside the file's rows", n)
+				}
+				got[0] = strings.Replace(got[0], fmt.Sprintf(":%d:", ie.Errors[0].Line), ":LINE:", 1)
+			}
+			if !reflect.DeepEqual(got, tt.want) {
+				t.Errorf("problems\n got %q\nwant %q", got, tt.want)
+			}
+			if msg := ie.Error(); strings.Contains(strings.ToUpper(msg), hospital) || len(msg) > 4000 {
+				t.Errorf("the message shows the hospital number or is %d bytes long", len(msg))
+			}
+			if after := counts(t, s); after != before {
+				t.Errorf("stored counts changed from %v to %v", before, after)
+			}
+		})
+	}
+}
+
+// endless is a reader that never ends, like /dev/zero.
+type endless struct{ b byte }
+
+func (e endless) Read(p []byte) (int, error) {
+	for i := range p {
+		p[i] = e.b
+	}
+	return len(p), nil
+}
+
+// TestImportEndlessInput reads a file that never ends: the import stops at
+// the first over-long row instead of reading on until memory runs out.
+func TestImportEndlessInput(t *testing.T) {
+	for _, b := range []byte{0, 'x', '"'} {
+		s := openUnit(t)
+		_, err := s.Import(context.Background(), store.Procedures, "/dev/zero", endless{b}, store.ImportOptions{})
+		ie := importError(t, err)
+		if len(ie.Errors) != 1 || !strings.Contains(ie.Errors[0].String(), "/dev/zero:1: row: is longer than 65536 bytes") {
+			t.Errorf("endless %q: %q", b, errorLines(ie))
+		}
 	}
 }
 
@@ -642,5 +795,49 @@ func TestParseKind(t *testing.T) {
 	}
 	if _, err := store.ParseKind("patients"); err == nil || err.Error() != `kind "patients" is not procedures, lesions or histology` {
 		t.Errorf("ParseKind(patients): %v", err)
+	}
+}
+
+// TestImportKeepsUpperCasedPseudonyms: an exported file whose pseudonyms a
+// spreadsheet turned to capitals ("PSN:3F…") imports back to the same
+// patients; the pseudonym is not hashed again as if it were a hospital
+// number, which would silently re-key the patient under --update.
+func TestImportKeepsUpperCasedPseudonyms(t *testing.T) {
+	ctx := context.Background()
+	s := openUnit(t)
+	mustImport(t, s, store.Procedures, "p.csv", procHeader+"\n"+
+		procRowWith("P1", 60, map[string]string{"patient_ref": "RXH7654321"})+"\n"+
+		procRowWith("P2", 61, map[string]string{"patient_ref": "RXH7654322"})+"\n")
+	before := map[string]string{}
+	for _, id := range []string{"P1", "P2"} {
+		c, _ := s.Case(ctx, id)
+		before[id] = c.PatientKey
+	}
+	exported := exportText(t, s, store.Procedures)
+	upper := regexp.MustCompile(`psn:[0-9a-f]{64}`).ReplaceAllStringFunc(exported, strings.ToUpper)
+	if upper == exported || !strings.Contains(upper, "PSN:") {
+		t.Fatal("no pseudonym was upper-cased: the test would prove nothing")
+	}
+	if _, err := importText(s, store.Procedures, "upper.csv", upper, true); err != nil {
+		t.Fatal(err)
+	}
+	for id, key := range before {
+		if c, _ := s.Case(ctx, id); c.PatientKey != key {
+			t.Errorf("%s: patient key %s after re-import, was %s", id, c.PatientKey, key)
+		}
+	}
+	if again := exportText(t, s, store.Procedures); again != exported {
+		t.Errorf("export after re-import differs at %s", firstDifference(again, exported))
+	}
+}
+
+// TestImportRefusesAnAmountTooSmallToStore: "1e-400" would be stored as 0
+// (an underflow); it is refused, naming the line and column.
+func TestImportRefusesAnAmountTooSmallToStore(t *testing.T) {
+	s := openUnit(t)
+	_, err := importText(s, store.Procedures, "p.csv", procHeader+"\n"+procRowWith("P1", 60, map[string]string{"midazolam_mg": "1e-400"})+"\n", false)
+	want := []string{`p.csv:2: midazolam_mg: "1e-400" is too small to record (it would be stored as 0)`}
+	if got := errorLines(importError(t, err)); !reflect.DeepEqual(got, want) {
+		t.Errorf("problems %q, want %q", got, want)
 	}
 }

@@ -2,13 +2,18 @@ package store
 
 import (
 	"bufio"
+	"bytes"
 	"context"
 	"database/sql"
 	"encoding/csv"
 	"errors"
 	"fmt"
 	"io"
+	"strconv"
 	"strings"
+	"time"
+	"unicode"
+	"unicode/utf8"
 
 	"polypledger/logbook"
 )
@@ -98,10 +103,19 @@ func (e *ImportError) Error() string {
 		b.WriteByte('\n')
 	}
 	if e.More > 0 {
-		fmt.Fprintf(&b, "%s: … and %d more problems not listed\n", e.File, e.More)
+		fmt.Fprintf(&b, "%s: … and %d more %s not listed\n", e.File, e.More, plural(e.More, "problem", "problems"))
 	}
-	fmt.Fprintf(&b, "%s: nothing was imported (%d problems in %d rows)", e.File, len(e.Errors)+e.More, e.Rows)
+	n := len(e.Errors) + e.More
+	fmt.Fprintf(&b, "%s: nothing was imported (%d %s in %d %s)", e.File, n, plural(n, "problem", "problems"), e.Rows, plural(e.Rows, "row", "rows"))
 	return b.String()
+}
+
+// plural picks the word for a count.
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }
 
 func (e *ImportError) add(line int, column, reason string) {
@@ -114,63 +128,326 @@ func (e *ImportError) add(line int, column, reason string) {
 
 func (e *ImportError) any() bool { return len(e.Errors) > 0 }
 
-// countingReader counts the bytes read, for progress.
-type countingReader struct {
-	r io.Reader
-	n int64
+// Limits on what an imported file may hold. Real rows are a few hundred
+// bytes; the limits keep a wrong or hostile file (a device that never
+// ends, a value of 100 MB, a quote left open) from taking unbounded memory,
+// and such a file is refused with a message naming the line.
+const (
+	// MaxRowBytes bounds one row of a CSV file (one record, which may
+	// span lines inside quotes), the header row included.
+	MaxRowBytes = 64 << 10
+	// MaxValueBytes bounds one value.
+	MaxValueBytes = 1 << 10
+)
+
+// readBuffer is the CSV reader's buffer; it may read this far ahead.
+const readBuffer = 16 << 10
+
+// errRowTooLong stops a file whose row passes MaxRowBytes.
+var errRowTooLong = errors.New("row too long")
+
+// boundedReader passes a file's bytes to the CSV reader, counting bytes and
+// lines, and fails once the reader is further than MaxRowBytes (and its
+// buffer) past the end of the last complete row.
+type boundedReader struct {
+	r     io.Reader
+	n     int64 // bytes read so far
+	limit int64 // n may not pass this
+	lines int   // line ends read so far
 }
 
-func (c *countingReader) Read(p []byte) (int, error) {
-	n, err := c.r.Read(p)
-	c.n += int64(n)
+func (b *boundedReader) Read(p []byte) (int, error) {
+	if b.n >= b.limit {
+		return 0, errRowTooLong
+	}
+	if rem := b.limit - b.n; int64(len(p)) > rem {
+		p = p[:rem]
+	}
+	n, err := b.r.Read(p)
+	b.n += int64(n)
+	b.lines += bytes.Count(p[:n], []byte{'\n'})
 	return n, err
 }
 
-// header maps the file's columns to the kind's columns, refusing unknown,
-// repeated or missing ones.
-func header[T any](cols []column[T], rec []string, ie *ImportError) []int {
-	idx := make([]int, len(rec)) // file column → cols index
-	seen := map[string]bool{}
+// csvFile reads the rows of one CSV file within the limits.
+type csvFile struct {
+	name string
+	kind Kind
+	br   *boundedReader
+	buf  *bufio.Reader
+	cv   *csv.Reader
+}
+
+func newCSVFile(name string, kind Kind, r io.Reader) *csvFile {
+	br := &boundedReader{r: r, limit: MaxRowBytes + readBuffer}
+	buf := bufio.NewReaderSize(br, readBuffer)
+	cv := csv.NewReader(buf)
+	cv.FieldsPerRecord = -1
+	cv.ReuseRecord = true
+	return &csvFile{name: name, kind: kind, br: br, buf: buf, cv: cv}
+}
+
+// read returns the next row; the reader may then run MaxRowBytes past it.
+func (f *csvFile) read() ([]string, error) {
+	rec, err := f.cv.Read()
+	f.br.limit = f.cv.InputOffset() + MaxRowBytes + readBuffer
+	return rec, err
+}
+
+// tooLong records the problem of a row past MaxRowBytes.
+func (f *csvFile) tooLong(ie *ImportError) {
+	ie.add(f.br.lines+1, "row", fmt.Sprintf("is longer than %d bytes, far longer than any row of a %s file; the rest of the file was not read (is it the right file? a quote left open makes the rest of a file one value)", MaxRowBytes, f.kind))
+}
+
+// header reads the header row and maps the file's columns to cols: for
+// each file column the index in cols (-1 when it is not read), and for each
+// of cols whether the file lacks it. ok is false when the first line is not
+// a header at all (no column of the kind is named), and then the file's rows
+// cannot be read.
+func header[T any](f *csvFile, cols []column[T], ie *ImportError) (idx []int, absent []bool, width int, ok bool) {
+	if b, _ := f.buf.Peek(2); len(b) == 2 && (b[0] == 0xff && b[1] == 0xfe || b[0] == 0xfe && b[1] == 0xff) {
+		ie.add(1, "header", "the file is saved as UTF-16 text; save it as UTF-8 CSV")
+		return nil, nil, 0, false
+	}
+	rec, err := f.read()
+	switch {
+	case err == io.EOF:
+		ie.add(1, "header", "the file is empty")
+		return nil, nil, 0, false
+	case errors.Is(err, errRowTooLong):
+		f.tooLong(ie)
+		return nil, nil, 0, false
+	case err != nil:
+		ie.add(1, "header", csvReason(err))
+		return nil, nil, 0, false
+	}
+	expected := "(expected: " + strings.Join(names(cols), ", ") + ")"
+	idx = make([]int, len(rec))
+	known := 0
+	for i, name := range rec {
+		if i == 0 {
+			name = strings.TrimPrefix(name, "\ufeff")
+		}
+		idx[i] = columnIndex(cols, strings.TrimSpace(name))
+		if idx[i] >= 0 {
+			known++
+		}
+	}
+	if known == 0 {
+		ie.add(1, "header", fmt.Sprintf("the first line is not a header row: none of its %d values names a column of a %s file (they are not shown, as they may be patient data); the first line must name the columns %s", len(rec), f.kind, expected))
+		return nil, nil, 0, false
+	}
+	seen := make([]bool, len(cols))
 	for i, name := range rec {
 		if i == 0 {
 			name = strings.TrimPrefix(name, "\ufeff")
 		}
 		name = strings.TrimSpace(name)
-		idx[i] = -1
-		for j, c := range cols {
-			if c.name == name {
-				idx[i] = j
-			}
-		}
+		j := idx[i]
 		switch {
 		case name == "":
 			ie.add(1, fmt.Sprintf("column %d", i+1), "has no name in the header")
-		case idx[i] < 0:
-			ie.add(1, name, "is not a column of this kind of file (expected: "+strings.Join(names(cols), ", ")+")")
-		case seen[name]:
+		case j < 0 && shownAsIs(name):
+			ie.add(1, name, "is not a column of this kind of file "+expected)
+		case j < 0:
+			ie.add(1, fmt.Sprintf("column %d", i+1), logbook.QuoteValue(name)+" is not a column of this kind of file "+expected)
+		case seen[j]:
 			ie.add(1, name, "appears twice in the header")
-		}
-		seen[name] = true
-	}
-	for _, c := range cols {
-		if !seen[c.name] && !c.optional {
-			ie.add(1, c.name, "required column is missing from the header")
+			idx[i] = -1 // the first is read
+		default:
+			seen[j] = true
 		}
 	}
-	return idx
+	absent = make([]bool, len(cols))
+	for j, c := range cols {
+		if !seen[j] {
+			absent[j] = true
+			if !c.optional {
+				ie.add(1, c.name, "required column is missing from the header")
+			}
+		}
+	}
+	return idx, absent, len(rec), true
 }
 
-// parseRow fills r from one CSV record; bad values are added to ie.
-func parseRow[T any](cols []column[T], idx []int, rec []string, line int, cd *codec, r *T, ie *ImportError) bool {
-	ok := true
-	for i, v := range rec {
-		c := cols[idx[i]]
-		if err := c.set(r, strings.TrimSpace(v), cd); err != nil {
-			ie.add(line, c.name, err.Error())
-			ok = false
+// shownAsIs reports whether a header name may stand in a message as it is:
+// short, printable text that QuoteValue would show unchanged.
+func shownAsIs(name string) bool {
+	if logbook.QuoteValue(name) != strconv.Quote(name) {
+		return false
+	}
+	for _, r := range name {
+		if !unicode.IsPrint(r) {
+			return false
 		}
 	}
-	return ok
+	return true
+}
+
+// columnIndex returns the index of the column called name, or -1.
+func columnIndex[T any](cols []column[T], name string) int {
+	for j, c := range cols {
+		if c.name == name {
+			return j
+		}
+	}
+	return -1
+}
+
+// rules say how the rows of one kind of file are read and checked before
+// the database is asked: the columns, a new empty record, the record's
+// validation, and what identifies a row within the file.
+type rules[T any] struct {
+	cols     []column[T]
+	fresh    func() T
+	validate func(r T, today time.Time) logbook.Problems
+	// keyFields are the columns that identify a row; key returns its
+	// identity and the problem reported (in the first key field) when it
+	// repeats an earlier row of the file.
+	keyFields []string
+	key       func(r *T) (key, repeat string)
+}
+
+var procedureRules = rules[P]{
+	cols: procedureColumns, fresh: logbook.NewProcedure, validate: logbook.ValidateProcedure,
+	keyFields: []string{"procedure_id"},
+	key: func(p *P) (string, string) {
+		return p.ID, p.ID + " appears more than once in this file"
+	},
+}
+
+var lesionRules = rules[L]{
+	cols: lesionColumns, fresh: logbook.NewLesion, validate: logbook.ValidateLesion,
+	keyFields: []string{"lesion_no", "procedure_id"},
+	key: func(l *L) (string, string) {
+		return fmt.Sprintf("%s#%d", l.ProcedureID, l.LesionNo),
+			fmt.Sprintf("lesion %d of procedure %s appears more than once in this file", l.LesionNo, l.ProcedureID)
+	},
+}
+
+var histologyRules = rules[H]{
+	cols:  histologyColumns,
+	fresh: func() H { return H{LesionNo: logbook.NotRecorded} }, validate: logbook.ValidateHistologyResult,
+	keyFields: []string{"lesion_no", "procedure_id"},
+	key: func(h *H) (string, string) {
+		return fmt.Sprintf("%s#%d", h.ProcedureID, h.LesionNo),
+			fmt.Sprintf("a result for lesion %d of procedure %s appears more than once in this file", h.LesionNo, h.ProcedureID)
+	},
+}
+
+// rowSink takes each row whose identity could be read (and that does not
+// repeat an earlier one): clean is set when the row has no problem of its
+// own. The import's sink checks the row against the database and stores
+// it while the file has no problem at all.
+type rowSink[T any] func(line int, r *T, clean bool) error
+
+// readRows reads every data row of f and checks it: each value (its size,
+// UTF-8, and the column's parser, after undoing the apostrophe export puts
+// before a formula-like value), the record's validation (leaving out
+// fields already refused and columns the header lacks), and repeats within
+// the file. Every problem goes to ie; nothing stops at the first one, so a
+// file's problems are all listed in one run. progress, when set, is called
+// every ProgressEvery rows.
+func readRows[T any](ctx context.Context, f *csvFile, ru rules[T], idx []int, absent []bool, width int,
+	cd *codec, today time.Time, ie *ImportError, progress func(rows int, bytes int64), sink rowSink[T]) error {
+	seen := map[string]bool{}
+	bad := make([]bool, len(ru.cols))
+	keyCols := make([]int, len(ru.keyFields))
+	for i, k := range ru.keyFields {
+		keyCols[i] = columnIndex(ru.cols, k)
+	}
+	for {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		rec, err := f.read()
+		if err == io.EOF {
+			return nil
+		}
+		if err != nil {
+			if errors.Is(err, errRowTooLong) {
+				f.tooLong(ie)
+				return nil
+			}
+			var pe *csv.ParseError
+			if errors.As(err, &pe) {
+				ie.add(pe.Line, "row", csvReason(err))
+				ie.Rows++
+				continue
+			}
+			return err
+		}
+		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" && width > 1 {
+			continue // a blank line
+		}
+		// Only a record read without error has field positions; asking
+		// after a parse error panics.
+		line, _ := f.cv.FieldPos(0)
+		ie.Rows++
+		if progress != nil && ie.Rows%ProgressEvery == 0 {
+			progress(ie.Rows, f.br.n)
+		}
+		if len(rec) != width {
+			ie.add(line, "row", fmt.Sprintf("has %d fields but the header has %d", len(rec), width))
+			continue
+		}
+		r := ru.fresh()
+		clear(bad)
+		clean := true
+		for i, v := range rec {
+			j := idx[i]
+			if j < 0 {
+				continue
+			}
+			c := ru.cols[j]
+			v = strings.TrimSpace(v)
+			var reason string
+			switch {
+			case len(v) > MaxValueBytes:
+				reason = fmt.Sprintf("is %d bytes long; no value may be longer than %d", len(v), MaxValueBytes)
+			case !utf8.ValidString(v):
+				reason = "is not valid UTF-8 text (save the file as UTF-8 CSV)"
+			default:
+				if err := c.set(&r, PlainCell(v), cd); err != nil {
+					reason = err.Error()
+				}
+			}
+			if reason != "" {
+				ie.add(line, c.name, reason)
+				bad[j], clean = true, false
+			}
+		}
+		for _, p := range ru.validate(r, today) {
+			if j := columnIndex(ru.cols, p.Field); j >= 0 && (bad[j] || absent[j]) {
+				continue
+			}
+			ie.add(line, p.Field, p.Reason)
+			if j := columnIndex(ru.cols, p.Field); j >= 0 {
+				bad[j] = true
+			}
+			clean = false
+		}
+		usable := true
+		for _, j := range keyCols {
+			if bad[j] || absent[j] {
+				usable = false
+			}
+		}
+		if !usable {
+			continue
+		}
+		key, repeat := ru.key(&r)
+		if seen[key] {
+			ie.add(line, ru.keyFields[0], repeat)
+			continue
+		}
+		seen[key] = true
+		if sink != nil {
+			if err := sink(line, &r, clean); err != nil {
+				return err
+			}
+		}
+	}
 }
 
 // importer holds one import's transaction and bookkeeping.
@@ -179,10 +456,10 @@ type importer struct {
 	ctx    context.Context
 	tx     *sql.Tx
 	ie     *ImportError
+	cd     *codec
 	res    ImportResult
 	opt    ImportOptions
 	roster map[string]bool // roster ids already checked
-	seen   map[string]bool // record keys already read from this file
 	stmts  map[string]*sql.Stmt
 	// keyChecked is set once the unit key has been matched to the database.
 	keyChecked bool
@@ -241,61 +518,45 @@ func (im *importer) ensureOnRoster(id string, role logbook.Role) error {
 	return im.s.logChange(im.ctx, im.tx, "insert", "roster "+id, nil, rosterMap(r))
 }
 
+// writing reports whether a row that passed its checks is to be stored:
+// only while the file has no problem (a refused import writes nothing).
+func (im *importer) writing(clean bool) bool { return clean && !im.ie.any() }
+
 // Import reads a CSV file of the given kind and stores all of its rows in
 // one transaction, or none: on any bad row it returns an *ImportError listing
-// FILE:LINE: column: reason for each problem and the database is unchanged.
-// name is the file name used in messages.
+// FILE:LINE: column: reason for every problem of the file — each value, each
+// row's rules, repeats within the file and rows that clash with or refer to
+// what is stored — and the database is unchanged. name is the file name
+// used in messages.
 func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader, opt ImportOptions) (ImportResult, error) {
 	if s.readOnly {
 		return ImportResult{}, errors.New("the database is open read-only")
 	}
 	ie := &ImportError{File: name}
-	cr := &countingReader{r: r}
-	cv := csv.NewReader(bufio.NewReaderSize(cr, 1<<16))
-	cv.FieldsPerRecord = -1
-	cv.ReuseRecord = true
-	head, err := cv.Read()
-	if err == io.EOF {
-		ie.add(1, "header", "the file is empty")
-		return ImportResult{}, ie
-	}
-	if err != nil {
-		ie.add(1, "header", csvReason(err))
-		return ImportResult{}, ie
-	}
-	head = append([]string(nil), head...)
-	var run func(im *importer) error
+	im := &importer{s: s, ctx: ctx, ie: ie, opt: opt, cd: &codec{key: s.key}, roster: map[string]bool{}, stmts: map[string]*sql.Stmt{}}
+	f := newCSVFile(name, kind, r)
+	var run func() error
 	switch kind {
 	case Procedures:
-		idx := header(procedureColumns, head, ie)
-		run = func(im *importer) error {
-			return importRows(im, cv, cr, procedureColumns, idx, len(head), im.procedure, logbook.NewProcedure)
-		}
+		run = importFile(im, f, procedureRules, im.procedure)
 	case Lesions:
-		idx := header(lesionColumns, head, ie)
-		run = func(im *importer) error {
-			return importRows(im, cv, cr, lesionColumns, idx, len(head), im.lesion, logbook.NewLesion)
-		}
+		run = importFile(im, f, lesionRules, im.lesion)
 	case Histology:
-		idx := header(histologyColumns, head, ie)
-		run = func(im *importer) error {
-			return importRows(im, cv, cr, histologyColumns, idx, len(head), im.histology, func() logbook.HistologyResult { return logbook.HistologyResult{LesionNo: logbook.NotRecorded} })
-		}
+		run = importFile(im, f, histologyRules, im.histology)
 	default:
 		return ImportResult{}, fmt.Errorf("kind %q is not procedures, lesions or histology", kind)
 	}
-	if ie.any() {
-		return ImportResult{}, ie // header problems: no row is read
+	if run == nil {
+		return ImportResult{}, ie // the first line is not a header: no row can be read
 	}
-	im := &importer{s: s, ctx: ctx, ie: ie, opt: opt, roster: map[string]bool{}, seen: map[string]bool{}, stmts: map[string]*sql.Stmt{}}
-	err = s.inTx(ctx, func(tx *sql.Tx) error {
+	err := s.inTx(ctx, func(tx *sql.Tx) error {
 		im.tx = tx
 		defer func() {
 			for _, st := range im.stmts {
 				st.Close()
 			}
 		}()
-		if err := run(im); err != nil {
+		if err := run(); err != nil {
 			return err
 		}
 		if ie.any() {
@@ -310,7 +571,54 @@ func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader,
 		}
 		return ImportResult{}, fmt.Errorf("import %s: %w; nothing was imported", name, s.explain(err))
 	}
+	im.res.Rows = ie.Rows
 	return im.res, nil
+}
+
+// importFile reads f's header and returns the function that reads its rows
+// into the import, or nil when the file has no header row.
+func importFile[T any](im *importer, f *csvFile, ru rules[T], sink rowSink[T]) func() error {
+	idx, absent, width, ok := header(f, ru.cols, im.ie)
+	if !ok {
+		return nil
+	}
+	return func() error {
+		return readRows(im.ctx, f, ru, idx, absent, width, im.cd, im.s.today(), im.ie, im.opt.Progress, sink)
+	}
+}
+
+// checkFile reads a whole file of the given kind and checks it as Import
+// does, without a database: every value, every row's rules and repeats
+// within the file. It returns the problems found (nil when there are
+// none). key pseudonymises patient references. The fuzz targets run it in
+// memory, thousands of files a second.
+func checkFile(kind Kind, name string, r io.Reader, key []byte, today time.Time) *ImportError {
+	ie := &ImportError{File: name}
+	f := newCSVFile(name, kind, r)
+	cd := &codec{key: key}
+	ctx := context.Background()
+	check := func(ok bool, read func() error) {
+		if ok {
+			if err := read(); err != nil {
+				ie.add(0, "file", err.Error())
+			}
+		}
+	}
+	switch kind {
+	case Procedures:
+		idx, absent, width, ok := header(f, procedureRules.cols, ie)
+		check(ok, func() error { return readRows(ctx, f, procedureRules, idx, absent, width, cd, today, ie, nil, nil) })
+	case Lesions:
+		idx, absent, width, ok := header(f, lesionRules.cols, ie)
+		check(ok, func() error { return readRows(ctx, f, lesionRules, idx, absent, width, cd, today, ie, nil, nil) })
+	case Histology:
+		idx, absent, width, ok := header(f, histologyRules.cols, ie)
+		check(ok, func() error { return readRows(ctx, f, histologyRules, idx, absent, width, cd, today, ie, nil, nil) })
+	}
+	if !ie.any() {
+		return nil
+	}
+	return ie
 }
 
 func csvReason(err error) string {
@@ -321,80 +629,15 @@ func csvReason(err error) string {
 	return err.Error()
 }
 
-// importRows reads every data row, parses it with cols and hands it to
-// store; parse and validation problems accumulate in im.ie.
-func importRows[T any](im *importer, cv *csv.Reader, cr *countingReader, cols []column[T], idx []int, width int,
-	store func(line int, r *T) error, fresh func() T) error {
-	cd := &codec{key: im.s.key}
-	for {
-		if err := im.ctx.Err(); err != nil {
-			return err
-		}
-		rec, err := cv.Read()
-		if err == io.EOF {
-			return nil
-		}
-		if err != nil {
-			var pe *csv.ParseError
-			if errors.As(err, &pe) {
-				im.ie.add(pe.Line, "row", csvReason(err))
-				im.ie.Rows++
-				if pe.Err == csv.ErrFieldCount || pe.Err == csv.ErrQuote || pe.Err == csv.ErrBareQuote {
-					continue
-				}
-			}
-			return err
-		}
-		// Only a record read without error has field positions; asking
-		// after a parse error panics.
-		line, _ := cv.FieldPos(0)
-		im.ie.Rows++
-		im.res.Rows++
-		if im.opt.Progress != nil && im.res.Rows%ProgressEvery == 0 {
-			im.opt.Progress(im.res.Rows, cr.n)
-		}
-		if len(rec) != width {
-			im.ie.add(line, "row", fmt.Sprintf("has %d fields but the header has %d", len(rec), width))
-			continue
-		}
-		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
-			continue // a blank line
-		}
-		r := fresh()
-		if !parseRow(cols, idx, rec, line, cd, &r, im.ie) {
-			continue
-		}
-		if cd.hashed && !im.keyChecked {
-			if err := im.s.checkKey(im.ctx, im.tx); err != nil {
-				return err
-			}
-			im.keyChecked = true
-		}
-		if err := store(line, &r); err != nil {
-			return err
-		}
-	}
-}
-
 func (im *importer) problems(line int, ps logbook.Problems) {
 	for _, p := range ps {
 		im.ie.add(line, p.Field, p.Reason)
 	}
 }
 
-// procedure checks and stores one procedures.csv row.
-func (im *importer) procedure(line int, p *logbook.Procedure) error {
-	ps := logbook.ValidateProcedure(*p, im.s.today())
-	if len(ps) > 0 {
-		im.problems(line, ps)
-		return nil
-	}
-	seenKey := "p" + p.ID
-	if im.seen[seenKey] {
-		im.ie.add(line, "procedure_id", p.ID+" appears more than once in this file")
-		return nil
-	}
-	im.seen[seenKey] = true
+// procedure checks one procedures.csv row against the logbook and stores
+// it.
+func (im *importer) procedure(line int, p *logbook.Procedure, clean bool) error {
 	found, err := im.exists("SELECT 1 FROM procedures WHERE id = ?", p.ID)
 	if err != nil {
 		return err
@@ -403,8 +646,14 @@ func (im *importer) procedure(line int, p *logbook.Procedure) error {
 		im.ie.add(line, "procedure_id", p.ID+" is already in the logbook (import with --update to replace it)")
 		return nil
 	}
-	if im.ie.any() {
+	if !im.writing(clean) {
 		return nil // the import will be refused; keep checking rows without writing
+	}
+	if im.cd.hashed && !im.keyChecked {
+		if err := im.s.checkKey(im.ctx, im.tx); err != nil {
+			return err
+		}
+		im.keyChecked = true
 	}
 	if err := im.ensureOnRoster(p.OperatorID, logbook.RoleEndoscopist); err != nil {
 		return err
@@ -430,19 +679,8 @@ func (im *importer) procedure(line int, p *logbook.Procedure) error {
 	return im.s.logChange(im.ctx, im.tx, "insert", "procedure "+p.ID, nil, recordJSON(procedureColumns, p))
 }
 
-// lesion checks and stores one lesions.csv row.
-func (im *importer) lesion(line int, l *logbook.Lesion) error {
-	ps := logbook.ValidateLesion(*l, im.s.today())
-	if len(ps) > 0 {
-		im.problems(line, ps)
-		return nil
-	}
-	key := fmt.Sprintf("l%s#%d", l.ProcedureID, l.LesionNo)
-	if im.seen[key] {
-		im.ie.add(line, "lesion_no", fmt.Sprintf("lesion %d of procedure %s appears more than once in this file", l.LesionNo, l.ProcedureID))
-		return nil
-	}
-	im.seen[key] = true
+// lesion checks one lesions.csv row against the logbook and stores it.
+func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
 	found, err := im.exists("SELECT 1 FROM procedures WHERE id = ?", l.ProcedureID)
 	if err != nil {
 		return err
@@ -459,7 +697,7 @@ func (im *importer) lesion(line int, l *logbook.Lesion) error {
 		im.ie.add(line, "lesion_no", fmt.Sprintf("procedure %s already has lesion %d (import with --update to replace it)", l.ProcedureID, l.LesionNo))
 		return nil
 	}
-	if im.ie.any() {
+	if !im.writing(clean) {
 		return nil
 	}
 	if have {
@@ -492,19 +730,16 @@ func (im *importer) lesion(line int, l *logbook.Lesion) error {
 	return im.s.logChange(im.ctx, im.tx, "insert", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), nil, recordJSON(lesionStoredColumns, l))
 }
 
-// histology checks and applies one histology.csv row.
-func (im *importer) histology(line int, h *logbook.HistologyResult) error {
-	if ps := logbook.ValidateHistologyResult(*h, im.s.today()); len(ps) > 0 {
+// histology checks one histology.csv row against the lesion it is for and
+// applies it. A row with problems of its own is checked only for its
+// lesion, so that no problem is reported twice.
+func (im *importer) histology(line int, h *logbook.HistologyResult, clean bool) error {
+	if !clean {
+		_, ps, err := findLesion(im.ctx, im.tx, h.ProcedureID, h.LesionNo)
 		im.problems(line, ps)
-		return nil
+		return err
 	}
-	key := fmt.Sprintf("h%s#%d", h.ProcedureID, h.LesionNo)
-	if im.seen[key] {
-		im.ie.add(line, "lesion_no", fmt.Sprintf("a result for lesion %d of procedure %s appears more than once in this file", h.LesionNo, h.ProcedureID))
-		return nil
-	}
-	im.seen[key] = true
-	if im.ie.any() {
+	if !im.writing(clean) {
 		// The import will be refused: go on checking, without writing.
 		_, _, ps, err := im.s.checkHistology(im.ctx, im.tx, *h, im.opt.Update)
 		im.problems(line, ps)

@@ -13,6 +13,8 @@ import (
 	"path/filepath"
 	"runtime"
 	"strings"
+
+	"polypledger/internal/safefile"
 )
 
 // KeyFileName is the unit key's file name inside the config directory.
@@ -67,31 +69,25 @@ func LoadOrCreateKey(dir string) ([]byte, error) {
 	if _, err := rand.Read(key); err != nil {
 		return nil, err
 	}
-	// Write the key under a temporary name and link it into place, so that
-	// a key file is never seen half-written and two programs starting at once
-	// agree on one key: the second finds the first's and uses it.
-	tmp, err := os.CreateTemp(dir, ".unit.key.*")
+	// Write the key under a temporary name (owner-only from the start) and
+	// link it into place, so that a key file is never seen half-written and
+	// two programs starting at once agree on one key: the second finds the
+	// first's and uses it.
+	tmp, err := safefile.Create(path)
 	if err != nil {
 		return nil, fmt.Errorf("cannot create unit key in %s: %w", dir, err)
 	}
-	defer os.Remove(tmp.Name())
-	if err := tmp.Chmod(0o600); err != nil && runtime.GOOS != "windows" {
-		tmp.Close()
-		return nil, fmt.Errorf("cannot protect unit key %s: %w", path, err)
-	}
 	if _, err := tmp.WriteString(hex.EncodeToString(key) + "\n"); err != nil {
 		tmp.Close()
-		return nil, fmt.Errorf("cannot write unit key %s: %w", path, err)
-	}
-	if err := tmp.Sync(); err != nil {
-		tmp.Close()
+		os.Remove(tmp.Name())
 		return nil, fmt.Errorf("cannot write unit key %s: %w", path, err)
 	}
 	if err := tmp.Close(); err != nil {
+		os.Remove(tmp.Name())
 		return nil, fmt.Errorf("cannot write unit key %s: %w", path, err)
 	}
-	if err := os.Link(tmp.Name(), path); err != nil {
-		if errors.Is(err, os.ErrExist) {
+	if err := safefile.Place(tmp.Name(), path, false); err != nil {
+		if errors.Is(err, safefile.ErrExists) {
 			return LoadOrCreateKey(dir) // another program created it first
 		}
 		return nil, fmt.Errorf("cannot create unit key %s: %w", path, err)
@@ -135,4 +131,33 @@ func (s *Store) checkKey(ctx context.Context, tx *sql.Tx) error {
 		return fmt.Errorf("%w; nothing was stored — hospital numbers can be added only under the unit key this database began with: copy that unit.key into your configuration folder (keep a copy of yours first). Exports, metrics and reports do not need it", ErrOtherKey)
 	}
 	return nil
+}
+
+// KeyPermissionWarnings says, one sentence each with the command that
+// fixes it, whether other users of the computer can reach the unit key in
+// dir: a folder or key file with any permission for its group or for
+// others. The program warns and goes on rather than refusing: the key
+// still works, and a key replaced by someone else is caught anyway (the
+// database's key fingerprint); but whoever reads the key can test guessed
+// hospital numbers against the pseudonyms. Nothing is said on Windows,
+// where the folder's access list, not these modes, protects the key.
+func KeyPermissionWarnings(dir string) []string {
+	if runtime.GOOS == "windows" {
+		return nil
+	}
+	var out []string
+	for _, f := range []struct {
+		path, what, mode string
+	}{
+		{dir, "folder", "700"},
+		{filepath.Join(dir, KeyFileName), "file", "600"},
+	} {
+		fi, err := os.Stat(f.path)
+		if err != nil || fi.Mode().Perm()&0o077 == 0 {
+			continue
+		}
+		out = append(out, fmt.Sprintf("warning: other users of this computer can open the unit key's %s %s (mode %04o); make it yours alone with: chmod %s '%s'",
+			f.what, f.path, fi.Mode().Perm(), f.mode, strings.ReplaceAll(f.path, "'", `'\''`)))
+	}
+	return out
 }

@@ -493,23 +493,9 @@ func (s *Store) RecordHistology(ctx context.Context, h logbook.HistologyResult, 
 // and as it would be, or the problems that refuse the result. It writes
 // nothing.
 func (s *Store) checkHistology(ctx context.Context, q querier, h logbook.HistologyResult, correct bool) (old, updated logbook.Lesion, ps logbook.Problems, err error) {
-	ls, err := getLesions(ctx, q, h.ProcedureID)
-	if err != nil {
-		return old, updated, nil, err
-	}
-	found := false
-	for _, l := range ls {
-		if l.LesionNo == h.LesionNo {
-			old, found = l, true
-		}
-	}
-	if !found {
-		if _, there, err := getProcedure(ctx, q, h.ProcedureID); err != nil {
-			return old, updated, nil, err
-		} else if !there {
-			return old, updated, logbook.Problems{{Field: "procedure_id", Reason: h.ProcedureID + " is not in the logbook"}}, nil
-		}
-		return old, updated, logbook.Problems{{Field: "lesion_no", Reason: fmt.Sprintf("procedure %s has no lesion %d", h.ProcedureID, h.LesionNo)}}, nil
+	old, ps, err = findLesion(ctx, q, h.ProcedureID, h.LesionNo)
+	if err != nil || len(ps) > 0 {
+		return old, updated, ps, err
 	}
 	if old.Histology.IsFinal() && !correct && !sameResult(old, h) {
 		when := "no report date recorded"
@@ -521,6 +507,26 @@ func (s *Store) checkHistology(ctx context.Context, q querier, h logbook.Histolo
 	updated = old
 	updated.Histology, updated.Dysplasia, updated.ReportedOn = h.Histology, h.Dysplasia, h.ReportedOn
 	return old, updated, logbook.ValidateLesion(updated, s.today()), nil
+}
+
+// findLesion reads a stored lesion, or says that it or its procedure is
+// not in the logbook.
+func findLesion(ctx context.Context, q querier, procedureID string, no int) (logbook.Lesion, logbook.Problems, error) {
+	ls, err := getLesions(ctx, q, procedureID)
+	if err != nil {
+		return logbook.Lesion{}, nil, err
+	}
+	for _, l := range ls {
+		if l.LesionNo == no {
+			return l, nil, nil
+		}
+	}
+	if _, there, err := getProcedure(ctx, q, procedureID); err != nil {
+		return logbook.Lesion{}, nil, err
+	} else if !there {
+		return logbook.Lesion{}, logbook.Problems{{Field: "procedure_id", Reason: procedureID + " is not in the logbook"}}, nil
+	}
+	return logbook.Lesion{}, logbook.Problems{{Field: "lesion_no", Reason: fmt.Sprintf("procedure %s has no lesion %d", procedureID, no)}}, nil
 }
 
 // sameResult reports whether h repeats the lesion's recorded result: the

@@ -599,17 +599,61 @@ func TestSafeCell(t *testing.T) {
 		{"-NaN", "'-NaN"},
 		{"-0x1p3", "'-0x1p3"},
 		{"a=b", "a=b"},
-		{"'=1", "'=1"},
+		// Full-width forms, which some spreadsheets read as the plain ones.
+		{"＝1+1", "'＝1+1"},
+		{"＋1", "'＋1"},
+		{"－1", "'－1"},
+		{"＠A1", "'＠A1"},
+		// A value that really begins with apostrophes before a formula
+		// gets one more, so that PlainCell can tell the two apart.
+		{"'=1", "''=1"},
+		{"''+1", "'''+1"},
+		{"'-12", "'-12"},
+		{"'abc", "'abc"},
+		{"'", "'"},
 	} {
 		if got := SafeCell(tc.in); got != tc.want {
 			t.Errorf("SafeCell(%q) = %q, want %q", tc.in, got, tc.want)
 		}
+		if back := PlainCell(SafeCell(tc.in)); back != tc.in {
+			t.Errorf("PlainCell(SafeCell(%q)) = %q", tc.in, back)
+		}
+	}
+	// A hand-typed apostrophe before a formula is the spreadsheet's own
+	// text marker, and is read as such.
+	for _, tc := range []struct{ in, want string }{
+		{"'=1", "=1"}, {"'＝1", "＝1"}, {"'abc", "'abc"}, {"'-12", "'-12"}, {"-12", "-12"}, {"''=1", "'=1"},
+	} {
+		if got := PlainCell(tc.in); got != tc.want {
+			t.Errorf("PlainCell(%q) = %q, want %q", tc.in, got, tc.want)
+		}
 	}
 }
 
-// formulaLike reports whether a cell would be read as a formula.
+// FuzzSafeCell: PlainCell undoes SafeCell for any value, and SafeCell's
+// result never starts a formula except behind an apostrophe.
+func FuzzSafeCell(f *testing.F) {
+	for _, s := range []string{"", "=1", "'=1", "''", "-12", "-1e5", "－1", "'", "a"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, v string) {
+		out := SafeCell(v)
+		if back := PlainCell(out); back != v {
+			t.Errorf("PlainCell(SafeCell(%q)) = %q", v, back)
+		}
+		if out != v && out != "'"+v {
+			t.Errorf("SafeCell(%q) = %q: more than one apostrophe added", v, out)
+		}
+		if !strings.HasPrefix(out, "'") && needsApostrophe(out) {
+			t.Errorf("SafeCell(%q) = %q still starts like a formula", v, out)
+		}
+	})
+}
+
+// formulaLike reports whether a cell would be read as a formula: it
+// starts like one, not behind an apostrophe.
 func formulaLike(cell string) bool {
-	return cell != "" && SafeCell(cell) != cell
+	return !strings.HasPrefix(cell, "'") && needsApostrophe(cell)
 }
 
 // TestExportNeutralisesHostileValues imports identifiers that validation
@@ -738,7 +782,7 @@ func TestNoHospitalNumberAtRest(t *testing.T) {
 	noHospitalNumbers(t, "the write-ahead log", wal)
 	noHospitalNumbers(t, "the database file (store open)", readOrEmpty(t, db))
 	backup := filepath.Join(dir, "backup.db")
-	if err := s.Backup(context.Background(), backup); err != nil {
+	if err := s.Backup(context.Background(), backup, false); err != nil {
 		t.Fatal(err)
 	}
 	noHospitalNumbers(t, "the backup", readOrEmpty(t, backup))

@@ -14,10 +14,13 @@ import (
 	"io"
 	"net/url"
 	"os"
+	"path/filepath"
 	"strings"
 
 	"modernc.org/sqlite"
 	sqlite3 "modernc.org/sqlite/lib"
+
+	"polypledger/internal/safefile"
 )
 
 // applicationID marks a SQLite file as a polypledger database ("PlPg").
@@ -268,4 +271,241 @@ func isCorrupt(err error) bool {
 		return c == sqlite3.SQLITE_CORRUPT || c == sqlite3.SQLITE_NOTADB
 	}
 	return false
+}
+
+// IsDatabaseFile reports whether the file at path is a SQLite database
+// (by its first 16 bytes), whoever's it is; outputs never replace one.
+func IsDatabaseFile(path string) bool {
+	f, err := os.Open(path)
+	if err != nil {
+		return false
+	}
+	defer f.Close()
+	buf := make([]byte, len(sqliteHeader))
+	_, err = io.ReadFull(f, buf)
+	return err == nil && string(buf) == sqliteHeader
+}
+
+// journalSuffixes are the files SQLite keeps beside a database.
+var journalSuffixes = []string{"-wal", "-shm", "-journal"}
+
+// JournalOf reports whether path names one of the files SQLite keeps
+// beside a database (its write-ahead log, shared memory or rollback
+// journal), and which database.
+func JournalOf(path string) (db string, ok bool) {
+	for _, suf := range journalSuffixes {
+		if base, found := strings.CutSuffix(path, suf); found && base != "" {
+			return base, true
+		}
+	}
+	return "", false
+}
+
+// hasLog reports whether a non-empty write-ahead log lies beside path.
+func hasLog(path string) bool {
+	fi, err := os.Stat(path + "-wal")
+	return err == nil && fi.Size() > 0
+}
+
+// tempDatabase makes an empty, owner-only temporary file beside path for a
+// database to be built in (a new database, or a backup copy) and returns
+// its name; the caller removes it, and its journals, if it is not placed.
+func tempDatabase(path string) (string, error) {
+	f, err := safefile.Create(path)
+	if err != nil {
+		return "", err
+	}
+	return f.Name(), f.Close()
+}
+
+// removeJournals removes the files SQLite keeps beside a database that is
+// being thrown away.
+func removeJournals(path string) {
+	for _, suf := range journalSuffixes {
+		os.Remove(path + suf)
+	}
+}
+
+// examine looks at a SQLite file whose header does not mark it as a
+// polypledger database — a blank SQLite file, another program's database,
+// or one of ours whose first pages still lie in its write-ahead log —
+// without any side effect: through SQLite's immutable mode, which makes no
+// journal file and takes no lock, or, when a write-ahead log lies beside
+// it, on a private copy of the file and its log. It refuses another
+// program's database, and for reading a blank one; path is the file and
+// name what messages call it.
+func examine(ctx context.Context, path, name string, readOnly bool) error {
+	uri := "file:" + (&url.URL{Path: path}).EscapedPath() + "?mode=ro&immutable=1"
+	if hasLog(path) {
+		dir, err := os.MkdirTemp("", "polypledger-examine-*")
+		if err != nil {
+			return fmt.Errorf("cannot examine %s: %w", name, err)
+		}
+		defer os.RemoveAll(dir)
+		cp := filepath.Join(dir, "db")
+		for _, suf := range []string{"", "-wal"} {
+			if err := copyPrivate(path+suf, cp+suf); err != nil {
+				return fmt.Errorf("cannot examine %s: %w", name, err)
+			}
+		}
+		uri = "file:" + (&url.URL{Path: cp}).EscapedPath()
+	}
+	db, err := sql.Open(driverName, uri)
+	if err != nil {
+		return fmt.Errorf("cannot examine %s: %w", name, err)
+	}
+	defer db.Close()
+	db.SetMaxOpenConns(1)
+	var id int64
+	var version, tables int
+	err = db.QueryRowContext(ctx, "SELECT (SELECT application_id FROM pragma_application_id), (SELECT user_version FROM pragma_user_version), (SELECT count(*) FROM sqlite_master)").Scan(&id, &version, &tables)
+	switch {
+	case err != nil && isCorrupt(err):
+		return fmt.Errorf("%s looks damaged or is not a polypledger database; it was left untouched — restore it from a backup: %v", name, err)
+	case err != nil:
+		return fmt.Errorf("cannot examine %s: %w", name, err)
+	case uint32(id) == applicationID:
+		return nil // ours: its header is in the log
+	case id != 0 || version != 0 || tables > 0:
+		return fmt.Errorf("%s is a SQLite database of another program, not a polypledger database; it was left untouched", name)
+	case readOnly:
+		return fmt.Errorf("%s is an empty SQLite database that holds no polypledger data yet; it was left untouched", name)
+	}
+	return nil
+}
+
+// copyPrivate copies a file's bytes to a new file readable by its owner
+// only.
+func copyPrivate(src, dst string) error {
+	in, err := os.Open(src)
+	if err != nil {
+		return err
+	}
+	defer in.Close()
+	out, err := os.OpenFile(dst, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o600)
+	if err != nil {
+		return err
+	}
+	if _, err := io.Copy(out, in); err != nil {
+		out.Close()
+		return err
+	}
+	return out.Close()
+}
+
+// ErrDamaged is matched (errors.Is) by the error of a write or backup
+// refused because the database fails SQLite's quick integrity check.
+var ErrDamaged = errors.New("the database is damaged")
+
+// quickCheck runs SQLite's quick integrity check, which reads every page
+// (but does not match indexes to their tables), and refuses a database
+// that fails it.
+func quickCheck(ctx context.Context, q querier) error {
+	rows, err := q.QueryContext(ctx, "PRAGMA quick_check(3)")
+	if err != nil {
+		if isCorrupt(err) {
+			return fmt.Errorf("%w: %v; nothing was written to it — run polypledger check for the details, and restore it from a backup", ErrDamaged, err)
+		}
+		return err
+	}
+	defer rows.Close()
+	var found []string
+	for rows.Next() {
+		var s string
+		if err := rows.Scan(&s); err != nil {
+			return err
+		}
+		if s != "ok" {
+			found = append(found, s)
+		}
+	}
+	if err := rows.Err(); err != nil {
+		if isCorrupt(err) {
+			return fmt.Errorf("%w: %v; nothing was written to it — run polypledger check for the details, and restore it from a backup", ErrDamaged, err)
+		}
+		return err
+	}
+	if len(found) > 0 {
+		return fmt.Errorf("%w: it fails SQLite's quick integrity check (%s); nothing was written to it — run polypledger check for the details, and restore it from a backup", ErrDamaged, strings.Join(found, "; "))
+	}
+	return nil
+}
+
+// verifyCopy checks a backup copy on its own: SQLite's full integrity and
+// foreign-key checks, the polypledger application id and the schema
+// version of the database it was copied from.
+func verifyCopy(ctx context.Context, path string, version int) error {
+	db, err := sql.Open(driverName, "file:"+(&url.URL{Path: path}).EscapedPath()+"?mode=ro&immutable=1")
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	findings, err := integrityFindings(ctx, db)
+	if err != nil {
+		return err
+	}
+	if len(findings) > 0 {
+		return errors.New(strings.Join(findings, "; "))
+	}
+	id, err := applicationIDOf(ctx, db)
+	if err != nil {
+		return err
+	}
+	v, err := schemaVersion(ctx, db)
+	if err != nil {
+		return err
+	}
+	if id != applicationID || v != version {
+		return fmt.Errorf("it has application id %#x and schema %d, not %#x and %d", id, v, applicationID, version)
+	}
+	return nil
+}
+
+// CheckOutput refuses to let a file written at out replace what it must
+// not: the database at db (compared as files, so that another name for it
+// is caught too) or one of its journals, any SQLite database or journal, a
+// folder, and, unless replace is set, any file at all. Exports, reports and
+// backups pass their target through it before they write.
+func CheckOutput(out, db string, replace bool) error {
+	if base, ok := JournalOf(out); ok && (IsDatabaseFile(base) || sameFile(base, db)) {
+		return fmt.Errorf("%s belongs to the database %s; choose another name", out, base)
+	}
+	fi, err := os.Stat(out)
+	if errors.Is(err, os.ErrNotExist) {
+		return nil
+	}
+	if err != nil {
+		return err
+	}
+	switch {
+	case fi.IsDir():
+		return fmt.Errorf("%s is a folder; name a file", out)
+	case db != "" && sameFile(out, db):
+		return fmt.Errorf("%s is the database itself; choose another name", out)
+	case IsDatabaseFile(out):
+		return fmt.Errorf("%s is a database; it is never replaced — choose another name", out)
+	case !replace:
+		return existsError{out}
+	}
+	return nil
+}
+
+// existsError is an output that would replace an existing file; it
+// matches ErrExists.
+type existsError struct{ path string }
+
+func (e existsError) Error() string        { return e.path + " already exists; choose another name" }
+func (e existsError) Is(target error) bool { return target == ErrExists }
+
+// sameFile reports whether two paths name the same existing file.
+func sameFile(a, b string) bool {
+	if a == "" || b == "" {
+		return false
+	}
+	fa, err := os.Stat(a)
+	if err != nil {
+		return false
+	}
+	fb, err := os.Stat(b)
+	return err == nil && os.SameFile(fa, fb)
 }

@@ -21,6 +21,7 @@ import (
 	"sync"
 	"time"
 
+	"polypledger/internal/safefile"
 	"polypledger/logbook"
 )
 
@@ -85,6 +86,10 @@ type Options struct {
 	// ReadOnly opens the database for reading only; it is never created or
 	// migrated.
 	ReadOnly bool
+	// KeepSchema, with ReadOnly, opens a database of an older schema as it
+	// is, for Backup, which copies it unchanged; other reads need the
+	// current schema.
+	KeepSchema bool
 	// User names the person in the change log; the OS user when empty.
 	User string
 	// migrateTo stops migration at a version (tests of upgrades only).
@@ -114,10 +119,17 @@ type querier interface {
 	ExecContext(ctx context.Context, query string, args ...any) (sql.Result, error)
 }
 
-// Open opens the database at path, creating it (mode 0600) and applying any
-// pending migrations, each in its own transaction. A file that is not a
-// polypledger database, is truncated, or was written by a newer schema is
-// refused with a message saying so, and is left as it was.
+// Open opens the database at path, applying any pending migrations, each
+// in its own transaction. A database that does not exist yet is made by
+// Create (complete, or not at all) unless opt.ReadOnly is set.
+//
+// A file is first read without SQLite, and one not known to be a
+// polypledger database is examined read-only with no side effect at all
+// (no journal files made, no checkpoint, nothing migrated). A file that is
+// empty, not a polypledger database, truncated, or written by a newer
+// schema is refused with a message saying which, and is left exactly as it
+// was; so is, for writing, a database that fails SQLite's quick integrity
+// check.
 func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 	if path == "" {
 		return nil, errors.New("no database path given")
@@ -130,18 +142,98 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := h.vet(path, SchemaVersion); err != nil {
-		return nil, err
-	}
 	if !h.exists {
 		if opt.ReadOnly {
 			return nil, fmt.Errorf("database %s does not exist", path)
 		}
-		if err := createFile(abs); err != nil {
+		if err := Create(ctx, path, opt, nil); err != nil && !errors.Is(err, ErrExists) {
+			return nil, err
+		}
+		// Made now, by this call or by another program a moment earlier.
+		if h, err = readHeader(abs); err != nil {
 			return nil, err
 		}
 	}
-	s := &Store{path: abs, key: opt.Key, now: opt.Now, user: opt.User, busy: opt.BusyTimeout, readOnly: opt.ReadOnly}
+	if h.empty {
+		return nil, fmt.Errorf("%s is an empty file (0 bytes), not a polypledger database; it was left untouched — to start a new database there, delete the empty file first, or name a file that does not exist yet", path)
+	}
+	if err := h.vet(path, SchemaVersion); err != nil {
+		return nil, err
+	}
+	if h.applicationID != applicationID {
+		if err := examine(ctx, abs, path, opt.ReadOnly); err != nil {
+			return nil, err
+		}
+	}
+	return open(ctx, abs, path, opt)
+}
+
+// ErrExists is matched (errors.Is) by Create's error when the database
+// already exists. It is fs.ErrExist.
+var ErrExists = safefile.ErrExists
+
+// Create makes a new database at path and, when fill is set, fills it
+// before anyone else can see it. The database is built, migrated and
+// filled under a temporary name beside path, readable by its owner only,
+// and only the complete database is put at path — by a link, which never
+// replaces a file: if path exists already, or another program creates it
+// meanwhile, Create returns an error matching ErrExists, path is left as it
+// is and this call's work is discarded (the caller may open the existing
+// database instead). A failed or cancelled fill leaves no file behind, so
+// nothing ever has to be deleted at path; what a killed Create leaves under
+// its temporary name is removed by the next one.
+func Create(ctx context.Context, path string, opt Options, fill func(*Store) error) error {
+	if path == "" {
+		return errors.New("no database path given")
+	}
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return fmt.Errorf("database %s: %w", path, err)
+	}
+	if _, err := os.Lstat(abs); err == nil {
+		return fmt.Errorf("database %s: %w", path, ErrExists)
+	}
+	dir := filepath.Dir(abs)
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return fmt.Errorf("cannot create folder %s for the database: %w", dir, err)
+	}
+	tmp, err := tempDatabase(abs)
+	if err != nil {
+		return fmt.Errorf("cannot create database %s: %w", path, err)
+	}
+	defer removeJournals(tmp)
+	opt.ReadOnly = false
+	s, err := open(ctx, tmp, path, opt)
+	if err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	if fill != nil {
+		err = fill(s)
+	}
+	if cerr := s.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil && hasLog(tmp) {
+		err = fmt.Errorf("database %s: its write-ahead log was not folded in on closing", path)
+	}
+	if err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	if err := safefile.Place(tmp, abs, false); err != nil {
+		if errors.Is(err, ErrExists) {
+			return fmt.Errorf("database %s: %w (another program created it meanwhile)", path, ErrExists)
+		}
+		return fmt.Errorf("cannot create database %s: %w", path, err)
+	}
+	return nil
+}
+
+// open opens a database file that is known to be sound enough to open:
+// path is the file, name what messages call it.
+func open(ctx context.Context, path, name string, opt Options) (*Store, error) {
+	s := &Store{path: path, key: opt.Key, now: opt.Now, user: opt.User, busy: opt.BusyTimeout, readOnly: opt.ReadOnly}
 	if s.now == nil {
 		s.now = time.Now
 	}
@@ -151,29 +243,16 @@ func Open(ctx context.Context, path string, opt Options) (*Store, error) {
 	if s.user == "" {
 		s.user = osUser()
 	}
-	db, err := sql.Open(driverName, dsn(abs, int(s.busy/time.Millisecond), opt.ReadOnly))
+	db, err := sql.Open(driverName, dsn(path, int(s.busy/time.Millisecond), opt.ReadOnly))
 	if err != nil {
-		return nil, fmt.Errorf("database %s: %w", path, err)
+		return nil, fmt.Errorf("database %s: %w", name, err)
 	}
 	s.db = db
-	if err := s.setUp(ctx, opt.migrateTo); err != nil {
+	if err := s.setUp(ctx, opt.migrateTo, opt.KeepSchema); err != nil {
 		db.Close()
-		return nil, fmt.Errorf("database %s: %w", path, s.explain(err))
+		return nil, fmt.Errorf("database %s: %w", name, s.explain(err))
 	}
 	return s, nil
-}
-
-// createFile creates an empty database file readable by its owner only.
-func createFile(path string) error {
-	dir := filepath.Dir(path)
-	if err := os.MkdirAll(dir, 0o700); err != nil {
-		return fmt.Errorf("cannot create folder %s for the database: %w", dir, err)
-	}
-	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
-	if err != nil {
-		return fmt.Errorf("cannot create database %s: %w", path, err)
-	}
-	return f.Close()
 }
 
 func osUser() string {
@@ -188,9 +267,10 @@ func osUser() string {
 	return "unknown"
 }
 
-// setUp checks the schema as SQLite reports it, switches to WAL and
-// migrates.
-func (s *Store) setUp(ctx context.Context, stopAt int) error {
+// setUp checks the schema as SQLite reports it and, for writing, checks
+// the file's soundness, switches to WAL and migrates. keepSchema lets a
+// read-only store open an older schema as it is (for Backup).
+func (s *Store) setUp(ctx context.Context, stopAt int, keepSchema bool) error {
 	v, err := schemaVersion(ctx, s.db)
 	if err != nil {
 		return err
@@ -216,10 +296,15 @@ func (s *Store) setUp(ctx context.Context, stopAt int) error {
 		}
 	}
 	if s.readOnly {
-		if v < SchemaVersion {
+		if v < SchemaVersion && !keepSchema {
 			return fmt.Errorf("it has schema %d and must be upgraded to %d; open it once for writing", v, SchemaVersion)
 		}
 		return nil
+	}
+	if v > 0 {
+		if err := quickCheck(ctx, s.db); err != nil {
+			return err
+		}
 	}
 	if err := useWAL(ctx, s.db); err != nil {
 		return err
@@ -228,7 +313,9 @@ func (s *Store) setUp(ctx context.Context, stopAt int) error {
 }
 
 // migrate applies the migrations after version from, each in its own
-// transaction together with the new version number.
+// transaction together with the new version number. Each transaction reads
+// the version again, so that two programs opening an old database at once
+// do not both apply a step: the second finds it done.
 func (s *Store) migrate(ctx context.Context, from, stopAt int) error {
 	ms, err := migrations()
 	if err != nil {
@@ -239,6 +326,9 @@ func (s *Store) migrate(ctx context.Context, from, stopAt int) error {
 			continue
 		}
 		err := s.inTx(ctx, func(tx *sql.Tx) error {
+			if v, err := schemaVersion(ctx, tx); err != nil || v >= m.version {
+				return err
+			}
 			if _, err := tx.ExecContext(ctx, m.sql); err != nil {
 				return fmt.Errorf("migration %s: %w", m.name, err)
 			}

@@ -12,6 +12,7 @@ import (
 	"database/sql"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -20,6 +21,7 @@ import (
 	"testing"
 	"time"
 
+	"polypledger/internal/safefile"
 	"polypledger/logbook"
 )
 
@@ -58,7 +60,7 @@ func utHash(t *testing.T, path string) [32]byte {
 	t.Helper()
 	b, err := os.ReadFile(path)
 	if err != nil {
-		t.Fatal(err)
+		return sha256.Sum256([]byte("unreadable: " + err.Error())) // a folder, or no file
 	}
 	return sha256.Sum256(b)
 }
@@ -647,6 +649,53 @@ func TestCheckFindsPlantedProblems(t *testing.T) {
 	}
 }
 
+// TestCheckNamesUnreadableValuesAndGoesOn plants stored values the program
+// cannot read in many procedures and lesions (more than one read batch):
+// Check names each one's record and column and goes on to the records
+// after it, and the ordinary stream stops with an error naming the first
+// record, not some other one.
+func TestCheckNamesUnreadableValuesAndGoesOn(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "check.db")
+	s := utOpen(t, path, Options{})
+	utAddRoster(t, s)
+	for i := range 1200 {
+		if err := s.SaveCase(ctx, utCase(fmt.Sprintf("P%04d", i)), true); err != nil {
+			t.Fatal(err)
+		}
+	}
+	raw := utRaw(t, path)
+	for _, q := range []string{
+		"UPDATE procedures SET age = 'abc' WHERE id = 'P0005'",
+		"UPDATE procedures SET performed_on = '2026-13-45' WHERE id = 'P0700'",
+		"UPDATE lesions SET segment = 'x' WHERE procedure_id = 'P0003' AND lesion_no = 2",
+		"UPDATE lesions SET size_mm = 900 WHERE procedure_id = 'P1100' AND lesion_no = 1",
+	} {
+		if _, err := raw.ExecContext(ctx, q); err != nil {
+			t.Fatalf("%s: %v", q, err)
+		}
+	}
+	findings, err := s.Check(ctx)
+	if err != nil {
+		t.Fatalf("Check stopped: %v", err)
+	}
+	want := []string{
+		`procedure P0005: stored age: "abc" is not a whole number of zero or more`,
+		`procedure P0700: stored performed_on: "2026-13-45" is not a real calendar date (YYYY-MM-DD)`,
+		`lesion P0003#2: stored segment: "x" is not one of caecum, ascending, hepatic_flexure, transverse, splenic_flexure, descending, sigmoid, rectum`,
+		"lesion P1100#1: size_mm: 900 is outside 1–150",
+	}
+	slices.Sort(findings)
+	slices.Sort(want)
+	if !reflect.DeepEqual(findings, want) {
+		t.Errorf("findings\n got %q\nwant %q", findings, want)
+	}
+	err = s.ForEachCase(ctx, CaseFilter{}, func(*logbook.Case) error { return nil })
+	if err == nil || !strings.Contains(err.Error(), "P0003#2: stored segment") && !strings.Contains(err.Error(), "procedure P0005: stored age") {
+		t.Errorf("the stream's error %v does not name the unreadable record", err)
+	}
+}
+
 func TestBackup(t *testing.T) {
 	ctx := context.Background()
 	dir := t.TempDir()
@@ -658,7 +707,7 @@ func TestBackup(t *testing.T) {
 		}
 	}
 	out := filepath.Join(dir, "copy.db")
-	if err := s.Backup(ctx, out); err != nil {
+	if err := s.Backup(ctx, out, false); err != nil {
 		t.Fatal(err)
 	}
 	st, err := os.Stat(out)
@@ -687,12 +736,41 @@ func TestBackup(t *testing.T) {
 	if !reflect.DeepEqual(origLog, copyLog) {
 		t.Error("the backup's change log differs")
 	}
-	before := utHash(t, out)
-	if err := s.Backup(ctx, out); err == nil || !strings.Contains(err.Error(), "already exists") {
-		t.Errorf("backup over an existing file: %v", err)
+	// What a backup may not replace, even when told to replace files.
+	notes := filepath.Join(dir, "notes.txt")
+	os.WriteFile(notes, []byte("somebody's notes"), 0o600)
+	for _, tc := range []struct {
+		out     string
+		replace bool
+		want    string
+	}{
+		{out, false, "is a database; it is never replaced"},
+		{out, true, "is a database; it is never replaced"},
+		{s.Path(), true, "is the database itself"},
+		{filepath.Join(dir, ".", "unit.db"), true, "is the database itself"},
+		{s.Path() + "-wal", true, "belongs to the database"},
+		{s.Path() + "-shm", true, "belongs to the database"},
+		{notes, false, "already exists; choose another name"},
+		{dir, true, "is a folder"},
+	} {
+		before := utHash(t, tc.out)
+		err := s.Backup(ctx, tc.out, tc.replace)
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("backup to %s (replace %v): %v, want it refused saying %q", tc.out, tc.replace, err, tc.want)
+		}
+		if utHash(t, tc.out) != before {
+			t.Errorf("a refused backup changed %s", tc.out)
+		}
 	}
-	if utHash(t, out) != before {
-		t.Error("a refused backup changed the existing file")
+	// A file that is not a database may be replaced when asked.
+	if err := s.Backup(ctx, notes, true); err != nil {
+		t.Errorf("backup replacing a text file when asked: %v", err)
+	}
+	entries, _ := os.ReadDir(dir)
+	for _, e := range entries {
+		if safefile.IsTemp(e.Name()) {
+			t.Errorf("a temporary file %s was left behind", e.Name())
+		}
 	}
 }
 
@@ -714,6 +792,90 @@ func TestSettingsRoundTrip(t *testing.T) {
 		var ve *ValidationError
 		if err := s.SaveSettings(ctx, bad); !errors.As(err, &ve) {
 			t.Errorf("SaveSettings(%+v) = %v, want a ValidationError", bad, err)
+		}
+	}
+}
+
+// TestOpenOursWithHeaderInLog: a polypledger database that an older
+// program was killed while creating — the main file holds no more than
+// SQLite's header, the schema and a procedure are still in the write-ahead
+// log — is recognised as ours (from a private copy of the file and its
+// log) and opened with its data.
+func TestOpenOursWithHeaderInLog(t *testing.T) {
+	ctx := context.Background()
+	dir := t.TempDir()
+	src := filepath.Join(dir, "src.db")
+	raw := utRaw(t, src)
+	raw.SetMaxOpenConns(1)
+	ms, err := migrations()
+	if err != nil {
+		t.Fatal(err)
+	}
+	stmts := []string{"PRAGMA journal_mode=WAL", "PRAGMA wal_autocheckpoint=0"}
+	for _, m := range ms {
+		stmts = append(stmts, m.sql)
+	}
+	stmts = append(stmts, fmt.Sprintf("PRAGMA user_version = %d", len(ms)), fmt.Sprintf("PRAGMA application_id = %d", applicationID),
+		"INSERT INTO roster (id, name, role) VALUES ('E01', '', 'endoscopist')",
+		"INSERT INTO procedures (id, performed_on, operator_id, age, sex, indication, extent) VALUES ('P1', '2026-01-05', 'E01', 60, 'F', 'screening', 'caecum')")
+	for _, q := range stmts {
+		if _, err := raw.ExecContext(ctx, q); err != nil {
+			t.Fatalf("%.60s: %v", q, err)
+		}
+	}
+	path := filepath.Join(dir, "unit.db")
+	for _, suf := range []string{"", "-wal"} {
+		b, err := os.ReadFile(src + suf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		os.WriteFile(path+suf, b, 0o600)
+	}
+	raw.Close()
+	h, err := readHeader(path)
+	if err != nil || h.applicationID == applicationID || !h.wal {
+		t.Fatalf("the main file already says it is ours (%+v, %v): the test would prove nothing", h, err)
+	}
+	s := utOpen(t, path, Options{})
+	if c, err := s.Case(ctx, "P1"); err != nil || c.OperatorID != "E01" {
+		t.Errorf("the procedure in the log: %+v, %v", c.Procedure, err)
+	}
+}
+
+// TestOpenersOfAnOldDatabaseMigrateOnce opens a schema-1 database from
+// several connection pools at once, as several programs starting
+// together would: each upgrade step is applied once, and every opener
+// succeeds.
+func TestOpenersOfAnOldDatabaseMigrateOnce(t *testing.T) {
+	ctx := context.Background()
+	for round := range 5 {
+		path := filepath.Join(t.TempDir(), fmt.Sprintf("old%d.db", round))
+		old := utOpen(t, path, Options{migrateTo: 1})
+		utAddRoster(t, old)
+		if err := old.Close(); err != nil {
+			t.Fatal(err)
+		}
+		errs := make(chan error, 4)
+		for range 4 {
+			go func() {
+				s, err := Open(ctx, path, Options{BusyTimeout: time.Minute})
+				if err == nil {
+					err = s.Close()
+				}
+				errs <- err
+			}()
+		}
+		for range 4 {
+			if err := <-errs; err != nil {
+				t.Errorf("round %d: an opener failed: %v", round, err)
+			}
+		}
+		s := utOpen(t, path, Options{ReadOnly: true})
+		if v, _ := s.Version(ctx); v != SchemaVersion {
+			t.Errorf("round %d: schema %d after the openers, want %d", round, v, SchemaVersion)
+		}
+		if findings, err := s.Check(ctx); err != nil || len(findings) > 0 {
+			t.Errorf("round %d: check: %q, %v", round, findings, err)
 		}
 	}
 }

@@ -94,8 +94,10 @@ func streamQueries(f CaseFilter) (procSQL, lesionSQL string, args []any) {
 	return procSQL, lesionSQL, args
 }
 
-// unpack fills r from one packed row.
-func unpack[T any](cols []column[T], row []byte, r *T, rc *rawCache) error {
+// unpack fills r from one packed row. A value that cannot be read is
+// passed to bad, when it is set, and the rest of the row is read;
+// otherwise it stops the row with an error naming the column.
+func unpack[T any](cols []column[T], row []byte, r *T, rc *rawCache, bad func(column string, err error)) error {
 	for i := range cols {
 		var field []byte
 		if j := bytes.IndexByte(row, fieldSep); j >= 0 {
@@ -111,14 +113,33 @@ func unpack[T any](cols []column[T], row []byte, r *T, rc *rawCache) error {
 			continue
 		}
 		if err := c.loadStored(r, string(field)); err != nil {
-			return fmt.Errorf("stored %s: %w", c.name, err)
+			if bad == nil {
+				return fmt.Errorf("stored %s: %w", c.name, err)
+			}
+			bad(c.name, err)
 		}
 	}
 	return nil
 }
 
-// produce runs query on tx and sends parsed batches on out until done.
-func produce[T any](ctx context.Context, tx *sql.Tx, query string, args []any, cols []column[T], fresh func() T, free chan []T, out chan<- []T) error {
+// unreadable receives, when set, each stored value a stream cannot read —
+// the record it belongs to ("procedure P1", "lesion P1#2"), its column and
+// why — and the stream goes on; otherwise such a value ends the stream with
+// an error naming all three. It may be called from several goroutines, and
+// always before the record reaches the caller.
+type unreadable func(record, column string, err error)
+
+// procedureName and lesionName name stored records in messages.
+func procedureName(p *logbook.Procedure) string { return "procedure " + p.ID }
+
+func lesionName(l *logbook.Lesion) string {
+	return fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo)
+}
+
+// produce runs query on tx and sends parsed batches on out until done;
+// name names a record in messages.
+func produce[T any](ctx context.Context, tx *sql.Tx, query string, args []any, cols []column[T], fresh func() T, name func(*T) string,
+	onBad unreadable, free chan []T, out chan<- []T) error {
 	defer close(out)
 	rows, err := tx.QueryContext(ctx, query, args...)
 	if err != nil {
@@ -134,8 +155,19 @@ func produce[T any](ctx context.Context, tx *sql.Tx, query string, args []any, c
 			return err
 		}
 		r := fresh()
-		if err := unpack(cols, raw, &r, &rc); err != nil {
-			return err
+		var bad func(column string, err error)
+		var problems []func()
+		if onBad != nil {
+			// The record is named once the whole row is read.
+			bad = func(column string, err error) {
+				problems = append(problems, func() { onBad(name(&r), column, err) })
+			}
+		}
+		if err := unpack(cols, raw, &r, &rc, bad); err != nil {
+			return fmt.Errorf("%s: %w", name(&r), err)
+		}
+		for _, p := range problems {
+			p()
 		}
 		batch = append(batch, r)
 		if len(batch) == batchSize {
@@ -200,8 +232,15 @@ func (s *stream[T]) next() { s.i++ }
 // stored (an import's rows in file order), one at a time, from one
 // consistent snapshot of the database; the case passed
 // to fn is reused for the next one, so fn must not keep it. Returning an
-// error from fn stops the stream with that error.
+// error from fn stops the stream with that error. A stored value that
+// cannot be read stops it with an error naming the record and column.
 func (s *Store) ForEachCase(parent context.Context, f CaseFilter, fn func(*logbook.Case) error) error {
+	return s.forEachCase(parent, f, fn, nil)
+}
+
+// forEachCase is ForEachCase; with onBad set, unreadable stored values are
+// handed to it and the stream goes on (Check lists them all).
+func (s *Store) forEachCase(parent context.Context, f CaseFilter, fn func(*logbook.Case) error, onBad unreadable) error {
 	db, err := s.readPool()
 	if err != nil {
 		return s.explain(err)
@@ -227,11 +266,11 @@ func (s *Store) ForEachCase(parent context.Context, f CaseFilter, fn func(*logbo
 	wg.Add(2)
 	go func() {
 		defer wg.Done()
-		pErr = produce(ctx, ptx, procSQL, args, procedureColumns, logbook.NewProcedure, pFree, pOut)
+		pErr = produce(ctx, ptx, procSQL, args, procedureColumns, logbook.NewProcedure, procedureName, onBad, pFree, pOut)
 	}()
 	go func() {
 		defer wg.Done()
-		lErr = produce(ctx, ltx, lesionSQL, args, lesionStoredColumns, logbook.NewLesion, lFree, lOut)
+		lErr = produce(ctx, ltx, lesionSQL, args, lesionStoredColumns, logbook.NewLesion, lesionName, onBad, lFree, lOut)
 	}()
 	fnErr := mergeCases(newStream(pOut, pFree), newStream(lOut, lFree), fn)
 	cancel()
@@ -245,12 +284,11 @@ func (s *Store) ForEachCase(parent context.Context, f CaseFilter, fn func(*logbo
 		}
 	}()
 	wg.Wait()
-	if fnErr != nil {
-		return fnErr
-	}
 	if err := parent.Err(); err != nil {
 		return err
 	}
+	// A reader's own error comes first: a stream cut short by it would
+	// otherwise surface as lesions without their procedure.
 	for _, e := range []error{pErr, lErr} {
 		if e != nil && !errors.Is(e, context.Canceled) {
 			return s.explain(e)

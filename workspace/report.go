@@ -2,11 +2,7 @@ package workspace
 
 import (
 	"context"
-	"fmt"
 	"io"
-	"os"
-	"path/filepath"
-	"runtime"
 	"time"
 
 	"polypledger/assets"
@@ -46,7 +42,8 @@ func (a *Audit) ReportInput(ctx context.Context, req ReportRequest, figs Figures
 }
 
 // WriteReportFile computes the period's figures in one pass and writes the
-// PDF to path under a temporary name first, so that a failed or cancelled
+// PDF to path as an Output that may replace a file there (the app's save
+// dialog has asked) but never a database, so that a failed or cancelled
 // report leaves no partial file. progress is passed to ComputeFigures.
 func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequest, progress func(cases int)) error {
 	figs, err := a.ComputeFigures(ctx, req.From, req.To, req.Guideline, progress)
@@ -57,40 +54,10 @@ func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequ
 	if err != nil {
 		return err
 	}
-	return WriteFileAtomically(path, func(w io.Writer) error {
+	return Output{Path: path, Replace: true, Database: a.Store.Path()}.Write(func(w io.Writer) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
 		return report.WritePDF(w, in)
 	})
-}
-
-// WriteFileAtomically writes a file under a temporary name beside path,
-// readable by its owner only, and renames it into place, so that a failed
-// or cancelled write never leaves a half-written file.
-func WriteFileAtomically(path string, write func(w io.Writer) error) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*.partial")
-	if err != nil {
-		return fmt.Errorf("cannot write %s: %w", path, err)
-	}
-	tmp := f.Name()
-	fail := func(err error) error {
-		f.Close()
-		os.Remove(tmp)
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	if err := write(f); err != nil {
-		return fail(err)
-	}
-	if err := f.Chmod(0o600); err != nil && runtime.GOOS != "windows" {
-		return fail(err)
-	}
-	if err := f.Close(); err != nil {
-		return fail(err)
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	return nil
 }

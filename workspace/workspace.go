@@ -20,29 +20,66 @@ import (
 	"polypledger/store"
 )
 
-// OpenStore opens the database at path; withKey loads (or creates) the unit
-// key from the config folder so that hospital numbers typed or imported can
-// be pseudonymised. The environment variable POLYPLEDGER_BUSY_TIMEOUT (a
-// duration such as "250ms" or "30s") sets how long a writer waits for
-// another's lock before giving up with store.ErrBusy; the reliability tests
-// use it.
+// OpenStore opens the database at path (creating it whole if it does not
+// exist) with StoreOptions.
 func OpenStore(ctx context.Context, path string, withKey bool) (*store.Store, error) {
+	opt, err := StoreOptions(withKey)
+	if err != nil {
+		return nil, err
+	}
+	return store.Open(ctx, path, opt)
+}
+
+// StoreOptions are the options every command and the app open a database
+// with. withKey loads (or creates) the unit key from the config folder so
+// that hospital numbers typed or imported can be pseudonymised. The
+// environment variable POLYPLEDGER_BUSY_TIMEOUT (a duration such as
+// "250ms" or "30s") sets how long a writer waits for another's lock before
+// giving up with store.ErrBusy; the reliability tests use it.
+func StoreOptions(withKey bool) (store.Options, error) {
 	opt := store.Options{}
 	if v := os.Getenv("POLYPLEDGER_BUSY_TIMEOUT"); v != "" {
 		d, err := time.ParseDuration(v)
 		if err != nil || d <= 0 {
-			return nil, fmt.Errorf("POLYPLEDGER_BUSY_TIMEOUT %q is not a duration such as 30s", v)
+			return opt, fmt.Errorf("POLYPLEDGER_BUSY_TIMEOUT %q is not a duration such as 30s", v)
 		}
 		opt.BusyTimeout = d
 	}
 	if withKey {
 		key, err := UnitKey()
 		if err != nil {
-			return nil, err
+			return opt, err
 		}
 		opt.Key = key
 	}
-	return store.Open(ctx, path, opt)
+	return opt, nil
+}
+
+// Fill runs fill on the database at path and reports whether this call
+// created it. A database that does not exist yet is made by store.Create:
+// fill runs on it before it appears at path, so its work is there whole or
+// not at all, and a failure leaves no file — nothing is ever deleted at
+// path. If another program creates the database first, fill runs again, on
+// that one; fill must be able to run twice. The import command and the
+// demo go through here.
+func Fill(ctx context.Context, path string, withKey bool, fill func(*store.Store) error) (created bool, err error) {
+	opt, err := StoreOptions(withKey)
+	if err != nil {
+		return false, err
+	}
+	err = store.Create(ctx, path, opt, fill)
+	if !errors.Is(err, store.ErrExists) {
+		return err == nil, err
+	}
+	st, err := store.Open(ctx, path, opt)
+	if err != nil {
+		return false, err
+	}
+	err = fill(st)
+	if cerr := st.Close(); err == nil {
+		err = cerr
+	}
+	return false, err
 }
 
 // UnitKey returns the unit key kept in the config folder, creating it on
@@ -53,6 +90,17 @@ func UnitKey() ([]byte, error) {
 		return nil, err
 	}
 	return store.LoadOrCreateKey(dir)
+}
+
+// KeyWarnings says, one sentence each with the command that fixes it,
+// whether other users of the computer can open the unit key's folder or
+// file (store.KeyPermissionWarnings); none when they cannot.
+func KeyWarnings() []string {
+	dir, err := store.ConfigDir()
+	if err != nil {
+		return nil
+	}
+	return store.KeyPermissionWarnings(dir)
 }
 
 // DemoKey is the key the demo uses for its invented hospital numbers, so
