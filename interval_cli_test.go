@@ -97,7 +97,7 @@ func TestIntervalAfterImport(t *testing.T) {
 		}
 	}
 	// The text form says the same for one procedure.
-	if out := must("interval", "--db", db, "--procedure", "C2"); !strings.Contains(out, "C2: 7-10y") || !strings.Contains(out, "was not retrieved") {
+	if out := must("interval", "--db", db, "--procedure", "C2"); !strings.Contains(out, "C2: 7 to 10 years") || !strings.Contains(out, "was not retrieved") {
 		t.Errorf("interval text:\n%s", out)
 	}
 
