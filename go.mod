@@ -4,8 +4,15 @@ go 1.26.0
 
 require (
 	fyne.io/fyne/v2 v2.7.1
+	github.com/jackc/pgx/v5 v5.13.0
 	gonum.org/v1/gonum v0.17.0
 	modernc.org/sqlite v1.62.0
+)
+
+require (
+	github.com/jackc/pgpassfile v1.0.0 // indirect
+	github.com/jackc/pgservicefile v0.0.0-20240606120523-5a60cdf6a761 // indirect
+	github.com/rogpeppe/go-internal v1.16.0 // indirect
 )
 
 require (
