@@ -119,9 +119,9 @@ func TestWriterTypesAndLayout(t *testing.T) {
 		{"D2", excelize.CellTypeUnset, "67"},
 		{"A2", excelize.CellTypeInlineString, "P-0001"},
 		{"A3", excelize.CellTypeInlineString, `=HYPERLINK("x")`}, // text, not a formula
-		{"A4", excelize.CellTypeInlineString, "00123"},          // leading zeros kept as text
-		{"B6", excelize.CellTypeInlineString, "05/03/2026"},     // not an ISO date: text
-		{"C6", excelize.CellTypeInlineString, "1e5"},            // not in shortest form: text
+		{"A4", excelize.CellTypeInlineString, "00123"},           // leading zeros kept as text
+		{"B6", excelize.CellTypeInlineString, "05/03/2026"},      // not an ISO date: text
+		{"C6", excelize.CellTypeInlineString, "1e5"},             // not in shortest form: text
 		{"D6", excelize.CellTypeInlineString, "007"},
 		{"B7", excelize.CellTypeInlineString, "2026-02-30"}, // not a calendar date: text
 	}
