@@ -58,9 +58,9 @@ func codes[T ~string](set []T) []string {
 	return out
 }
 
-func text(name string) Field             { return Field{Name: name, Type: Text} }
-func date(name string) Field             { return Field{Name: name, Type: Date} }
-func yesNo(name string) Field            { return Field{Name: name, Type: YesNo} }
+func text(name string) Field               { return Field{Name: name, Type: Text} }
+func date(name string) Field               { return Field{Name: name, Type: Date} }
+func yesNo(name string) Field              { return Field{Name: name, Type: YesNo} }
 func count(name string, u ...string) Field { return Field{Name: name, Type: Count, Units: u} }
 func amount(name string, u ...string) Field {
 	return Field{Name: name, Type: Amount, Units: u}
