@@ -163,7 +163,9 @@ func writeAuditWorkbook(t *testing.T) []byte {
 	}
 	header = append(header, "Comments")
 	none := []any{"", "", "", "", ""}
-	polyp := func(size any, site, retrieved, lab, hist string) []any { return []any{size, site, retrieved, lab, hist} }
+	polyp := func(size any, site, retrieved, lab, hist string) []any {
+		return []any{size, site, retrieved, lab, hist}
+	}
 	rows := [][]any{
 		{"LK-26-0001", day(2, 3), "RKA", "", "ZZ900101", 67, "F", "Bowel screening", "Caecum", "Y", "8:30", 3, 3, 3, "Y", 2.5, 50},
 		{"LK-26-0002", day(3, 3), "JMB", "", "ZZ900102", 54, "M", "FIT+", "TI", "Y", 9, 2, 3, 3, "Y", 2, 50},
