@@ -70,7 +70,7 @@ func openCSV(name string, r io.Reader, opt Options) (*Table, error) {
 		}
 		return line, rec, nil
 	}
-	if err := t.readHeader(opt.HeaderRow); err != nil {
+	if err := t.readHeader(opt); err != nil {
 		var e *Error
 		if errors.As(err, &e) {
 			e.RowOnly = false // a bad header ends the reading

@@ -101,6 +101,9 @@ type Options struct {
 	// HeaderRow is the row holding the column names (1 when zero); rows
 	// above it (titles, notes) are skipped.
 	HeaderRow int
+	// NoHeader reads every row as data, from the first, each with the
+	// cells it has: for looking at a file before its header row is known.
+	NoHeader bool
 	// Limits caps sizes; zero fields take DefaultLimits.
 	Limits Limits
 }
@@ -207,7 +210,7 @@ func (t *Table) Label() string {
 }
 
 // Header returns the column names, trimmed of surrounding spaces (and of a
-// CSV byte-order mark).
+// CSV byte-order mark); nil when the table was opened with NoHeader.
 func (t *Table) Header() []string { return t.header }
 
 // HeaderLine returns the line of the header row.
@@ -256,7 +259,7 @@ func (t *Table) check(line int, cells []string) error {
 		if len(c) > t.limits.FieldBytes {
 			return &Error{File: t.Label(), Line: line, Column: t.columnName(i), Reason: fmt.Sprintf("a value longer than %s", byteSize(t.limits.FieldBytes)), RowOnly: true}
 		}
-		if i >= len(t.header) && strings.TrimSpace(c) != "" {
+		if t.header != nil && i >= len(t.header) && strings.TrimSpace(c) != "" {
 			return &Error{File: t.Label(), Line: line, Column: t.columnName(i), Reason: fmt.Sprintf("a value beyond the header's %d columns", len(t.header)), RowOnly: true}
 		}
 	}
@@ -267,7 +270,7 @@ func (t *Table) check(line int, cells []string) error {
 // that only empty cells are cut).
 func (t *Table) fit(cells []string) []string {
 	n := len(t.header)
-	if len(cells) == n {
+	if len(cells) == n || t.header == nil {
 		return cells
 	}
 	out := make([]string, n)
@@ -310,7 +313,11 @@ func (t *Table) setHeader(line int, cells []string) error {
 }
 
 // readHeader skips the rows above the header row and reads it.
-func (t *Table) readHeader(headerRow int) error {
+func (t *Table) readHeader(opt Options) error {
+	if opt.NoHeader {
+		return nil
+	}
+	headerRow := opt.HeaderRow
 	if headerRow <= 0 {
 		headerRow = 1
 	}

@@ -317,7 +317,7 @@ func openXLSX(name string, opt Options, open func(excelize.Options) (*excelize.F
 		}
 		return rerr
 	}
-	if err := t.readHeader(opt.HeaderRow); err != nil {
+	if err := t.readHeader(opt); err != nil {
 		t.close()
 		t.close = nil
 		f = nil
