@@ -11,6 +11,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"sync"
 	"unicode"
 
 	"polypledger/sheet"
@@ -73,6 +74,12 @@ type column struct {
 	clocks   int // values such as 8:30
 	maxNum   float64
 	letters  int // values that are one letter
+}
+
+// usable reports whether a recipe can name the column: it has a header, and
+// the header does not hold the slot mark.
+func (c *column) usable() bool {
+	return c.header != "" && !strings.Contains(c.header, SlotMark)
 }
 
 func (c *column) add(v string) {
@@ -204,7 +211,13 @@ func draft(name string, open func(sheet.Options) (*sheet.Table, error)) (string,
 		}
 	}
 	d := &drafter{name: name, t: t, cols: cols, rows: rows, headerRow: headerRow}
-	return d.propose(), nil
+	text := d.propose()
+	for _, f := range []string{"procedure_id", "lesion_no"} {
+		if d.assigned[f] == nil && (f == "procedure_id" || d.shape == ShapeHistology) {
+			return "", fmt.Errorf("%s: no column can give %s, which a recipe needs (the header has no usable name)", t.Label(), f)
+		}
+	}
+	return text, nil
 }
 
 // findHeaderRow looks at the first rows for the header: the first row whose
@@ -271,7 +284,8 @@ type drafter struct {
 	assigned   map[string]*column // field → column
 	notes      map[string]string  // field → why it is unsure
 	dateFormat string
-	dateNote   string // why date_format is unsure ("" when sure)
+	dateNote   string            // why date_format is unsure ("" when sure)
+	codes      map[string]string // codeOf's memory
 }
 
 // match is a candidate column for a field.
@@ -284,7 +298,7 @@ type match struct {
 }
 
 func (d *drafter) propose() string {
-	d.assigned, d.notes = map[string]*column{}, map[string]string{}
+	d.assigned, d.notes, d.codes = map[string]*column{}, map[string]string{}, map[string]string{}
 	d.findSlots()
 	d.assign()
 	d.chooseShape()
@@ -297,33 +311,41 @@ func (d *drafter) propose() string {
 // size", 2.
 var slotHeader = regexp.MustCompile(`^(.*?\D)??(\d{1,2})(\D.*)?$`)
 
-// findSlots finds a wide file's numbered lesion columns: a header with a
-// number in it whose other words name a lesion field, seen with at least two
-// numbers.
+// findSlots finds a wide file's numbered lesion columns: headers alike but
+// for a number, numbered 1, 2 … without a gap, whose other words name a
+// lesion field.
 func (d *drafter) findSlots() {
 	numbers := map[string]map[int]bool{}
-	for _, c := range d.cols {
+	split := func(c *column) (tpl string, n int, ok bool) {
 		m := slotHeader.FindStringSubmatch(c.header)
-		if m == nil || strings.TrimSpace(m[1]+m[3]) == "" {
-			continue
+		if m == nil || strings.TrimSpace(m[1]+m[3]) == "" || !c.usable() {
+			return "", 0, false
 		}
-		n, _ := strconv.Atoi(m[2])
-		tpl := m[1] + SlotMark + m[3]
-		if numbers[tpl] == nil {
-			numbers[tpl] = map[int]bool{}
-		}
-		numbers[tpl][n] = true
+		n, _ = strconv.Atoi(m[2])
+		return m[1] + SlotMark + m[3], n, n >= 1
 	}
 	for _, c := range d.cols {
-		m := slotHeader.FindStringSubmatch(c.header)
-		if m == nil {
+		if tpl, n, ok := split(c); ok {
+			if numbers[tpl] == nil {
+				numbers[tpl] = map[int]bool{}
+			}
+			numbers[tpl][n] = true
+		}
+	}
+	for _, c := range d.cols {
+		tpl, _, ok := split(c)
+		ns := numbers[tpl]
+		if !ok || len(ns) < 2 {
 			continue
 		}
-		tpl := m[1] + SlotMark + m[3]
-		if len(numbers[tpl]) < 2 {
-			continue
+		top := 0
+		for n := range ns {
+			top = max(top, n)
 		}
-		stem := normalise(m[1] + " " + m[3])
+		if top != len(ns) {
+			continue // a gap: not slots 1 … N
+		}
+		stem := normalise(strings.ReplaceAll(tpl, SlotMark, " "))
 		best := 0.0
 		for _, f := range lesionFields {
 			if lesionOnly(f.Name) {
@@ -334,8 +356,7 @@ func (d *drafter) findSlots() {
 			continue
 		}
 		c.template = tpl
-		n, _ := strconv.Atoi(m[2])
-		d.slots = max(d.slots, n)
+		d.slots = max(d.slots, top)
 	}
 }
 
@@ -371,10 +392,14 @@ func (d *drafter) assign() {
 			words = normalise(strings.ReplaceAll(c.template, SlotMark, " "))
 		}
 		for _, f := range allFields() {
-			if c.header == "" || (c.template != "" && !lesionOnly(f.Name)) {
+			if !c.usable() || (c.template != "" && !lesionOnly(f.Name)) {
 				continue
 			}
-			m := match{field: f.Name, col: c, name: nameLikeness(words, f.Name), fit: d.fit(c, f)}
+			m := match{field: f.Name, col: c, name: nameLikeness(words, f.Name)}
+			if m.name < 0.5 && !distinctive(f) {
+				continue
+			}
+			m.fit = d.fit(c, f)
 			switch {
 			case m.name >= 0.5:
 				m.score = m.name * (0.5 + 0.5*m.fit)
@@ -420,8 +445,7 @@ func nameLikeness(words, field string) float64 {
 	joined := strings.ReplaceAll(words, " ", "")
 	hw := strings.Fields(words)
 	best := 0.0
-	for _, p := range append([]string{strings.ReplaceAll(field, "_", " ")}, headerWords[field]...) {
-		pn := normalise(p)
+	for _, pn := range headerPhrases()[field] {
 		pw := strings.Fields(pn)
 		switch {
 		case pn == words, strings.ReplaceAll(pn, " ", "") == joined:
@@ -508,7 +532,7 @@ func (d *drafter) fit(c *column, f Field) float64 {
 		hit, total := 0, 0
 		for _, v := range c.order {
 			total += c.counts[v]
-			if code, _ := matchCode(f, v); code != "" {
+			if d.codeOf(f, v) != "" {
 				hit += c.counts[v]
 			}
 		}
@@ -519,6 +543,18 @@ func (d *drafter) fit(c *column, f Field) float64 {
 		}
 	}
 	return 1
+}
+
+// codeOf is matchCode's code, remembered: fit asks for the same values
+// again for each field.
+func (d *drafter) codeOf(f Field, v string) string {
+	key := f.Name + "\x00" + v
+	if code, ok := d.codes[key]; ok {
+		return code
+	}
+	code, _ := matchCode(f, v)
+	d.codes[key] = code
+	return code
 }
 
 // yesNoShare returns the share of a column's values that are yes/no words.
@@ -555,27 +591,68 @@ func yesNoWord(v string) string {
 // words.
 func dysplasiaIn(v string) (code, rest string) {
 	w := " " + plainWords(v) + " "
-	var phrases []string
-	for c, ps := range codeWords["dysplasia"] {
-		for _, p := range ps {
-			phrases = append(phrases, p+"\x00"+c)
-		}
-	}
-	// Longer phrases first, so that "low grade dysplasia" wins over "low grade".
-	sort.Slice(phrases, func(i, j int) bool {
-		if len(phrases[i]) != len(phrases[j]) {
-			return len(phrases[i]) > len(phrases[j])
-		}
-		return phrases[i] < phrases[j]
-	})
-	for _, pc := range phrases {
-		p, c, _ := strings.Cut(pc, "\x00")
-		if strings.Contains(w, " "+p+" ") {
-			return c, strings.TrimSpace(strings.Replace(w, " "+p+" ", " ", 1))
+	for _, g := range gradePhrases() {
+		if p := " " + g.joined + " "; strings.Contains(w, p) {
+			return g.code, strings.TrimSpace(strings.Replace(w, p, " ", 1))
 		}
 	}
 	return "", strings.TrimSpace(w)
 }
+
+// codePhrase is one way of writing a code, in plain words.
+type codePhrase struct {
+	code   string
+	words  []string
+	joined string
+}
+
+// codePhrases holds, for each field of codes, its codes and their common
+// words in plain words, built once.
+var codePhrases = sync.OnceValue(func() map[string][]codePhrase {
+	out := map[string][]codePhrase{}
+	for _, f := range allFields() {
+		if f.Type != Code {
+			continue
+		}
+		for _, c := range f.Codes {
+			for _, p := range append([]string{strings.ReplaceAll(c, "_", " ")}, codeWords[f.Name][c]...) {
+				w := plainWords(p)
+				out[f.Name] = append(out[f.Name], codePhrase{code: c, words: strings.Fields(w), joined: w})
+			}
+		}
+	}
+	return out
+})
+
+// gradePhrases are the dysplasia words, longest first (so that "low grade
+// dysplasia" wins over "low grade"), built once.
+var gradePhrases = sync.OnceValue(func() []codePhrase {
+	var out []codePhrase
+	for c, ps := range codeWords["dysplasia"] {
+		for _, p := range ps {
+			out = append(out, codePhrase{code: c, joined: plainWords(p)})
+		}
+	}
+	sort.Slice(out, func(i, j int) bool {
+		if len(out[i].joined) != len(out[j].joined) {
+			return len(out[i].joined) > len(out[j].joined)
+		}
+		return out[i].joined < out[j].joined
+	})
+	return out
+})
+
+// headerPhrases holds, for each field, its name and common headers,
+// normalised, built once.
+var headerPhrases = sync.OnceValue(func() map[string][]string {
+	out := map[string][]string{}
+	for _, f := range allFields() {
+		for _, p := range append([]string{strings.ReplaceAll(f.Name, "_", " ")}, headerWords[f.Name]...) {
+			out[f.Name] = append(out[f.Name], normalise(p))
+		}
+	}
+	return out
+})
 
 // matchCode finds the code of a field that a source value means; sure is
 // false when the match is only partial.
@@ -594,20 +671,10 @@ func matchCode(f Field, v string) (code string, sure bool) {
 			return code, sure
 		}
 	}
-	type cand struct {
-		code  string
-		words []string
-	}
-	var cands []cand
-	for _, c := range f.Codes {
-		cands = append(cands, cand{c, strings.Fields(plainWords(strings.ReplaceAll(c, "_", " ")))})
-		for _, p := range codeWords[f.Name][c] {
-			cands = append(cands, cand{c, strings.Fields(plainWords(p))})
-		}
-	}
+	cands := codePhrases()[f.Name]
 	vw := strings.Fields(w)
 	for _, c := range cands {
-		if strings.Join(c.words, " ") == w {
+		if c.joined == w {
 			return c.code, true
 		}
 	}
@@ -715,10 +782,13 @@ func (d *drafter) required() {
 		var best *column
 		bestScore := -1.0
 		for _, c := range d.cols {
-			if c.header == "" || c == d.assigned["patient_ref"] || c.template != "" {
+			if !c.usable() || c == d.assigned["patient_ref"] {
 				continue
 			}
 			score := 0.0
+			if c.template != "" {
+				score -= 3 // a lesion slot's column, as a last resort
+			}
 			if !d.usedBy(c) {
 				score += 2
 			}
@@ -891,7 +961,7 @@ func (d *drafter) write() string {
 			continue
 		}
 		h := c.header
-		if c.template != "" {
+		if c.template != "" && lesionOnly(f) {
 			h = c.template
 		}
 		line(f+" = "+tomlQuote(h), d.notes[f])

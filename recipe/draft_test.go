@@ -171,3 +171,5 @@ func TestDraftGuesses(t *testing.T) {
 		})
 	}
 }
+
+func readBytes(path string) ([]byte, error) { return os.ReadFile(path) }

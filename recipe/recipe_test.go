@@ -7,18 +7,7 @@ import (
 	"testing"
 
 	"polypledger/recipe"
-	"polypledger/store"
 )
-
-// TestColumnsMatchOurCSV keeps the recipe's field list the same as the
-// store's CSV columns (architecture.md, "CSV interchange").
-func TestColumnsMatchOurCSV(t *testing.T) {
-	for _, k := range recipe.Kinds {
-		if got, want := recipe.Columns(k), store.Columns(store.Kind(k)); !reflect.DeepEqual(got, want) {
-			t.Errorf("%s: recipe columns\n%q\nstore columns\n%q", k, got, want)
-		}
-	}
-}
 
 const minimal = `kind = "procedures"
 [columns]

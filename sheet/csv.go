@@ -18,13 +18,17 @@ var errRowTooLong = errors.New("record too long")
 // record was returned. Reads ahead by the buffer make the count an
 // over-estimate by at most the buffer's size, which the limit allows for.
 type recordGuard struct {
-	r     io.Reader
-	since int
-	limit int
+	r       io.Reader
+	since   int
+	limit   int
+	tripped bool
 }
 
 func (g *recordGuard) Read(p []byte) (int, error) {
-	if g.since > g.limit {
+	if g.tripped || g.since > g.limit {
+		// encoding/csv drops a read error met in an unquoted field and
+		// returns the partial record: the reader checks tripped itself.
+		g.tripped = true
 		return 0, errRowTooLong
 	}
 	n, err := g.r.Read(p)
@@ -45,7 +49,7 @@ func openCSV(name string, r io.Reader, opt Options) (*Table, error) {
 	lastLine := 0
 	t.next = func() (int, []string, error) {
 		rec, err := cr.Read()
-		if errors.Is(err, errRowTooLong) {
+		if g.tripped || errors.Is(err, errRowTooLong) {
 			return 0, nil, &Error{File: name, Line: lastLine + 1, Reason: fmt.Sprintf("a record longer than %s (is this a CSV file?)", byteSize(lim.RowBytes))}
 		}
 		if err == io.EOF {

@@ -184,6 +184,17 @@ func TestCSVLimitsThatEndTheReading(t *testing.T) {
 			t.Fatalf("%d rows, end %v", len(rows), end)
 		}
 	})
+	t.Run("a line too long", func(t *testing.T) {
+		text := "a,b\n1," + strings.Repeat("x", 200000) + "\n2,3\n"
+		tb, err := sheet.Open("f.csv", strings.NewReader(text), sheet.Options{Limits: sheet.Limits{RowBytes: 1 << 10}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		rows, _, end := readAll(t, tb)
+		if len(rows) != 0 || end == nil || !strings.HasPrefix(end.Error(), "f.csv:2: a record longer than 1 KiB") {
+			t.Fatalf("rows %v, end %v", rows, end)
+		}
+	})
 	t.Run("an unterminated quote does not read the whole file into one cell", func(t *testing.T) {
 		text := "a,b\n1,\"" + strings.Repeat("x,y\n", 200000)
 		tb, err := sheet.Open("f.csv", strings.NewReader(text), sheet.Options{Limits: sheet.Limits{RowBytes: 1 << 10}})
@@ -203,4 +214,39 @@ func TestFormatOf(t *testing.T) {
 			t.Errorf("FormatOf(%q) = %v, want %v", name, got, want)
 		}
 	}
+}
+
+// FuzzCSV reads arbitrary text as CSV: it never panics, every row has the
+// header's width, and lines only grow.
+func FuzzCSV(f *testing.F) {
+	f.Add("a,b\n1,2\n")
+	f.Add("\ufeffx\n\"q\nq\",1\n,,\n")
+	f.Add("a\n1,\"2\n")
+	f.Fuzz(func(t *testing.T, text string) {
+		for _, opt := range []sheet.Options{{}, {HeaderRow: 2}, {NoHeader: true}, {Limits: sheet.Limits{FieldBytes: 4, Fields: 3, Rows: 5, RowBytes: 16}}} {
+			tb, err := sheet.Open("f.csv", strings.NewReader(text), opt)
+			if err != nil {
+				continue
+			}
+			last := tb.HeaderLine()
+			for {
+				r, err := tb.Next()
+				if err == io.EOF {
+					break
+				}
+				var e *sheet.Error
+				if errors.As(err, &e) && e.RowOnly {
+					continue
+				}
+				if err != nil {
+					break
+				}
+				if r.Line <= last || (!opt.NoHeader && len(r.Cells) != len(tb.Header())) {
+					t.Fatalf("row %+v after line %d, header %q", r, last, tb.Header())
+				}
+				last = r.Line
+			}
+			tb.Close()
+		}
+	})
 }

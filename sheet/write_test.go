@@ -12,7 +12,6 @@ import (
 	"github.com/xuri/excelize/v2"
 
 	"polypledger/sheet"
-	"polypledger/store"
 )
 
 var (
@@ -180,27 +179,6 @@ func TestWriterMisuse(t *testing.T) {
 	if err := w.Close(); err == nil {
 		t.Error("a failed workbook closed without error")
 	}
-}
-
-// TestFormulaLikeMatchesCSVExport keeps the workbook's rule and the CSV
-// export's the same.
-func TestFormulaLikeMatchesCSVExport(t *testing.T) {
-	for _, v := range []string{"", "=1+1", "+44 20", "-12", "-2.5", "-1e5", "-inf", "-nan", "-0x10", "-A1", "@sum", "\tx", "\rx", "x=1", "P-1", "-", "--1", "1-2"} {
-		if got, want := sheet.FormulaLike(v), store.SafeCell(v) != v; got != want {
-			t.Errorf("FormulaLike(%q) = %v, but the CSV export neutralises it: %v", v, got, want)
-		}
-	}
-}
-
-func FuzzFormulaLike(f *testing.F) {
-	for _, v := range []string{"=1", "-1", "-x", "@", "+", "a"} {
-		f.Add(v)
-	}
-	f.Fuzz(func(t *testing.T, v string) {
-		if got, want := sheet.FormulaLike(v), store.SafeCell(v) != v; got != want {
-			t.Errorf("FormulaLike(%q) = %v, CSV export %v", v, got, want)
-		}
-	})
 }
 
 // BenchmarkWorkbook100k writes and reads back a sheet of 100,000 rows and
