@@ -194,13 +194,9 @@ func draft(name string, open func(sheet.Options) (*sheet.Table, error)) (string,
 	}
 	rows := 0
 	for rows < DraftRows {
-		row, err := t.Next()
+		row, err := nextSound(t)
 		if err == io.EOF {
 			break
-		}
-		var se *sheet.Error
-		if errors.As(err, &se) && se.RowOnly {
-			continue
 		}
 		if err != nil {
 			return "", err
@@ -220,6 +216,19 @@ func draft(name string, open func(sheet.Options) (*sheet.Table, error)) (string,
 	return text, nil
 }
 
+// nextSound returns the table's next row, passing over rows with a fault of
+// their own: a draft looks at what can be read.
+func nextSound(t *sheet.Table) (sheet.Row, error) {
+	for {
+		row, err := t.Next()
+		var se *sheet.Error
+		if errors.As(err, &se) && se.RowOnly {
+			continue
+		}
+		return row, err
+	}
+}
+
 // findHeaderRow looks at the first rows for the header: the first row whose
 // cells are mostly filled with distinct words (not numbers or dates).
 func findHeaderRow(open func(sheet.Options) (*sheet.Table, error)) (int, error) {
@@ -235,13 +244,9 @@ func findHeaderRow(open func(sheet.Options) (*sheet.Table, error)) (int, error) 
 	var rows []seen
 	most := 0
 	for len(rows) < draftScan {
-		row, err := t.Next()
+		row, err := nextSound(t)
 		if err == io.EOF {
 			break
-		}
-		var se *sheet.Error
-		if errors.As(err, &se) && se.RowOnly {
-			continue
 		}
 		if err != nil {
 			return 0, err
