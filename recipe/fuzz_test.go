@@ -11,8 +11,8 @@ import (
 	"polypledger/sheet"
 )
 
-// FuzzParse loads arbitrary recipe text: it never panics, and a recipe it
-// accepts is one the mapper can use.
+// FuzzParse loads arbitrary recipe text: it never panics, a recipe it
+// accepts is one the mapper can use, and its Text reads back the same.
 func FuzzParse(f *testing.F) {
 	for _, s := range shipped {
 		f.Add(readFileF(f, s.path("recipe.toml")))
@@ -30,6 +30,10 @@ func FuzzParse(f *testing.F) {
 		}
 		if !slices.Contains(recipe.Shapes, r.Shape) || r.HeaderRow < 1 || r.Columns["procedure_id"] == "" {
 			t.Fatalf("accepted recipe %+v", r)
+		}
+		again, err := recipe.Parse("again.toml", []byte(r.Text()))
+		if err != nil || again.Text() != r.Text() {
+			t.Fatalf("the recipe's text does not read back (%v):\n%s", err, r.Text())
 		}
 		tb, err := sheet.Open("s.csv", strings.NewReader("a,b,c\n1,2,3\n"), sheet.Options{})
 		if err != nil {

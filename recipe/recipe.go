@@ -91,6 +91,9 @@ type Recipe struct {
 	yes    map[string]bool              // folded words
 	no     map[string]bool
 	na     map[string]bool
+	// As written in the recipe, for Text.
+	spelled map[string]map[string]string // field → folded source value → as written
+	words   map[string][]string          // answer → words as written
 }
 
 // Options returns the sheet options the recipe asks for.
@@ -159,7 +162,8 @@ func Parse(name string, data []byte) (*Recipe, error) {
 		}
 		return nil, le
 	}
-	r := &Recipe{File: name, HeaderRow: 1, Columns: map[string]string{}, values: map[string]map[string]string{}}
+	r := &Recipe{File: name, HeaderRow: 1, Columns: map[string]string{}, values: map[string]map[string]string{},
+		spelled: map[string]map[string]string{}, words: map[string][]string{}}
 	for _, k := range sortedKeys(doc) {
 		if !slices.Contains(topKeys, k) {
 			le.add("unknown key %q (a recipe has: %s)", k, strings.Join(topKeys, ", "))
@@ -301,7 +305,7 @@ func (r *Recipe) valueLists(le *LoadError, v any, fields map[string]Field) {
 		switch {
 		case !known:
 			if r.Shape != "" {
-				le.add("[values.%s]: %q is not one of our fields for kind %q", name, name, r.Shape)
+				le.add("[values.%s]: %q is not one of our fields for kind %q (fields: %s)", name, name, r.Shape, strings.Join(fieldNames(r.Shape), ", "))
 			}
 			continue
 		case f.Type == Patient:
@@ -331,7 +335,7 @@ func (r *Recipe) valueLists(le *LoadError, v any, fields map[string]Field) {
 			}
 			seen[key], m[key] = src, ours
 		}
-		r.values[name] = m
+		r.values[name], r.spelled[name] = m, seen
 	}
 }
 
@@ -411,6 +415,7 @@ func (r *Recipe) yesNo(le *LoadError, v any) {
 		for _, w := range words {
 			set[Fold(w)] = true
 		}
+		r.words[k] = words
 	}
 	for w := range r.yes {
 		if r.no[w] || r.na[w] {
@@ -447,6 +452,97 @@ func (r *Recipe) units(le *LoadError, v any) {
 			le.add("[units] withdrawal must be \"minutes\" or \"seconds\", not %s", show(t[k]))
 		}
 	}
+}
+
+// Text writes the recipe as TOML that Parse reads back to the same recipe
+// (without the comments of the file it was read from): the form in which a
+// recipe edited on screen is saved.
+func (r *Recipe) Text() string {
+	var b strings.Builder
+	kv := func(k, v string) { b.WriteString(k + " = " + v + "\n") }
+	if r.Name != "" {
+		kv("name", tomlQuote(r.Name))
+	}
+	kv("kind", tomlQuote(string(r.Shape)))
+	if r.Sheet != "" {
+		kv("sheet", tomlQuote(r.Sheet))
+	}
+	if r.HeaderRow != 1 {
+		kv("header_row", strconv.Itoa(r.HeaderRow))
+	}
+	if r.DateFormat != "" {
+		kv("date_format", tomlQuote(r.DateFormat))
+	}
+	if r.Shape == ShapeWide {
+		kv("slots", strconv.Itoa(r.Slots))
+	}
+	b.WriteString("\n[columns]\n")
+	fields := fieldNames(r.Shape)
+	for _, f := range fields {
+		if h, ok := r.Columns[f]; ok {
+			kv(f, tomlQuote(h))
+		}
+	}
+	for _, f := range fields {
+		m := r.values[f]
+		if m == nil {
+			continue
+		}
+		b.WriteString("\n[values." + f + "]\n")
+		for _, k := range sortedKeys(m) {
+			kv(tomlQuote(r.spelled[f][k]), tomlQuote(m[k]))
+		}
+	}
+	if len(r.words) > 0 {
+		b.WriteString("\n[yes_no]\n")
+		for _, answer := range []string{"yes", "no", "not_applicable"} {
+			if ws, ok := r.words[answer]; ok {
+				q := make([]string, len(ws))
+				for i, w := range ws {
+					q[i] = tomlQuote(w)
+				}
+				kv(answer, "["+strings.Join(q, ", ")+"]")
+			}
+		}
+	}
+	if r.WithdrawalMinutes {
+		b.WriteString("\n[units]\n")
+		kv("withdrawal", tomlQuote("minutes"))
+	}
+	return b.String()
+}
+
+// Missing returns the headers the recipe reads that a file's header lacks
+// (matched as the mapping matches them; a wide recipe's for every slot), in
+// the order of our fields: none when the recipe fits the file, which is how
+// a saved recipe is recognised for a new file of the same source.
+func (r *Recipe) Missing(header []string) []string {
+	have := map[string]bool{}
+	for _, h := range header {
+		have[Fold(h)] = true
+	}
+	var out []string
+	seen := map[string]bool{}
+	for _, f := range fieldNames(r.Shape) {
+		h, ok := r.Columns[f]
+		if !ok {
+			continue
+		}
+		names := []string{h}
+		if r.Shape == ShapeWide && strings.Contains(h, SlotMark) {
+			names = names[:0]
+			for n := 1; n <= r.Slots; n++ {
+				names = append(names, strings.ReplaceAll(h, SlotMark, strconv.Itoa(n)))
+			}
+		}
+		for _, n := range names {
+			if !have[Fold(n)] && !seen[Fold(n)] {
+				seen[Fold(n)] = true
+				out = append(out, n)
+			}
+		}
+	}
+	return out
 }
 
 // Fold is how recipe values and headers are compared: surrounding spaces

@@ -122,3 +122,53 @@ withdrawal = "minutes"
 		t.Errorf("warnings %q, want %q", r.Warnings, want)
 	}
 }
+
+// TestTextReadsBack writes each shipped recipe as text and reads it again:
+// the same recipe, which maps its source to the same records.
+func TestTextReadsBack(t *testing.T) {
+	for _, s := range shipped {
+		t.Run(s.dir, func(t *testing.T) {
+			r, err := recipe.Load(s.path("recipe.toml"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			again, err := recipe.Parse("again.toml", []byte(r.Text()))
+			if err != nil {
+				t.Fatalf("%v\n%s", err, r.Text())
+			}
+			if again.Shape != r.Shape || again.Name != r.Name || again.Sheet != r.Sheet || again.HeaderRow != r.HeaderRow ||
+				again.DateFormat != r.DateFormat || again.Slots != r.Slots || again.WithdrawalMinutes != r.WithdrawalMinutes ||
+				!reflect.DeepEqual(again.Columns, r.Columns) {
+				t.Errorf("read back %+v\nwas %+v", again, r)
+			}
+			for f := range r.Columns {
+				if !reflect.DeepEqual(again.Values(f), r.Values(f)) {
+					t.Errorf("[values.%s] read back %v, was %v", f, again.Values(f), r.Values(f))
+				}
+			}
+			if again.Text() != r.Text() {
+				t.Errorf("text changed:\n%s\nwas\n%s", again.Text(), r.Text())
+			}
+			checkAgainstOurCSV(t, s, again)
+		})
+	}
+}
+
+func TestMissing(t *testing.T) {
+	r, err := recipe.Parse("w.toml", []byte("kind = \"wide\"\nslots = 2\n[columns]\nprocedure_id = \"Ref\"\nsize_mm = \"Polyp {n} size\"\nsegment = \"Polyp {n} site\"\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	tests := []struct {
+		header []string
+		want   []string
+	}{
+		{[]string{"ref", "Polyp 1 size", "polyp 2  SIZE", "Polyp 1 site", "Polyp 2 site", "Other"}, nil},
+		{[]string{"Polyp 1 size", "Polyp 1 site"}, []string{"Ref", "Polyp 2 site", "Polyp 2 size"}},
+	}
+	for _, tc := range tests {
+		if got := r.Missing(tc.header); !reflect.DeepEqual(got, tc.want) {
+			t.Errorf("Missing(%q) = %q, want %q", tc.header, got, tc.want)
+		}
+	}
+}
