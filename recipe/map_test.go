@@ -2,6 +2,7 @@ package recipe_test
 
 import (
 	"encoding/csv"
+	"fmt"
 	"reflect"
 	"strings"
 	"testing"
@@ -311,5 +312,25 @@ func TestRecordProvenance(t *testing.T) {
 	}
 	if got := l.Problem("lesion_no", "clashes").String(); got != "room.csv:3: lesion_no: clashes" {
 		t.Errorf("problem %q", got)
+	}
+}
+
+// TestMapManyProblems lists MaxProblems problems and counts the rest, a value
+// repeated past the cap included.
+func TestMapManyProblems(t *testing.T) {
+	rcp := "kind = \"procedures\"\n[columns]\nprocedure_id = \"Episode\"\nindication = \"Reason\"\n"
+	var b strings.Builder
+	b.WriteString("Episode,Reason\n")
+	n := recipe.MaxProblems + 10
+	for i := range n {
+		fmt.Fprintf(&b, "P%d,word %d\n", i, i)
+	}
+	b.WriteString("P-last,word 1\nP-after,word 1005\n")
+	_, res := mapText(t, rcp, b.String())
+	if len(res.Problems) != recipe.MaxProblems || res.More != 10 || res.Rows != n+2 {
+		t.Fatalf("%d problems listed, %d more, %d rows", len(res.Problems), res.More, res.Rows)
+	}
+	if !strings.HasSuffix(res.Problems[1].Reason, "(also on 1 more row)") {
+		t.Errorf("a repeated value is not counted: %s", res.Problems[1])
 	}
 }

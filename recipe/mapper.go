@@ -218,7 +218,7 @@ func (r *Recipe) Map(t *sheet.Table, emit func(Record) error) (*Result, error) {
 		}
 	}
 	for i, n := range m.counts {
-		if i < len(m.res.Problems) && n > 0 {
+		if i >= 0 && i < len(m.res.Problems) && n > 0 {
 			m.res.Problems[i].Reason += fmt.Sprintf(" (also on %d more %s)", n, plural(n, "row", "rows"))
 		}
 	}

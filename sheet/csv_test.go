@@ -208,6 +208,19 @@ func TestCSVLimitsThatEndTheReading(t *testing.T) {
 	})
 }
 
+func TestCSVWithoutHeader(t *testing.T) {
+	tb, err := sheet.Open("f.csv", strings.NewReader("Title\n\na,b,c\n1,2\n"), sheet.Options{NoHeader: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer tb.Close()
+	rows, faults, end := readAll(t, tb)
+	want := []sheet.Row{{Line: 1, Cells: []string{"Title"}}, {Line: 3, Cells: []string{"a", "b", "c"}}, {Line: 4, Cells: []string{"1", "2"}}}
+	if !reflect.DeepEqual(rows, want) || len(faults) > 0 || end != nil || tb.Header() != nil {
+		t.Errorf("rows %+v, faults %v, end %v, header %q", rows, faults, end, tb.Header())
+	}
+}
+
 func TestFormatOf(t *testing.T) {
 	for name, want := range map[string]sheet.Format{"a.xlsx": sheet.XLSX, "B.XLSX": sheet.XLSX, "a.csv": sheet.CSV, "a.txt": sheet.CSV, "xlsx": sheet.CSV} {
 		if got := sheet.FormatOf(name); got != want {
