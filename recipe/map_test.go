@@ -334,3 +334,29 @@ func TestMapManyProblems(t *testing.T) {
 		t.Errorf("a repeated value is not counted: %s", res.Problems[1])
 	}
 }
+
+// BenchmarkMapCombined maps a combined file of 100,000 rows (two lesions
+// per procedure) held in memory.
+func BenchmarkMapCombined(b *testing.B) {
+	r, err := recipe.Parse("r.toml", []byte(combinedRecipe))
+	if err != nil {
+		b.Fatal(err)
+	}
+	var src strings.Builder
+	src.WriteString("Exam,Date,MRN,Indication,Site,Size\n")
+	for i := range 100000 {
+		fmt.Fprintf(&src, "X%d,2026-03-05,ZZ%07d,screening,Sigmoid colon,%dmm\n", i/2, i/2, i%20+1)
+	}
+	data := src.String()
+	for b.Loop() {
+		tb, err := sheet.Open("big.csv", strings.NewReader(data), r.Options())
+		if err != nil {
+			b.Fatal(err)
+		}
+		res, err := r.Map(tb, func(recipe.Record) error { return nil })
+		if err != nil || len(res.Problems) > 0 || res.Records[recipe.Lesions] != 100000 {
+			b.Fatalf("%v %v %v", err, res.Problems, res.Records)
+		}
+		tb.Close()
+	}
+}
