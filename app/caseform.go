@@ -37,8 +37,8 @@ type caseForm struct {
 	operator, trainee, comfort         *keySelect
 	operatorIDs, traineeIDs            []string
 	supervision                        *choice[logbook.Supervision]
-	reached, photo, retro, propofol    *yesNoChoice
-	aid                                *yesNoChoice
+	reached, photo, retro, propofol    *choice[logbook.YesNo]
+	aid                                *choice[logbook.YesNo]
 	sex                                *choice[logbook.Sex]
 	indication                         *choice[logbook.Indication]
 	setting                            *choice[logbook.Setting]
@@ -84,10 +84,10 @@ func newCaseForm(u *ui) *caseForm {
 	f.incomplete = newChoice(logbook.IncompleteReasons, incompleteWords, true, ch)
 	f.adverse = newChoice(logbook.AdverseEvents, adverseWords, true, ch)
 	f.interval = newChoice(logbook.Intervals, intervalWords, true, ch)
-	for _, s := range []*keySelect{f.operator, f.trainee, f.comfort, f.supervision.keySelect, f.reached.keySelect,
-		f.photo.keySelect, f.retro.keySelect, f.propofol.keySelect, f.aid.keySelect, f.sex.keySelect,
-		f.indication.keySelect, f.setting.keySelect, f.exclusion.keySelect, f.extent.keySelect,
-		f.incomplete.keySelect, f.adverse.keySelect, f.interval.keySelect} {
+	for _, s := range []*keySelect{f.operator, f.trainee, f.comfort, &f.supervision.keySelect, &f.reached.keySelect,
+		&f.photo.keySelect, &f.retro.keySelect, &f.propofol.keySelect, &f.aid.keySelect, &f.sex.keySelect,
+		&f.indication.keySelect, &f.setting.keySelect, &f.exclusion.keySelect, &f.extent.keySelect,
+		&f.incomplete.keySelect, &f.adverse.keySelect, &f.interval.keySelect} {
 		s.OnSubmit = sub
 	}
 	for i := range f.bbps {

@@ -131,7 +131,7 @@ type lesionEditor struct {
 	confidence            *choice[logbook.Confidence]
 	imaging               *choice[logbook.Imaging]
 	resection             *choice[logbook.Resection]
-	retrieved, sent, tatt *yesNoChoice
+	retrieved, sent, tatt *choice[logbook.YesNo]
 	histology             *choice[logbook.Histology]
 	dysplasia             *choice[logbook.Dysplasia]
 	keep                  *widget.Button
@@ -168,9 +168,9 @@ func newLesionEditor(u *ui, l logbook.Lesion) *lesionEditor {
 	e.histology = newChoice(logbook.Histologies, histologyWords, true, ch)
 	e.dysplasia = newChoice(logbook.Dysplasias, dysplasiaWords, true, ch)
 	e.reported = submitEntry("YYYY-MM-DD", ch, done)
-	for _, s := range []*keySelect{e.segment.keySelect, e.paris.keySelect, e.optical.keySelect, e.confidence.keySelect,
-		e.imaging.keySelect, e.aidClass.keySelect, e.resection.keySelect, e.retrieved.keySelect, e.sent.keySelect,
-		e.tatt.keySelect, e.histology.keySelect, e.dysplasia.keySelect} {
+	for _, s := range []*keySelect{&e.segment.keySelect, &e.paris.keySelect, &e.optical.keySelect, &e.confidence.keySelect,
+		&e.imaging.keySelect, &e.aidClass.keySelect, &e.resection.keySelect, &e.retrieved.keySelect, &e.sent.keySelect,
+		&e.tatt.keySelect, &e.histology.keySelect, &e.dysplasia.keySelect} {
 		s.OnSubmit = done
 	}
 
