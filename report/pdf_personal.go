@@ -128,23 +128,17 @@ func (d *doc) personalReport() {
 		"○ too few cases to judge, ■ reported without a target. Other endoscopists appear in this report only as " +
 		"anonymous peers.")
 	unit := d.in.Data.Metrics.Unit.Indicators
-	cols := []column{{"Indicator", 55, "L"}, {"Cases", 23, "R"}, {"Value", 19, "R"}, {"95% interval", 26, "R"},
-		{"Unit", 19, "R"}, {"Target", 16, "R"}, {"Verdict", 22, "L"}}
+	cols := []column{{"Indicator", 48, "L"}, {"Cases", 22, "R"}, {"Value", 18, "R"}, {"95% interval", 26, "R"},
+		{"Unit", 17, "R"}, {"Target", 17, "R"}, {"Verdict", 32, "L"}}
+	d.periodNote()
 	d.compact = true
-	d.table(cols, groupedRows(me.Indicators, func(ind Indicator) []string {
+	d.table(cols, d.groupedRows(me.Indicators, func(ind Indicator) []string {
 		u, _ := Find(unit, ind.ID)
-		v := verdictCell(ind.Status)
-		switch ind.Status {
-		case Reported:
-			v = "■ reported"
-		case TooFew:
-			v = "○ too few to judge"
-		}
-		return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v}
+		return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), d.verdictText(ind)}
 	}))
 	d.compact = false
 	d.newPage("Your trends by quarter", true)
-	for _, id := range []string{"adr", "cir", "withdrawal_negative"} {
+	for _, id := range trendIDs() {
 		d.trend(me.OperatorID, "you ("+me.OperatorID+")", id, 72)
 	}
 	d.funnels(me.OperatorID)
@@ -204,9 +198,6 @@ func (d *doc) traineeReport() {
 
 	d.subheading("The trainee's own indicators", 40)
 	d.note("Over the cases the trainee performed (held the scope), whoever was the accountable endoscopist.")
-	var irows [][]string
-	for _, ind := range tr.Indicators {
-		irows = append(irows, indicatorRow(ind))
-	}
-	d.table(indicatorColumns(), irows)
+	d.periodNote()
+	d.table(indicatorColumns(), d.withNotes(tr.Indicators, d.indicatorRow))
 }

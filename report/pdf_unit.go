@@ -30,32 +30,32 @@ func indicatorGroups() []struct {
 }
 
 // groupedRows returns the rows of an indicator table in group order, with
-// group headings; extra, when set, adds a column from another population.
-func groupedRows(inds []Indicator, row func(Indicator) []string) [][]string {
+// group headings and each indicator's note row.
+func (d *doc) groupedRows(inds []Indicator, row func(Indicator) []string) [][]string {
 	var out [][]string
 	used := map[string]bool{}
 	for _, g := range indicatorGroups() {
-		var rows [][]string
+		var group []Indicator
 		for _, id := range g.ids {
 			if ind, ok := Find(inds, id); ok {
-				rows = append(rows, row(ind))
+				group = append(group, ind)
 				used[id] = true
 			}
 		}
-		if len(rows) > 0 {
-			out = append(out, []string{"§" + g.title})
-			out = append(out, rows...)
+		if len(group) > 0 {
+			out = append(out, []string{groupMark + g.title})
+			out = append(out, d.withNotes(group, row)...)
 		}
 	}
-	var rest [][]string
+	var rest []Indicator
 	for _, ind := range inds {
 		if !used[ind.ID] {
-			rest = append(rest, row(ind))
+			rest = append(rest, ind)
 		}
 	}
 	if len(rest) > 0 {
-		out = append(out, []string{"§Other figures"})
-		out = append(out, rest...)
+		out = append(out, []string{groupMark + "Other figures"})
+		out = append(out, d.withNotes(rest, row)...)
 	}
 	return out
 }
@@ -80,6 +80,7 @@ func (d *doc) unitReport() {
 	d.reserveContents()
 	d.summary()
 	d.operatorOverview()
+	d.unitTrends()
 	d.funnels("")
 	for _, o := range d.in.Data.Metrics.Operators {
 		d.operatorPage(o)
@@ -108,8 +109,12 @@ func (d *doc) cover() {
 	case TraineeReport:
 		rows = append(rows, [2]string{"Trainee", d.name(in.SubjectID)})
 	}
+	period := d.periodText() + " (both days included)"
+	if d.unfinished {
+		period += ". Not over on the day this report was made: its figures will change, and verdicts are provisional"
+	}
 	rows = append(rows,
-		[2]string{"Period", d.periodText() + " (both days included)"},
+		[2]string{"Period", period},
 		[2]string{"Standard", in.Profile.Title + " (" + in.Profile.ID + ")"},
 		[2]string{"Source", in.Profile.Source},
 		[2]string{"Surveillance guideline", in.Guideline.Title() + " (" + string(in.Guideline) + ")"},
@@ -185,8 +190,9 @@ func (d *doc) summary() {
 	d.newPage("Unit summary: every indicator", true)
 	d.note("Rates are percentages with their 95% interval in brackets. Verdicts are given in words and by shape: " +
 		"● meets the target, ▼ below it, ○ too few cases to judge, ■ reported without a target.")
+	d.periodNote()
 	d.compact = true
-	d.table(indicatorColumns(), groupedRows(d.in.Data.Metrics.Unit.Indicators, indicatorRow))
+	d.table(indicatorColumns(), d.groupedRows(d.in.Data.Metrics.Unit.Indicators, d.indicatorRow))
 	d.compact = false
 }
 
@@ -198,6 +204,7 @@ func overviewIDs() []string {
 // operatorOverview prints one line per endoscopist with the key figures.
 func (d *doc) operatorOverview() {
 	d.newPage("Endoscopists at a glance", true)
+	d.periodNote()
 	d.note("Key figures per endoscopist: value and verdict mark (● meets, ▼ below, ○ too few cases to judge). " +
 		"Each endoscopist's page gives cases, intervals and targets.")
 	cols := []column{{"Endoscopist", 40, "L"}, {"Procedures", 17, "R"}}
@@ -214,7 +221,7 @@ func (d *doc) operatorOverview() {
 		}
 		for _, id := range overviewIDs() {
 			ind, _ := Find(inds, id)
-			r = append(r, shortVerdict(ind))
+			r = append(r, d.shortVerdict(ind))
 		}
 		return r
 	}
@@ -297,25 +304,18 @@ func scorecardIDs() []string {
 // scorecard prints an operator's figures beside the unit's.
 func (d *doc) scorecard(inds []Indicator, ids []string) {
 	unit := d.in.Data.Metrics.Unit.Indicators
-	cols := []column{{"Indicator", 55, "L"}, {"Cases", 23, "R"}, {"Value", 19, "R"}, {"95% interval", 26, "R"},
-		{"Unit", 19, "R"}, {"Target", 16, "R"}, {"Verdict", 22, "L"}}
-	var rows [][]string
+	cols := []column{{"Indicator", 48, "L"}, {"Cases", 22, "R"}, {"Value", 18, "R"}, {"95% interval", 26, "R"},
+		{"Unit", 17, "R"}, {"Target", 17, "R"}, {"Verdict", 32, "L"}}
+	var chosen []Indicator
 	for _, id := range ids {
-		ind, ok := Find(inds, id)
-		if !ok {
-			continue
+		if ind, ok := Find(inds, id); ok {
+			chosen = append(chosen, ind)
 		}
-		u, _ := Find(unit, id)
-		v := verdictCell(ind.Status)
-		if ind.Status == Reported {
-			v = "■ reported"
-		}
-		if ind.Status == TooFew {
-			v = "○ too few to judge"
-		}
-		rows = append(rows, []string{IndicatorTitle(id), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v})
 	}
-	d.table(cols, rows)
+	d.table(cols, d.withNotes(chosen, func(ind Indicator) []string {
+		u, _ := Find(unit, ind.ID)
+		return []string{IndicatorTitle(ind.ID), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), d.verdictText(ind)}
+	}))
 }
 
 // quarterSeries returns an indicator quarter by quarter for an operator
@@ -336,7 +336,7 @@ func (d *doc) quarterSeries(operatorID, id string) []TrendPoint {
 		if !ok {
 			ind = Indicator{ID: id, Status: TooFew}
 		}
-		out = append(out, TrendPoint{Label: q.Quarter, Indicator: ind})
+		out = append(out, TrendPoint{Label: q.Quarter, Indicator: ind, Provisional: ProvisionalNote(ind, q.Unfinished(d.today))})
 	}
 	return out
 }
@@ -348,10 +348,26 @@ func (d *doc) trend(operatorID, label, id string, h float64) {
 	d.chart(h, func(o ChartOptions) ([]byte, error) { return TrendChart(t, o) }, ChartOptions{})
 }
 
+// trendIDs are the indicators followed quarter by quarter.
+func trendIDs() []string { return []string{"adr", "cir", "withdrawal_negative"} }
+
+// unitTrends prints the unit's key figures quarter by quarter.
+func (d *doc) unitTrends() {
+	d.newPage("Unit trends by quarter", true)
+	d.note("Each quarter's figure with its 95% interval; the verdict is told by the mark's shape. An open diamond marks a " +
+		"quarter whose figure may still change: not over yet, or with a twentieth or more of its cases still awaiting histology " +
+		"(which count as no adenoma until reported).")
+	for _, id := range trendIDs() {
+		t := TrendData{IndicatorID: id, Name: "whole unit", Points: d.quarterSeries("", id)}
+		d.chart(72, func(o ChartOptions) ([]byte, error) { return TrendChart(t, o) }, ChartOptions{})
+	}
+}
+
 // operatorPage prints one endoscopist's scorecard, quarterly ADR and place
 // on the ADR funnel.
 func (d *doc) operatorPage(o OperatorResult) {
 	d.newPage("Endoscopist "+d.name(o.OperatorID), true)
+	d.periodNote()
 	d.scorecard(o.Indicators, scorecardIDs())
 	d.trend(o.OperatorID, o.OperatorID, "adr", 66)
 	if fd, err := d.funnelData("adr"); err == nil {
@@ -427,14 +443,14 @@ func (d *doc) optical() {
 	d.newPage("Optical diagnosis and resect-and-discard eligibility", true)
 	d.note("Lesions with an optical class other than uncertain and a final histology; a call of adenoma predicts an " +
 		"adenoma (cancer included), hyperplastic or SSL predicts not. Every figure has its Wilson 95% interval; kappa is Cohen's.")
-	cols := []column{{"Population", 44, "L"}, {"Lesions", 14, "R"}, {"Sensitivity", 22, "R"}, {"Specificity", 22, "R"},
-		{"NPV", 20, "R"}, {"Kappa", 14, "R"}, {"High confidence", 22, "R"}, {"Aid lesions", 22, "R"}}
+	cols := []column{{"Population", 32, "L"}, {"Lesions", 13, "R"}, {"Sensitivity", 25, "R"}, {"Specificity", 25, "R"},
+		{"NPV", 25, "R"}, {"Kappa", 23, "R"}, {"High confidence", 25, "R"}, {"Aid lesions", 12, "R"}}
 	var rows [][]string
 	for _, p := range pops {
 		o := p.Optical
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(o.Endoscopist.Table.N()),
-			FormatValue(o.Endoscopist.Sensitivity), FormatValue(o.Endoscopist.Specificity), FormatValue(o.Endoscopist.NPV),
-			FormatValue(o.Endoscopist.Kappa), FormatValue(o.HighConfidence), strconv.Itoa(o.Aid.Table.N())})
+			withInterval(o.Endoscopist.Sensitivity), withInterval(o.Endoscopist.Specificity), withInterval(o.Endoscopist.NPV),
+			withInterval(o.Endoscopist.Kappa), withInterval(o.HighConfidence), strconv.Itoa(o.Aid.Table.N())})
 	}
 	d.table(cols, rows)
 	if u := pops[0]; u.OperatorID == "" {
@@ -454,7 +470,7 @@ func (d *doc) optical() {
 		a := o.PIVI1.Agreement
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(a.Denominator), strconv.Itoa(o.PIVI1.Agree),
 			strconv.Itoa(o.PIVI1.Shorter), strconv.Itoa(o.PIVI1.Longer), strconv.Itoa(o.PIVI1.Outside),
-			strings.TrimSpace(shortVerdict(a) + " " + FormatInterval(a))})
+			strings.TrimSpace(d.shortVerdict(a) + " " + FormatInterval(a))})
 		label := "unit"
 		if p.OperatorID != "" {
 			label = p.OperatorID
@@ -477,7 +493,7 @@ func (d *doc) optical() {
 		n := p.Optical.PIVI2.NPV
 		nn := p.Optical.PIVI2.NPVNeoplasia
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(n.Denominator),
-			strings.TrimSpace(FormatValue(n) + " " + FormatInterval(n)), verdictCell(n.Status), FormatValue(nn)})
+			strings.TrimSpace(FormatValue(n) + " " + FormatInterval(n)), d.verdictText(n), FormatValue(nn)})
 	}
 	d.table(cols, rows)
 	fd2 := ForestData{IndicatorID: "pivi2_npv", Rows: p2, Reference: &piviT, ReferenceLabel: "PIVI threshold 90%"}
@@ -509,6 +525,14 @@ func (d *doc) opticalTables(o *OpticalDetail) {
 	k := o.Endoscopist.ClassesKappa
 	d.table([]column{{"Three classes: call", 50, "L"}, {"Adenoma", 25, "R"}, {"Serrated", 25, "R"}, {"Hyperplastic", 25, "R"}, {"Normal or other", 28, "R"}}, rows)
 	d.note(fmt.Sprintf("Three-class agreement over lesions with adenoma, serrated or hyperplastic histology: kappa %s.", kappaText(k)))
+}
+
+// withInterval prints a value with its 95% interval under it.
+func withInterval(ind Indicator) string {
+	if iv := FormatInterval(ind); iv != "" {
+		return FormatValue(ind) + "\n" + iv
+	}
+	return FormatValue(ind)
 }
 
 func kappaText(k Kappa) string {
@@ -628,7 +652,7 @@ func (d *doc) adherence() {
 	var forest []ForestRow
 	for _, x := range inds {
 		id, ind := x[0].(string), x[1].(Indicator)
-		rows = append(rows, []string{d.populationLabel(id), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)})
+		rows = append(rows, []string{d.populationLabel(id), FormatCases(ind), FormatValue(ind), FormatInterval(ind), FormatTarget(ind), d.verdictText(ind)})
 		label := "unit"
 		if id != "" {
 			label = id
