@@ -3,6 +3,8 @@ package report
 import (
 	"math"
 
+	"polypledger/logbook"
+
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
@@ -184,9 +186,9 @@ func TraineeCasesChart(months []MonthCount, opt ChartOptions) ([]byte, error) {
 	}
 	all := []series{
 		{"all cases", func(m MonthCount) int { return m.Total }, lineStyle(shadeBlack, 1.4, nil), draw.CircleGlyph{}, shadeBlack},
-		{"independent", func(m MonthCount) int { return m.Independent }, lineStyle(shadeBlue, 1.1, dashed()), draw.BoxGlyph{}, shadeBlue},
-		{"supervised, hands on", func(m MonthCount) int { return m.SupervisedHandsOn }, lineStyle(shadeVermilion, 1.1, dotted()), upTriangle{}, shadeVermilion},
-		{"supervised, observed", func(m MonthCount) int { return m.SupervisedObserved }, lineStyle(shadeGreen, 1.1, dashDot()), downTriangle{}, shadeGreen},
+		{SupervisionWords(logbook.Independent), func(m MonthCount) int { return m.Independent }, lineStyle(shadeBlue, 1.1, dashed()), draw.BoxGlyph{}, shadeBlue},
+		{SupervisionWords(logbook.SupervisedHandsOn), func(m MonthCount) int { return m.SupervisedHandsOn }, lineStyle(shadeVermilion, 1.1, dotted()), upTriangle{}, shadeVermilion},
+		{SupervisionWords(logbook.SupervisedObserved), func(m MonthCount) int { return m.SupervisedObserved }, lineStyle(shadeGreen, 1.1, dashDot()), downTriangle{}, shadeGreen},
 		{"supervision not recorded", func(m MonthCount) int { return m.Unrecorded }, lineStyle(shadeGrey, 1, dashed()), thickRing{}, shadeGrey},
 	}
 	ys := newSpan()

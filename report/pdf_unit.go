@@ -122,8 +122,28 @@ func (d *doc) cover() {
 		[2]string{"Generated on", formatDay(in.GeneratedOn)},
 	)
 	c := in.Data.Completeness
-	rows = append(rows, [2]string{"Records", fmt.Sprintf("%d procedures, %d lesions", c.Procedures, c.Lesions)})
-	if in.Kind == UnitReport {
+	inds := in.Data.Metrics.Unit.Indicators
+	switch in.Kind {
+	case PersonalReport:
+		c = in.Data.OperatorCompleteness[in.SubjectID]
+		if me, ok := d.subjectResult(); ok {
+			inds = me.Indicators
+		} else {
+			inds = nil
+		}
+		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures and %s lesions by this endoscopist in the period "+
+			"(the unit's: %s procedures)", groupThousands(int64(c.Procedures)), groupThousands(int64(c.Lesions)),
+			groupThousands(int64(in.Data.Completeness.Procedures)))})
+	case TraineeReport:
+		before := 0
+		if tr := d.trainee(); tr != nil {
+			before = tr.CasesBefore
+		}
+		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures and %s lesions with the trainee holding the scope in the period; "+
+			"%s earlier procedures since the trainee's first case count in the learning curve", groupThousands(int64(c.Procedures)),
+			groupThousands(int64(c.Lesions)), groupThousands(int64(before)))})
+	default:
+		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures, %s lesions", groupThousands(int64(c.Procedures)), groupThousands(int64(c.Lesions)))})
 		rows = append(rows, [2]string{"Endoscopists", strconv.Itoa(len(in.Data.Metrics.Operators)) + " with at least one procedure in the period"})
 	}
 	d.keyValues(rows, 42)
@@ -139,7 +159,7 @@ func (d *doc) cover() {
 		return []string{field, strconv.Itoa(k), fmt.Sprintf("%d %s", n, of), pct(k, n)}
 	}
 	complete := 0
-	if ind, ok := Find(in.Data.Metrics.Unit.Indicators, "cir"); ok {
+	if ind, ok := Find(inds, "cir"); ok {
 		complete = int(ind.Numerator)
 	}
 	if in.Kind == TraineeReport {
@@ -167,7 +187,7 @@ func (d *doc) cover() {
 		line("Procedures awaiting any histology", c.PendingProcedures, c.Procedures, "procedures"),
 	)
 	d.table([]column{{"Field not recorded", 90, "L"}, {"Missing", 22, "R"}, {"Of", 40, "R"}, {"Share", 28, "R"}}, tbl)
-	if adr, ok := Find(in.Data.Metrics.Unit.Indicators, "adr"); ok && adr.AwaitingHistology > 0 {
+	if adr, ok := Find(inds, "adr"); ok && adr.AwaitingHistology > 0 && in.Kind != TraineeReport {
 		d.note(fmt.Sprintf("%d detection-eligible procedures still await histology. Until it is reported they count as "+
 			"having no adenoma, so detection rates may rise once results arrive.", adr.AwaitingHistology))
 	}

@@ -45,11 +45,13 @@ func (a *Audit) ReportInput(ctx context.Context, req ReportRequest, figs Figures
 	}, nil
 }
 
-// WriteReportFile computes the period's figures in one pass and writes the
-// PDF to path under a temporary name first, so that a failed or cancelled
-// report leaves no partial file. progress is passed to ComputeFigures.
+// WriteReportFile computes the report's figures in one pass
+// (ReportFigures) and writes the PDF to path under a temporary name first,
+// so that a failed or cancelled report leaves no partial file. The command
+// line and the app both make their reports here, so that the same request
+// gives the same report. progress is passed to ReportFigures.
 func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequest, progress func(cases int)) error {
-	figs, err := a.ComputeFigures(ctx, req.From, req.To, req.Guideline, progress)
+	figs, err := a.ReportFigures(ctx, req, progress)
 	if err != nil {
 		return err
 	}
