@@ -1,6 +1,7 @@
 package app
 
 import (
+	"strings"
 	"testing"
 
 	"fyne.io/fyne/v2"
@@ -21,30 +22,44 @@ func fillValidCase(f *caseForm, id string) {
 	f.indication.Set(logbook.Screening)
 	f.extent.Set(logbook.ExtentCaecum)
 	f.withdrawal.SetText("8:15")
-	for i, v := range []string{"3", "2", "2"} {
-		f.bbps[i].SetSelected(v)
+	for i, v := range []int{3, 2, 2} {
+		f.bbps[i].SetSelectedIndex(v + 1)
 	}
 }
 
 func TestEntryValidationAndSave(t *testing.T) {
 	u := newTestUI(t, 50)
-	u.win.SetContent(u.form.content)
+	u.tabs.SelectIndex(1)
 	u.win.Resize(fyne.NewSize(1200, 900))
 	f := u.form
 
-	// An empty form cannot be saved and says what is missing beside each field.
-	if !f.save.Disabled() {
-		t.Fatal("Save is enabled on an empty form")
+	// An empty form says nothing before anything is typed.
+	required := []string{"procedure_id", "operator_id", "age", "sex", "indication", "extent"}
+	for _, field := range required {
+		if got := f.fields.message(field); got != "" {
+			t.Errorf("before anything is typed, %s already says %q", field, got)
+		}
 	}
-	for _, field := range []string{"procedure_id", "operator_id", "age", "sex", "indication", "extent"} {
+	// Trying to save it says what is missing beside each field, stores
+	// nothing and gives the keyboard to the first field missing.
+	test.Tap(f.save)
+	u.jobs.wait()
+	for _, field := range required {
 		if got := f.fields.message(field); got != "is required" {
 			t.Errorf("message beside %s = %q, want %q", field, got, "is required")
 		}
 	}
+	if u.win.Canvas().Focused() != f.id {
+		t.Errorf("after a refused save the keyboard is on %T, not the procedure number", u.win.Canvas().Focused())
+	}
+	if n, _ := u.st.CountProcedures(u.ctx, store.ListQuery{}); n != 50 {
+		t.Fatalf("a refused save stored something: %d procedures", n)
+	}
 
+	f.startNew(false)
 	fillValidCase(f, "NEW-1")
-	if f.save.Disabled() {
-		t.Fatalf("Save stays disabled on a valid case: %v", f.problems)
+	if len(f.problems) > 0 {
+		t.Fatalf("a valid case has problems: %v", f.problems)
 	}
 	if got, want := f.bbpsTotal.Text, "Total 7 of 9 – adequate (every segment 2 or more)"; got != want {
 		t.Errorf("Boston total = %q, want %q", got, want)
@@ -72,22 +87,24 @@ func TestEntryValidationAndSave(t *testing.T) {
 		if f.fields.message(tc.field) == "" {
 			t.Errorf("%s: no message beside %s", tc.name, tc.field)
 		}
-		if !f.save.Disabled() {
-			t.Errorf("%s: Save is enabled", tc.name)
+		if len(f.problems) == 0 {
+			t.Errorf("%s: the case has no problem", tc.name)
 		}
 		tc.undo()
-		if f.save.Disabled() {
-			t.Errorf("%s: Save stays disabled after the fix: %v", tc.name, f.problems)
+		if len(f.problems) > 0 {
+			t.Errorf("%s: problems remain after the fix: %v", tc.name, f.problems)
 		}
 	}
 
 	// A lesion added through the list is saved with the case.
 	f.lesions = append(f.lesions, logbook.Lesion{LesionNo: 1, Segment: logbook.Sigmoid, SizeMM: 4,
 		Resection: logbook.ColdSnare, Retrieved: logbook.Yes, SentToPathology: logbook.Yes, Histology: logbook.HistPending})
+	f.showLesions()
 	f.changed()
 
-	// Enter in a field saves.
+	// Enter in a field saves (off the UI thread).
 	f.age.TypedKey(&fyne.KeyEvent{Name: fyne.KeyReturn})
+	u.jobs.wait()
 	c, err := u.st.Case(u.ctx, "NEW-1")
 	if err != nil {
 		t.Fatalf("the case was not saved: %v", err)
@@ -105,11 +122,12 @@ func TestEntryValidationAndSave(t *testing.T) {
 
 	// Editing shows the short code only, never the hospital number.
 	f.edit(c)
-	if f.patient.Text != "" || f.patientCode.Text != "Kept as "+logbook.ShortCode(c.PatientKey) {
+	if f.patient.Text != "" || !strings.HasPrefix(f.patientCode.Text, "Kept as "+logbook.ShortCode(c.PatientKey)+".") {
 		t.Errorf("edit shows patient %q / %q", f.patient.Text, f.patientCode.Text)
 	}
 	f.age.SetText("59")
 	test.Tap(f.save)
+	u.jobs.wait()
 	if c, _ = u.st.Case(u.ctx, "NEW-1"); c.Age != 59 || c.PatientKey != want {
 		t.Errorf("edited case: age %d, key kept %v", c.Age, c.PatientKey == want)
 	}
@@ -117,6 +135,7 @@ func TestEntryValidationAndSave(t *testing.T) {
 	// A duplicate id is refused by the store and shown beside the id.
 	fillValidCase(f, "NEW-1")
 	f.submit()
+	u.jobs.wait()
 	if got := f.fields.message("procedure_id"); got == "" {
 		t.Error("a duplicate procedure id gave no message beside the field")
 	}
@@ -141,14 +160,17 @@ func TestLesionEditorValidates(t *testing.T) {
 	l := logbook.NewLesion()
 	l.LesionNo = 1
 	e := newLesionEditor(u, l)
-	if !e.keep.Disabled() {
-		t.Fatal("an empty lesion can be kept")
+	kept := false
+	e.onDone = func(keep bool) { kept = keep }
+	test.Tap(e.keep)
+	if kept || e.fields.message("segment") != "is required" {
+		t.Fatalf("an empty lesion was kept (%v) or says %q beside its segment", kept, e.fields.message("segment"))
 	}
 	e.segment.Set(logbook.Rectum)
 	e.size.SetText("3")
 	e.optical.Set(logbook.OpticalUncertain)
 	e.confidence.Set(logbook.HighConfidence)
-	if e.fields.message("confidence") == "" || !e.keep.Disabled() {
+	if e.fields.message("confidence") == "" || len(e.problems) == 0 {
 		t.Error("an uncertain call with high confidence is accepted")
 	}
 	e.confidence.Set(logbook.LowConfidence)
@@ -157,7 +179,8 @@ func TestLesionEditorValidates(t *testing.T) {
 	if e.histology.Value() != logbook.HistPending {
 		t.Errorf("a specimen sent starts as %q, want pending", e.histology.Value())
 	}
-	if e.keep.Disabled() {
+	test.Tap(e.keep)
+	if !kept {
 		t.Errorf("a valid lesion cannot be kept: %v", e.problems)
 	}
 }

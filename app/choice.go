@@ -41,6 +41,23 @@ func (s *keySelect) init(options []string, changed func(string)) {
 	s.PlaceHolder = "choose…"
 }
 
+// selector is every keyboard-friendly drop-down: a keySelect or a type
+// that embeds one.
+type selector interface {
+	fyne.Widget
+	base() *keySelect
+}
+
+// base returns the drop-down itself (for a type that embeds it, the
+// embedded keySelect).
+func (s *keySelect) base() *keySelect { return s }
+
+// FocusGained shows the focus and brings the drop-down into view.
+func (s *keySelect) FocusGained() {
+	s.Select.FocusGained()
+	revealFocused()
+}
+
 // TypedKey saves on Enter and otherwise behaves as a drop-down.
 func (s *keySelect) TypedKey(e *fyne.KeyEvent) {
 	if (e.Name == fyne.KeyReturn || e.Name == fyne.KeyEnter) && s.OnSubmit != nil {

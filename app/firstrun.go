@@ -10,7 +10,6 @@ import (
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
-	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/widget"
 
 	"polypledger/logbook"
@@ -23,14 +22,14 @@ import (
 // unit of one's own.
 type firstRun struct {
 	u        *ui
-	path     *widget.Entry
+	path     *entry
 	problem  *widget.Label
-	demoSize *widget.Entry
-	unitName *widget.Entry
+	demoSize *entry
+	unitName *entry
 	roster   []logbook.RosterEntry
 	rosterUI *fyne.Container
-	newID    *widget.Entry
-	newName  *widget.Entry
+	newID    *entry
+	newName  *entry
 	newRole  *choice[logbook.Role]
 }
 
@@ -38,31 +37,19 @@ type firstRun struct {
 // empty, says why the file could not be opened.
 func (u *ui) showFirstRun(path, problem string) {
 	fr := &firstRun{u: u}
-	fr.path = widget.NewEntry()
+	fr.path = newEntry("where the database file is kept")
 	fr.path.SetText(path)
-	choose := widget.NewButton("Choose another place…", func() {
-		d := dialog.NewFileSave(func(w fyne.URIWriteCloser, err error) {
-			if err != nil || w == nil {
-				return
-			}
-			p := w.URI().Path()
-			w.Close()
+	choose := newButton("Choose another place…", func() {
+		u.saveFile(filepath.Base(path), func(p string) {
 			os.Remove(p) // the dialog creates the file; the store creates its own
 			fr.path.SetText(p)
-		}, u.win)
-		d.SetFileName(filepath.Base(path))
-		d.Show()
+		})
 	})
-	openOther := widget.NewButton("Open an existing database…", func() {
-		dialog.ShowFileOpen(func(r fyne.URIReadCloser, err error) {
-			if err != nil || r == nil {
-				return
-			}
-			p := r.URI().Path()
-			r.Close()
+	openOther := newButton("Open an existing database…", func() {
+		u.openFile([]string{".db", ".sqlite", ".sqlite3"}, func(p string) {
 			fr.path.SetText(p)
 			fr.openExisting()
-		}, u.win)
+		})
 	})
 	fr.problem = widget.NewLabel(problem)
 	fr.problem.Importance = widget.DangerImportance
@@ -71,9 +58,9 @@ func (u *ui) showFirstRun(path, problem string) {
 		fr.problem.SetText("This database could not be opened: " + problem)
 	}
 
-	fr.demoSize = widget.NewEntry()
+	fr.demoSize = newEntry("number of cases")
 	fr.demoSize.SetText("4000")
-	demoBtn := widget.NewButton("Open a demo unit", fr.makeDemo)
+	demoBtn := newButton("Open a demo unit", fr.makeDemo)
 	demoBtn.Importance = widget.HighImportance
 	demoText := widget.NewLabel("A made-up unit with eight endoscopists, two trainees and two years of invented cases, to try every screen. None of it is real patient data.")
 	demoText.Wrapping = fyne.TextWrapWord
@@ -83,36 +70,37 @@ func (u *ui) showFirstRun(path, problem string) {
 		container.NewBorder(nil, nil, widget.NewLabel("Number of cases"), nil, fr.demoSize),
 		demoBtn)
 
-	fr.unitName = widget.NewEntry()
-	fr.unitName.SetPlaceHolder("e.g. Riverside Hospital Endoscopy")
-	fr.newID = widget.NewEntry()
-	fr.newID.SetPlaceHolder("short id, e.g. E01")
-	fr.newName = widget.NewEntry()
-	fr.newName.SetPlaceHolder("name as it appears on reports")
+	fr.unitName = newEntry("e.g. Riverside Hospital Endoscopy")
+	fr.newID = newEntry("short id, e.g. E01")
+	fr.newName = newEntry("name as it appears on reports")
 	fr.newRole = newChoice(logbook.Roles, roleWords, false, nil)
 	fr.newRole.Set(logbook.RoleEndoscopist)
 	fr.rosterUI = container.NewVBox()
-	add := widget.NewButton("Add to the roster", fr.addPerson)
+	add := newButton("Add to the roster", fr.addPerson)
 	fr.newName.OnSubmitted = func(string) { fr.addPerson() }
-	create := widget.NewButton("Start an empty unit", fr.makeEmpty)
+	create := newButton("Start an empty unit", fr.makeEmpty)
 	create.Importance = widget.HighImportance
 	emptyBox := container.NewVBox(
 		widget.NewLabelWithStyle("Start your own unit", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		container.NewBorder(nil, nil, widget.NewLabel("Unit name"), nil, fr.unitName),
 		widget.NewLabel("Who performs or learns colonoscopy here (you can add more later):"),
 		fr.rosterUI,
-		container.NewGridWithColumns(4, fr.newID, fr.newName, fr.newRole, add),
+		container.NewGridWithColumns(2, fr.newID, fr.newName),
+		container.NewGridWithColumns(2, fr.newRole, add),
 		create)
 	fr.showRoster()
 
 	title := widget.NewLabelWithStyle("Welcome to polypledger", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
 	intro := widget.NewLabel("There is no logbook database here yet. It will be kept in this file:")
-	body := container.NewVBox(title, intro,
-		container.NewBorder(nil, nil, nil, container.NewHBox(choose, openOther), fr.path),
+	cards, layout := newColumns(420, widget.NewCard("", "", demoBox), widget.NewCard("", "", emptyBox))
+	body := container.NewVBox(title, intro, fr.path, container.NewHBox(choose, openOther),
 		fr.problem,
 		widget.NewSeparator(),
-		container.NewGridWithColumns(2, widget.NewCard("", "", demoBox), widget.NewCard("", "", emptyBox)))
-	u.win.SetContent(container.NewVScroll(container.NewPadded(body)))
+		cards)
+	scroll := container.NewVScroll(container.NewPadded(body))
+	layout.onChange = scroll.Refresh
+	u.win.SetMainMenu(nil)
+	u.win.SetContent(scroll)
 }
 
 func (fr *firstRun) showRoster() {
@@ -124,10 +112,10 @@ func (fr *firstRun) showRoster() {
 	}
 	for i, r := range fr.roster {
 		i := i
-		fr.rosterUI.Add(container.NewBorder(nil, nil, nil, widget.NewButton("Remove", func() {
+		fr.rosterUI.Add(container.NewBorder(nil, nil, nil, newButton("Remove "+r.ID, func() {
 			fr.roster = append(fr.roster[:i:i], fr.roster[i+1:]...)
 			fr.showRoster()
-		}), widget.NewLabel(fmt.Sprintf("%s – %s (%s)", r.ID, r.Name, strings.ToLower(roleWords[r.Role])))))
+		}), rosterLine(r)))
 	}
 }
 

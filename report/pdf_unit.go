@@ -7,16 +7,17 @@ import (
 	"strings"
 )
 
-// indicatorGroups orders the summary table; ids a group does not name go
+// IndicatorGroup is a heading and the indicators under it.
+type IndicatorGroup struct {
+	Title string
+	IDs   []string
+}
+
+// IndicatorGroups orders the indicators under headings, as the reports'
+// tables and the app's figures screen show them; ids no group names go
 // under "Other figures".
-func indicatorGroups() []struct {
-	title string
-	ids   []string
-} {
-	return []struct {
-		title string
-		ids   []string
-	}{
+func IndicatorGroups() []IndicatorGroup {
+	return []IndicatorGroup{
 		{"Detection (detection-eligible procedures)", []string{"adr", "adr_male", "adr_female", "adr_stool_test_positive", "ssldr", "pdr", "aadr", "apc", "proximal_sdr"}},
 		{"Completion and bowel preparation", []string{"cir", "cir_adjusted", "caecal_photo", "prep_adequate", "prep_recorded", "prep_adequate_total6", "retroversion"}},
 		{"Withdrawal", []string{"withdrawal_negative", "withdrawal_timed", "withdrawal_6min_share"}},
@@ -34,16 +35,16 @@ func indicatorGroups() []struct {
 func (d *doc) groupedRows(inds []Indicator, row func(Indicator) []string) [][]string {
 	var out [][]string
 	used := map[string]bool{}
-	for _, g := range indicatorGroups() {
+	for _, g := range IndicatorGroups() {
 		var group []Indicator
-		for _, id := range g.ids {
+		for _, id := range g.IDs {
 			if ind, ok := Find(inds, id); ok {
 				group = append(group, ind)
 				used[id] = true
 			}
 		}
 		if len(group) > 0 {
-			out = append(out, []string{groupMark + g.title})
+			out = append(out, []string{groupMark + g.Title})
 			out = append(out, d.withNotes(group, row)...)
 		}
 	}
