@@ -1,8 +1,10 @@
 package app
 
 import (
+	"database/sql"
 	"strings"
 	"testing"
+	"time"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/test"
@@ -182,5 +184,63 @@ func TestLesionEditorValidates(t *testing.T) {
 	test.Tap(e.keep)
 	if !kept {
 		t.Errorf("a valid lesion cannot be kept: %v", e.problems)
+	}
+}
+
+// TestTypingNeverWaitsForTheDatabase holds the database's write lock from
+// another connection, as another program writing would, while a hospital
+// number is typed: no keystroke may wait for it, because nothing is
+// written while typing. Saving then waits off the UI thread, says so, and
+// stores the case with the pseudonym once the other writer is done.
+func TestTypingNeverWaitsForTheDatabase(t *testing.T) {
+	t.Setenv("POLYPLEDGER_BUSY_TIMEOUT", "60s")
+	u := newTestUI(t, 20)
+	u.tabs.SelectIndex(1)
+	f := u.form
+	fillValidCase(f, "BUSY-1") // types the hospital number "rx 4471"
+
+	db, err := sql.Open("sqlite", u.st.Path())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	other, err := db.Conn(u.ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer other.Close()
+	if _, err := other.ExecContext(u.ctx, "BEGIN IMMEDIATE"); err != nil {
+		t.Fatal(err)
+	}
+
+	typed := make(chan struct{})
+	go func() {
+		fyne.DoAndWait(func() { test.Type(f.patient, "2") })
+		close(typed)
+	}()
+	select {
+	case <-typed:
+	case <-time.After(20 * time.Second): // a write per keystroke would wait the whole 60 s
+		t.Fatal("a keystroke in the hospital number waited for the database")
+	}
+
+	f.submit()
+	if !f.saving || !strings.HasPrefix(f.notice.Text, "Saving case BUSY-1") || !f.progress.Visible() {
+		t.Errorf("while the save waits the screen says %q (saving %v)", f.notice.Text, f.saving)
+	}
+	if _, err := u.st.Case(u.ctx, "BUSY-1"); err == nil {
+		t.Fatal("the case was stored while another program held the write lock")
+	}
+	if _, err := other.ExecContext(u.ctx, "ROLLBACK"); err != nil {
+		t.Fatal(err)
+	}
+	u.jobs.wait()
+	c, err := u.st.Case(u.ctx, "BUSY-1")
+	if err != nil {
+		t.Fatalf("the case was not stored once the other writer finished: %v (screen says %q)", err, f.notice.Text)
+	}
+	want, _ := u.st.Pseudonymise("RX 44712")
+	if c.PatientKey != want || strings.Contains(f.notice.Text, "4471") {
+		t.Errorf("stored key %q, want the pseudonym of the number typed; the screen says %q", c.PatientKey, f.notice.Text)
 	}
 }
