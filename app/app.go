@@ -44,6 +44,7 @@ func Run(dbPath string) error {
 	w := a.NewWindow("polypledger")
 	u := newUI(a, w, time.Now)
 	u.startTab = os.Getenv("POLYPLEDGER_START_TAB")
+	u.startLayoutFile()
 	u.start(dbPath)
 	w.Resize(fyne.NewSize(1280, 800))
 	w.ShowAndRun()
@@ -73,6 +74,10 @@ type ui struct {
 	figures *figuresScreen
 	reports *reportScreen
 	unit    *unitScreen
+
+	// names are what fields outside the forms are called, for the layout
+	// file of the end-to-end tests (layoutfile.go).
+	names map[fyne.CanvasObject]string
 }
 
 func newUI(a fyne.App, w fyne.Window, now func() time.Time) *ui {

@@ -92,6 +92,8 @@ func newCaseList(u *ui) *caseList {
 	l.pending = widget.NewCheck("Only cases awaiting histology", func(bool) { apply() })
 	l.countLabel = widget.NewLabel("")
 	l.refreshRoster()
+	u.name(l.operator, "Endoscopist")
+	u.name(l.indication, "Reason")
 
 	l.table = widget.NewTableWithHeaders(
 		func() (int, int) {

@@ -3,6 +3,7 @@ package app
 import (
 	"fmt"
 	"strings"
+	"time"
 	"unicode"
 
 	"fyne.io/fyne/v2"
@@ -23,6 +24,15 @@ import (
 type keySelect struct {
 	widget.Select
 	OnSubmit func()
+	// opened is when the list was last opened, so that the layout file
+	// can tell whose list is open.
+	opened time.Time
+}
+
+// Tapped opens the list.
+func (s *keySelect) Tapped(ev *fyne.PointEvent) {
+	s.opened = time.Now()
+	s.Select.Tapped(ev)
 }
 
 // newKeySelect returns a keyboard-friendly drop-down over options.
@@ -63,6 +73,9 @@ func (s *keySelect) TypedKey(e *fyne.KeyEvent) {
 	if (e.Name == fyne.KeyReturn || e.Name == fyne.KeyEnter) && s.OnSubmit != nil {
 		s.OnSubmit()
 		return
+	}
+	if e.Name == fyne.KeySpace || e.Name == fyne.KeyUp || e.Name == fyne.KeyDown {
+		s.opened = time.Now()
 	}
 	s.Select.TypedKey(e)
 }

@@ -68,6 +68,8 @@ func newFiguresScreen(u *ui) *figuresScreen {
 	s.status.Hide()
 	s.body = container.NewVBox()
 	s.refreshChoices()
+	u.name(s.standard, "Standard")
+	u.name(s.whose, "Whose figures")
 	controls := container.NewVBox(
 		container.NewHBox(widget.NewLabel("Period"), s.period.content),
 		container.NewBorder(nil, nil, widget.NewLabel("Standard"), nil, s.standard),

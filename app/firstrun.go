@@ -75,6 +75,9 @@ func (u *ui) showFirstRun(path, problem string) {
 	fr.newName = newEntry("name as it appears on reports")
 	fr.newRole = newChoice(logbook.Roles, roleWords, false, nil)
 	fr.newRole.Set(logbook.RoleEndoscopist)
+	u.name(fr.newRole, "Role")
+	u.name(fr.demoSize, "Number of cases")
+	u.name(fr.unitName, "Unit name")
 	fr.rosterUI = container.NewVBox()
 	add := newButton("Add to the roster", fr.addPerson)
 	fr.newName.OnSubmitted = func(string) { fr.addPerson() }

@@ -3,6 +3,7 @@ package app
 import (
 	"fmt"
 	"strings"
+	"unicode"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
@@ -22,14 +23,14 @@ func lesionSummary(l logbook.Lesion) string {
 		parts = append(parts, "Paris "+string(l.Paris))
 	}
 	if l.OpticalClass != "" {
-		s := "looks like " + strings.ToLower(opticalWords[l.OpticalClass])
+		s := "looks like " + lowerFirst(opticalWords[l.OpticalClass])
 		if l.Confidence != "" {
-			s += " (" + strings.ToLower(confidenceWords[l.Confidence]) + " confidence)"
+			s += " (" + lowerFirst(confidenceWords[l.Confidence]) + " confidence)"
 		}
 		parts = append(parts, s)
 	}
 	if l.Resection != "" {
-		parts = append(parts, strings.ToLower(resectionWords[l.Resection]))
+		parts = append(parts, lowerFirst(resectionWords[l.Resection]))
 	}
 	if l.Retrieved == logbook.Yes {
 		parts = append(parts, "retrieved")
@@ -38,15 +39,26 @@ func lesionSummary(l logbook.Lesion) string {
 	case l.Histology == logbook.HistPending:
 		parts = append(parts, "histology awaited")
 	case l.Histology != "":
-		h := strings.ToLower(histologyWords[l.Histology])
+		h := lowerFirst(histologyWords[l.Histology])
 		if l.Dysplasia != "" && l.Dysplasia != logbook.DysplasiaNone {
-			h += ", " + strings.ToLower(dysplasiaWords[l.Dysplasia]) + " dysplasia"
+			h += ", " + lowerFirst(dysplasiaWords[l.Dysplasia]) + " dysplasia"
 		}
 		parts = append(parts, h)
 	case l.SentToPathology == logbook.No:
 		parts = append(parts, "not sent to pathology")
 	}
 	return strings.Join(parts, ", ")
+}
+
+// lowerFirst lower-cases the first letter of words for use inside a
+// sentence, leaving an abbreviation ("EMR", "NBI") as it is.
+func lowerFirst(w string) string {
+	r := []rune(w)
+	if len(r) == 0 || (len(r) > 1 && unicode.IsUpper(r[1])) {
+		return w
+	}
+	r[0] = unicode.ToLower(r[0])
+	return string(r)
 }
 
 func wordOr(w, fallback string) string {

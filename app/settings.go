@@ -65,6 +65,7 @@ func newUnitScreen(u *ui) *unitScreen {
 	s.newName = newEntry("name as printed on reports")
 	s.newRole = newChoice(logbook.Roles, roleWords, false, nil)
 	s.newRole.Set(logbook.RoleEndoscopist)
+	u.name(s.newRole, "Role")
 	add := newButton("Add to the roster", s.addPerson)
 	s.newName.OnSubmitted = func(string) { s.addPerson() }
 	keyNote := widget.NewLabel("Patient codes are made with the unit key kept in the settings folder, not in the database. Back the key up together with the database, but keep the two apart.")

@@ -1,6 +1,8 @@
 package app
 
 import (
+	"reflect"
+
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/canvas"
 	"fyne.io/fyne/v2/container"
@@ -136,6 +138,15 @@ func children(o fyne.CanvasObject) []fyne.CanvasObject {
 		return out
 	case *container.Split:
 		return []fyne.CanvasObject{c.Leading, c.Trailing}
+	}
+	// Toolkit containers of other kinds (the overlay holding an open
+	// drop-down list) keep what they hold in an exported Content field.
+	if v := reflect.ValueOf(o); v.Kind() == reflect.Pointer && !v.IsNil() && v.Elem().Kind() == reflect.Struct {
+		if f := v.Elem().FieldByName("Content"); f.IsValid() && f.CanInterface() {
+			if c, ok := f.Interface().(fyne.CanvasObject); ok && c != nil {
+				return []fyne.CanvasObject{c}
+			}
+		}
 	}
 	return nil
 }
