@@ -158,9 +158,26 @@ func TestCaseEnteredWithTheMouse(t *testing.T) {
 	s := d.start(u)
 	s.showScreen(2, "The procedure")
 	date := yesterday()
-	values := caseValues("E2E-MOUSE", date)
-	sc := s.screen()
-	for _, it := range sc.Items {
+	s.mouseFill(caseValues("E2E-MOUSE", date))
+	for i, lesion := range lesionValues() {
+		s.click("button", "Add a lesion")
+		s.waitItem("button", "Keep this lesion  (Enter)")
+		s.mouseFill(lesion)
+		s.click("button", "Keep this lesion  (Enter)")
+		s.waitItem("button", fmt.Sprintf("Edit lesion %d", i+1))
+	}
+	s.screenshot("entry-filled-1920x1080")
+	s.click("button", "Save the case  (Enter)")
+	s.waitFor("the case to be saved", func(sc screen) bool { return sc.has("Saved case E2E-MOUSE") })
+	s.stop()
+	checkStoredCase(t, u, "E2E-MOUSE", date)
+}
+
+// mouseFill fills every field on screen named in values, in screen order,
+// clicking each field and drop-down.
+func (s *session) mouseFill(values map[string]string) {
+	s.t.Helper()
+	for _, it := range s.screen().Items {
 		v, ok := values[it.Name]
 		if !ok {
 			continue
@@ -172,29 +189,6 @@ func TestCaseEnteredWithTheMouse(t *testing.T) {
 			s.choose(it.Name, v)
 		}
 	}
-	for i, lesion := range lesionValues() {
-		s.click("button", "Add a lesion")
-		s.waitItem("button", "Keep this lesion  (Enter)")
-		for _, it := range s.screen().Items {
-			v, ok := lesion[it.Name]
-			if !ok {
-				continue
-			}
-			switch it.Kind {
-			case "entry":
-				s.fillEntry(it.Name, v)
-			case "select":
-				s.choose(it.Name, v)
-			}
-		}
-		s.click("button", "Keep this lesion  (Enter)")
-		s.waitItem("button", fmt.Sprintf("Edit lesion %d", i+1))
-	}
-	s.screenshot("entry-filled-1920x1080")
-	s.click("button", "Save the case  (Enter)")
-	s.waitFor("the case to be saved", func(sc screen) bool { return sc.has("Saved case E2E-MOUSE") })
-	s.stop()
-	checkStoredCase(t, u, "E2E-MOUSE", date)
 }
 
 // TestCaseEnteredWithTheKeyboard enters the same case with the keyboard
