@@ -76,10 +76,7 @@ func revealFocused() {
 		if !ok || f == nil {
 			continue
 		}
-		roots := []fyne.CanvasObject{c.Content()}
-		for _, o := range c.Overlays().List() {
-			roots = append(roots, o)
-		}
+		roots := append([]fyne.CanvasObject{c.Content()}, c.Overlays().List()...)
 		for _, r := range roots {
 			if path := pathTo(r, f); path != nil {
 				revealIn(path, f)
