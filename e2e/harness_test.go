@@ -427,18 +427,31 @@ func (s *session) screen() screen {
 	return screen{}
 }
 
-// waitFor polls the screen until cond holds, failing after a while with
-// what was awaited.
-func (s *session) waitFor(what string, cond func(screen) bool) screen {
+// poll reads the screen until cond holds or timeout passes; it returns the
+// last screen read and whether cond held.
+func (s *session) poll(timeout time.Duration, cond func(screen) bool) (screen, bool) {
 	s.t.Helper()
-	deadline := time.Now().Add(60 * time.Second)
+	deadline := time.Now().Add(timeout)
 	var sc screen
-	for time.Now().Before(deadline) {
+	for {
 		sc = s.screen()
 		if cond(sc) {
-			return sc
+			return sc, true
+		}
+		if time.Now().After(deadline) {
+			return sc, false
 		}
 		time.Sleep(60 * time.Millisecond)
+	}
+}
+
+// waitFor polls the screen until cond holds, failing after a minute with
+// what was awaited and what is on screen.
+func (s *session) waitFor(what string, cond func(screen) bool) screen {
+	s.t.Helper()
+	sc, ok := s.poll(time.Minute, cond)
+	if ok {
+		return sc
 	}
 	var names []string
 	for _, it := range sc.Items {
@@ -537,11 +550,19 @@ func (s *session) choose(name, option string) {
 }
 
 // showScreen switches to screen n (1–6) with its Alt key and waits for a
-// label that only it shows.
+// label that only it shows. A key pressed while the program is still
+// building its screens is lost, as it would be for a person; the key is
+// pressed again until the screen shows.
 func (s *session) showScreen(n int, label string) screen {
 	s.t.Helper()
-	s.key(fmt.Sprintf("alt+%d", n))
-	return s.waitFor("screen "+strconv.Itoa(n)+" ("+label+")", func(sc screen) bool { return sc.has(label) })
+	shown := func(sc screen) bool { return sc.has(label) }
+	for try := 0; try < 10; try++ {
+		s.key(fmt.Sprintf("alt+%d", n))
+		if sc, ok := s.poll(3*time.Second, shown); ok {
+			return sc
+		}
+	}
+	return s.waitFor("screen "+strconv.Itoa(n)+" ("+label+")", shown)
 }
 
 // errNotFound is returned by record lookups.
