@@ -54,8 +54,9 @@ func (u *ui) showFirstRun(path, problem string) {
 	fr.problem = widget.NewLabel(problem)
 	fr.problem.Importance = widget.DangerImportance
 	fr.problem.Wrapping = fyne.TextWrapWord
+	showText(fr.problem, "")
 	if problem != "" {
-		fr.problem.SetText("This database could not be opened: " + problem)
+		showText(fr.problem, "This database could not be opened: "+problem)
 	}
 
 	fr.demoSize = newEntry("number of cases")
@@ -125,16 +126,16 @@ func (fr *firstRun) showRoster() {
 func (fr *firstRun) addPerson() {
 	r := logbook.RosterEntry{ID: strings.TrimSpace(fr.newID.Text), Name: strings.TrimSpace(fr.newName.Text), Role: fr.newRole.Value()}
 	if ps := logbook.ValidateRosterEntry(r); len(ps) > 0 {
-		fr.problem.SetText("Roster: " + ps[0].Error())
+		showText(fr.problem, "Roster: "+ps[0].Error())
 		return
 	}
 	for _, x := range fr.roster {
 		if x.ID == r.ID {
-			fr.problem.SetText("Roster: " + r.ID + " is already on the list")
+			showText(fr.problem, "Roster: "+r.ID+" is already on the list")
 			return
 		}
 	}
-	fr.problem.SetText("")
+	showText(fr.problem, "")
 	fr.roster = append(fr.roster, r)
 	fr.newID.SetText("")
 	fr.newName.SetText("")
@@ -146,11 +147,11 @@ func (fr *firstRun) addPerson() {
 func (fr *firstRun) target() (string, bool) {
 	p := strings.TrimSpace(fr.path.Text)
 	if p == "" {
-		fr.problem.SetText("Say where the database file should be kept.")
+		showText(fr.problem, "Say where the database file should be kept.")
 		return "", false
 	}
 	if _, err := os.Stat(p); err == nil {
-		fr.problem.SetText(p + " already exists; open it, or choose another place for a new unit.")
+		showText(fr.problem, p+" already exists; open it, or choose another place for a new unit.")
 		return "", false
 	}
 	return p, true
@@ -159,7 +160,7 @@ func (fr *firstRun) target() (string, bool) {
 func (fr *firstRun) openExisting() {
 	p := strings.TrimSpace(fr.path.Text)
 	if err := fr.u.open(p); err != nil {
-		fr.problem.SetText("This database could not be opened: " + err.Error())
+		showText(fr.problem, "This database could not be opened: "+err.Error())
 	}
 }
 
@@ -171,7 +172,7 @@ func (fr *firstRun) makeDemo() {
 	}
 	n, err := strconv.Atoi(strings.TrimSpace(fr.demoSize.Text))
 	if err != nil || n < 1 || n > 2_000_000 {
-		fr.problem.SetText("The number of cases must be a whole number from 1 to 2000000.")
+		showText(fr.problem, "The number of cases must be a whole number from 1 to 2000000.")
 		return
 	}
 	fr.u.jobs.run("Making the demo unit", func(ctx context.Context, report progressFunc) error {
@@ -192,12 +193,12 @@ func (fr *firstRun) makeDemo() {
 	}, func(err error) {
 		switch {
 		case cancelled(err):
-			fr.problem.SetText("Stopped; nothing was kept.")
+			showText(fr.problem, "Stopped; nothing was kept.")
 		case err != nil:
-			fr.problem.SetText("The demo unit could not be made: " + err.Error())
+			showText(fr.problem, "The demo unit could not be made: "+err.Error())
 		default:
 			if err := fr.u.open(p); err != nil {
-				fr.problem.SetText(err.Error())
+				showText(fr.problem, err.Error())
 			}
 		}
 	})
@@ -211,7 +212,7 @@ func (fr *firstRun) makeEmpty() {
 	}
 	name := strings.TrimSpace(fr.unitName.Text)
 	if name == "" {
-		fr.problem.SetText("Give the unit a name; it is printed on every report.")
+		showText(fr.problem, "Give the unit a name; it is printed on every report.")
 		return
 	}
 	st, err := workspace.OpenStore(fr.u.ctx, p, true)
@@ -230,11 +231,11 @@ func (fr *firstRun) makeEmpty() {
 	}
 	if err != nil {
 		removeDatabase(p)
-		fr.problem.SetText("The unit could not be created: " + err.Error())
+		showText(fr.problem, "The unit could not be created: "+err.Error())
 		return
 	}
 	if err := fr.u.open(p); err != nil {
-		fr.problem.SetText(err.Error())
+		showText(fr.problem, err.Error())
 	}
 }
 

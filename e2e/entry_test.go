@@ -210,6 +210,9 @@ func TestCaseEnteredWithTheKeyboard(t *testing.T) {
 			return ok && it.Name == "Segment"
 		})
 		s.keyboardFill(lesion, "Keep this lesion  (Enter)")
+		if i == 0 {
+			s.screenshot("lesion-1024x700")
+		}
 		s.key("Return")
 		s.waitItem("button", fmt.Sprintf("Edit lesion %d", i+1))
 		s.tabTo("Add a lesion")
