@@ -52,7 +52,6 @@ func newInbox(u *ui) *inbox {
 	imp := newButton("Import a results file (CSV)…", b.chooseImport)
 	help := widget.NewLabel("Choose the histology and dysplasia from the report and press Save (or Enter in the date). A file from the laboratory needs the columns procedure_id, lesion_no, histology, dysplasia, reported_on.")
 	help.Wrapping = fyne.TextWrapWord
-	help.Importance = widget.LowImportance
 	top := container.NewVBox(container.NewHBox(b.prev, b.next, imp), b.summary, help)
 	b.scroll = container.NewVScroll(b.list)
 	b.content = container.NewBorder(top, nil, nil, nil, b.scroll)
