@@ -547,12 +547,17 @@ func (f *caseForm) confirmDelete() {
 	}, f.u.win)
 }
 
+// deleteNow deletes the case off the UI thread.
 func (f *caseForm) deleteNow(id string) {
-	if err := f.u.st.DeleteCase(f.u.ctx, id); err != nil {
-		dialog.ShowError(fmt.Errorf("case %s was not deleted: %w", id, err), f.u.win)
-		return
-	}
-	f.startNew(true)
-	f.say("Deleted case " + id + ".")
-	f.u.recordsChanged()
+	f.del.Disable()
+	f.u.jobs.background(func() error { return f.u.st.DeleteCase(f.u.ctx, id) }, func(err error) {
+		f.del.Enable()
+		if err != nil {
+			dialog.ShowError(fmt.Errorf("case %s was not deleted: %w", id, err), f.u.win)
+			return
+		}
+		f.startNew(true)
+		f.say("Deleted case " + id + ".")
+		f.u.recordsChanged()
+	})
 }

@@ -145,6 +145,7 @@ func TestEntryValidationAndSave(t *testing.T) {
 	// Deleting is recorded in the change log.
 	f.edit(c)
 	f.deleteNow("NEW-1")
+	u.jobs.wait()
 	if _, err := u.st.Case(u.ctx, "NEW-1"); err == nil {
 		t.Error("the case is still there after delete")
 	}
@@ -187,6 +188,53 @@ func TestLesionEditorValidates(t *testing.T) {
 	}
 }
 
+// holdWriteLock takes the database's write lock from another connection,
+// as another program writing would, until release is called.
+func holdWriteLock(t *testing.T, u *ui) (release func()) {
+	t.Helper()
+	db, err := sql.Open("sqlite", u.st.Path())
+	if err != nil {
+		t.Fatal(err)
+	}
+	other, err := db.Conn(u.ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := other.ExecContext(u.ctx, "BEGIN IMMEDIATE"); err != nil {
+		t.Fatal(err)
+	}
+	done := false
+	release = func() {
+		if done {
+			return
+		}
+		done = true
+		if _, err := other.ExecContext(u.ctx, "ROLLBACK"); err != nil {
+			t.Error(err)
+		}
+		other.Close()
+		db.Close()
+	}
+	t.Cleanup(release)
+	return release
+}
+
+// returnsAtOnce runs action as the UI thread would and fails the test when
+// it waits for the database (a write waits the whole 60 s busy timeout).
+func returnsAtOnce(t *testing.T, what string, action func()) {
+	t.Helper()
+	done := make(chan struct{})
+	go func() {
+		fyne.DoAndWait(action)
+		close(done)
+	}()
+	select {
+	case <-done:
+	case <-time.After(20 * time.Second):
+		t.Fatalf("%s waited for the database on the UI thread", what)
+	}
+}
+
 // TestTypingNeverWaitsForTheDatabase holds the database's write lock from
 // another connection, as another program writing would, while a hospital
 // number is typed: no keystroke may wait for it, because nothing is
@@ -199,41 +247,16 @@ func TestTypingNeverWaitsForTheDatabase(t *testing.T) {
 	f := u.form
 	fillValidCase(f, "BUSY-1") // types the hospital number "rx 4471"
 
-	db, err := sql.Open("sqlite", u.st.Path())
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer db.Close()
-	other, err := db.Conn(u.ctx)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer other.Close()
-	if _, err := other.ExecContext(u.ctx, "BEGIN IMMEDIATE"); err != nil {
-		t.Fatal(err)
-	}
-
-	typed := make(chan struct{})
-	go func() {
-		fyne.DoAndWait(func() { test.Type(f.patient, "2") })
-		close(typed)
-	}()
-	select {
-	case <-typed:
-	case <-time.After(20 * time.Second): // a write per keystroke would wait the whole 60 s
-		t.Fatal("a keystroke in the hospital number waited for the database")
-	}
-
-	f.submit()
+	release := holdWriteLock(t, u)
+	returnsAtOnce(t, "a keystroke in the hospital number", func() { test.Type(f.patient, "2") })
+	returnsAtOnce(t, "saving the case", f.submit)
 	if !f.saving || !strings.HasPrefix(f.notice.Text, "Saving case BUSY-1") || !f.progress.Visible() {
 		t.Errorf("while the save waits the screen says %q (saving %v)", f.notice.Text, f.saving)
 	}
 	if _, err := u.st.Case(u.ctx, "BUSY-1"); err == nil {
 		t.Fatal("the case was stored while another program held the write lock")
 	}
-	if _, err := other.ExecContext(u.ctx, "ROLLBACK"); err != nil {
-		t.Fatal(err)
-	}
+	release()
 	u.jobs.wait()
 	c, err := u.st.Case(u.ctx, "BUSY-1")
 	if err != nil {
@@ -242,5 +265,62 @@ func TestTypingNeverWaitsForTheDatabase(t *testing.T) {
 	want, _ := u.st.Pseudonymise("RX 44712")
 	if c.PatientKey != want || strings.Contains(f.notice.Text, "4471") {
 		t.Errorf("stored key %q, want the pseudonym of the number typed; the screen says %q", c.PatientKey, f.notice.Text)
+	}
+}
+
+// TestOtherWritesWaitOffTheScreen holds another program's write lock while
+// a pathology result, a roster entry, the settings and a deletion are
+// saved: each returns to the screen at once and is stored once the lock is
+// free.
+func TestOtherWritesWaitOffTheScreen(t *testing.T) {
+	t.Setenv("POLYPLEDGER_BUSY_TIMEOUT", "60s")
+	u := newTestUI(t, 300)
+	u.inbox.reload()
+	row := u.inbox.rows[0]
+	row.histology.Set(logbook.TubularAdenoma)
+	row.dysplasia.Set(logbook.DysplasiaLow)
+	u.unit.load()
+	u.unit.newID.SetText("E42")
+	u.unit.newName.SetText("Dr New Person")
+	u.unit.name.SetText("Renamed Unit")
+	var caseID string // any stored case but the one given a result
+	if err := u.st.ForEachCase(u.ctx, store.CaseFilter{}, func(c *logbook.Case) error {
+		if caseID == "" && c.ID != row.item.Lesion.ProcedureID {
+			caseID = c.ID
+		}
+		return nil
+	}); err != nil || caseID == "" {
+		t.Fatalf("no case to delete: %v", err)
+	}
+
+	release := holdWriteLock(t, u)
+	returnsAtOnce(t, "saving a pathology result", func() { u.inbox.record(row) })
+	returnsAtOnce(t, "adding to the roster", u.unit.addPerson)
+	returnsAtOnce(t, "saving the settings", u.unit.save)
+	returnsAtOnce(t, "deleting a case", func() { u.form.deleteNow(caseID) })
+	release()
+	u.jobs.wait()
+
+	c, err := u.st.Case(u.ctx, row.item.Lesion.ProcedureID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, l := range c.Lesions {
+		if l.LesionNo == row.item.Lesion.LesionNo && l.Histology != logbook.TubularAdenoma {
+			t.Errorf("the pathology result was not stored: %s", l.Histology)
+		}
+	}
+	if s, _ := u.st.Settings(u.ctx); s.UnitName != "Renamed Unit" {
+		t.Errorf("the settings were not stored: unit name %q", s.UnitName)
+	}
+	found := false
+	for _, r := range u.roster {
+		found = found || r.ID == "E42"
+	}
+	if !found {
+		t.Error("the roster entry was not stored")
+	}
+	if _, err := u.st.Case(u.ctx, caseID); err == nil {
+		t.Errorf("case %s was not deleted", caseID)
 	}
 }

@@ -215,28 +215,36 @@ func (fr *firstRun) makeEmpty() {
 		showText(fr.problem, "Give the unit a name; it is printed on every report.")
 		return
 	}
-	st, err := workspace.OpenStore(fr.u.ctx, p, true)
-	if err == nil {
+	roster := append([]logbook.RosterEntry(nil), fr.roster...)
+	fr.u.jobs.run("Creating the unit", func(ctx context.Context, progress progressFunc) error {
+		st, err := workspace.OpenStore(ctx, p, true)
+		if err != nil {
+			return err
+		}
 		s := store.DefaultSettings
 		s.UnitName = name
-		err = st.SaveSettings(fr.u.ctx, s)
-		for _, r := range fr.roster {
+		err = st.SaveSettings(ctx, s)
+		for _, r := range roster {
 			if err == nil {
-				err = st.SaveRosterEntry(fr.u.ctx, r)
+				err = st.SaveRosterEntry(ctx, r)
 			}
 		}
 		if cerr := st.Close(); err == nil {
 			err = cerr
 		}
-	}
-	if err != nil {
-		removeDatabase(p)
-		showText(fr.problem, "The unit could not be created: "+err.Error())
-		return
-	}
-	if err := fr.u.open(p); err != nil {
-		showText(fr.problem, err.Error())
-	}
+		if err != nil {
+			removeDatabase(p)
+		}
+		return err
+	}, func(err error) {
+		if err != nil {
+			showText(fr.problem, "The unit could not be created: "+err.Error())
+			return
+		}
+		if err := fr.u.open(p); err != nil {
+			showText(fr.problem, err.Error())
+		}
+	})
 }
 
 // removeDatabase deletes a database file this screen created and its

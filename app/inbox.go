@@ -133,7 +133,8 @@ func (b *inbox) newRow(it store.AwaitingLesion) *inboxRow {
 	return r
 }
 
-// record stores the result entered in a row; the lesion leaves the list.
+// record stores the result entered in a row, off the UI thread; the
+// lesion then leaves the list.
 func (b *inbox) record(r *inboxRow) {
 	d, err := logbook.ParseDate(strings.TrimSpace(r.reported.Text))
 	if err != nil {
@@ -148,20 +149,24 @@ func (b *inbox) record(r *inboxRow) {
 		r.message.Show()
 		return
 	}
-	err = b.u.st.RecordHistology(b.u.ctx, h, false)
-	var ve *store.ValidationError
-	if errors.As(err, &ve) {
-		r.message.SetText(resultProblems(ve.Problems))
-		r.message.Show()
-		return
-	}
-	if err != nil {
-		r.message.SetText("Not saved: " + err.Error())
-		r.message.Show()
-		return
-	}
-	b.u.recordsChanged()
-	b.reload()
+	r.save.Disable()
+	r.message.SetText("Saving…")
+	r.message.Show()
+	b.u.jobs.background(func() error {
+		return b.u.st.RecordHistology(b.u.ctx, h, false)
+	}, func(err error) {
+		r.save.Enable()
+		var ve *store.ValidationError
+		switch {
+		case errors.As(err, &ve):
+			r.message.SetText(resultProblems(ve.Problems))
+		case err != nil:
+			r.message.SetText("Not saved: " + err.Error())
+		default:
+			b.u.recordsChanged()
+			b.reload()
+		}
+	})
 }
 
 // resultProblems words a result's problems for the row.

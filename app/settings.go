@@ -1,6 +1,7 @@
 package app
 
 import (
+	"context"
 	"errors"
 	"strconv"
 	"strings"
@@ -157,14 +158,18 @@ func (s *unitScreen) rosterButtons(r logbook.RosterEntry) fyne.CanvasObject {
 	return container.NewVBox(container.NewHBox(role, retire))
 }
 
+// storePerson stores a roster entry off the UI thread.
 func (s *unitScreen) storePerson(r logbook.RosterEntry) {
-	if err := s.u.st.SaveRosterEntry(s.u.ctx, r); err != nil {
-		s.message.SetText("Roster: " + err.Error())
-		return
-	}
-	s.message.SetText("Roster saved.")
-	s.u.rosterChanged()
-	s.showRoster()
+	s.message.SetText("Saving the roster…")
+	s.u.jobs.background(func() error { return s.u.st.SaveRosterEntry(s.u.ctx, r) }, func(err error) {
+		if err != nil {
+			s.message.SetText("Roster: " + err.Error())
+			return
+		}
+		s.message.SetText("Roster saved.")
+		s.u.rosterChanged()
+		s.showRoster()
+	})
 }
 
 func (s *unitScreen) addPerson() {
@@ -203,18 +208,20 @@ func (s *unitScreen) save() {
 		return
 	}
 	st.DiscardMinCases = n
-	err = s.u.st.SaveSettings(s.u.ctx, st)
-	var ve *store.ValidationError
-	switch {
-	case errors.As(err, &ve):
-		s.message.SetText(ve.Error())
-		return
-	case err != nil:
-		s.message.SetText("Not saved: " + err.Error())
-		return
-	}
-	s.message.SetText("Settings saved.")
-	s.u.rosterChanged()
+	s.message.SetText("Saving the settings…")
+	s.u.jobs.background(func() error { return s.u.st.SaveSettings(s.u.ctx, st) }, func(err error) {
+		var ve *store.ValidationError
+		switch {
+		case errors.As(err, &ve):
+			s.message.SetText(ve.Error())
+			return
+		case err != nil:
+			s.message.SetText("Not saved: " + err.Error())
+			return
+		}
+		s.message.SetText("Settings saved.")
+		s.u.rosterChanged()
+	})
 }
 
 // backup writes a consistent copy of the database where the person chooses.
@@ -222,11 +229,17 @@ func (s *unitScreen) backup() {
 	s.u.saveFile("unit-backup-"+logbook.FormatDate(s.u.today())+".db", s.backupTo)
 }
 
+// backupTo writes the backup off the UI thread with a progress window.
 func (s *unitScreen) backupTo(path string) {
 	removeDatabase(path) // the save dialog created an empty file; Backup wants a new name
-	if err := s.u.st.Backup(s.u.ctx, path); err != nil {
-		s.message.SetText("Backup failed: " + err.Error())
-		return
-	}
-	s.message.SetText("Backed up to " + path + ".")
+	s.u.jobs.run("Backing up the database", func(ctx context.Context, progress progressFunc) error {
+		progress(-1, "Copying to "+path)
+		return s.u.st.Backup(ctx, path)
+	}, func(err error) {
+		if err != nil {
+			s.message.SetText("Backup failed: " + err.Error())
+			return
+		}
+		s.message.SetText("Backed up to " + path + ".")
+	})
 }
