@@ -100,17 +100,53 @@ func (u *ui) start(dbPath string) {
 }
 
 // open opens (or creates) the database with the unit key and shows the
-// main screens.
+// main screens; it is for the start, before the window shows (openLater
+// is for a window already showing).
 func (u *ui) open(path string) error {
-	st, err := workspace.OpenStore(u.ctx, path, true)
+	st, profiles, err := openUnit(u.ctx, path)
 	if err != nil {
 		return err
+	}
+	return u.adopt(st, profiles)
+}
+
+// openLater opens the database off the UI thread (opening may bring an
+// older file's schema up to date) and then shows it in place of the one
+// open now; failed is called with the reason when it cannot be opened, and
+// the database open before stays open.
+func (u *ui) openLater(path string, failed func(error)) {
+	var st *store.Store
+	var profiles []*report.Profile
+	u.jobs.run("Opening "+filepath.Base(path), func(ctx context.Context, progress progressFunc) (err error) {
+		st, profiles, err = openUnit(ctx, path)
+		return err
+	}, func(err error) {
+		if err == nil {
+			err = u.adopt(st, profiles)
+		}
+		if err != nil {
+			failed(err)
+		}
+	})
+}
+
+// openUnit opens a database with the unit key, and the standard profiles.
+func openUnit(ctx context.Context, path string) (*store.Store, []*report.Profile, error) {
+	st, err := workspace.OpenStore(ctx, path, true)
+	if err != nil {
+		return nil, nil, err
 	}
 	profiles, err := workspace.LoadProfiles()
 	if err != nil {
 		st.Close()
-		return err
+		return nil, nil, err
 	}
+	return st, profiles, nil
+}
+
+// adopt shows an opened database in place of the one open now. (It must
+// not wait for running jobs: they finish on the UI thread it runs on.)
+func (u *ui) adopt(st *store.Store, profiles []*report.Profile) error {
 	u.close()
 	u.st, u.profiles = st, profiles
 	if err := u.reloadUnit(); err != nil {
@@ -207,10 +243,9 @@ func (u *ui) mainMenu() *fyne.MainMenu {
 // the one open now.
 func (u *ui) chooseDatabase() {
 	u.openFile([]string{".db", ".sqlite", ".sqlite3"}, func(path string) {
-		u.jobs.wait()
-		if err := u.open(path); err != nil {
+		u.openLater(path, func(err error) {
 			dialog.ShowError(fmt.Errorf("%s could not be opened; the database open before is still open: %w", path, err), u.win)
-		}
+		})
 	})
 }
 

@@ -159,9 +159,7 @@ func (fr *firstRun) target() (string, bool) {
 
 func (fr *firstRun) openExisting() {
 	p := strings.TrimSpace(fr.path.Text)
-	if err := fr.u.open(p); err != nil {
-		showText(fr.problem, "This database could not be opened: "+err.Error())
-	}
+	fr.u.openLater(p, func(err error) { showText(fr.problem, "This database could not be opened: "+err.Error()) })
 }
 
 // makeDemo creates the invented demo unit at the chosen path.
@@ -197,9 +195,7 @@ func (fr *firstRun) makeDemo() {
 		case err != nil:
 			showText(fr.problem, "The demo unit could not be made: "+err.Error())
 		default:
-			if err := fr.u.open(p); err != nil {
-				showText(fr.problem, err.Error())
-			}
+			fr.u.openLater(p, func(err error) { showText(fr.problem, err.Error()) })
 		}
 	})
 }
@@ -241,9 +237,7 @@ func (fr *firstRun) makeEmpty() {
 			showText(fr.problem, "The unit could not be created: "+err.Error())
 			return
 		}
-		if err := fr.u.open(p); err != nil {
-			showText(fr.problem, err.Error())
-		}
+		fr.u.openLater(p, func(err error) { showText(fr.problem, err.Error()) })
 	})
 }
 

@@ -14,6 +14,7 @@ import (
 	"polypledger/logbook"
 	"polypledger/report"
 	"polypledger/store"
+	"polypledger/workspace"
 )
 
 // TestFormFollowsTheKeyboard tabs through the case form in a small
@@ -200,5 +201,40 @@ func TestFigureRowShowsNoteStrictAndVerdict(t *testing.T) {
 	p := newFigureRow(ind, true)
 	if p.verdict.Text != "below target (provisional)" || !strings.Contains(p.provisional.Text, "not over") {
 		t.Errorf("a period not over shows %q / %q", p.verdict.Text, p.provisional.Text)
+	}
+}
+
+// TestOpenAnotherDatabase opens a second unit in place of the first, as the
+// File menu does, and refuses a file that is not a database, keeping the
+// unit open before.
+func TestOpenAnotherDatabase(t *testing.T) {
+	u := newTestUI(t, 30)
+	second := filepath.Join(t.TempDir(), "other.db")
+	st, err := workspace.OpenStore(u.ctx, second, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := store.DefaultSettings
+	s.UnitName = "Second Unit"
+	if err := st.SaveSettings(u.ctx, s); err != nil {
+		t.Fatal(err)
+	}
+	st.Close()
+
+	var failed error
+	u.openLater(second, func(err error) { failed = err })
+	u.jobs.wait()
+	if failed != nil || u.st.Path() != second || u.settings.UnitName != "Second Unit" {
+		t.Fatalf("after opening %s: open %s (%q), %v", second, u.st.Path(), u.settings.UnitName, failed)
+	}
+
+	junk := filepath.Join(t.TempDir(), "notes.db")
+	if err := os.WriteFile(junk, []byte("not a database, just notes"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	u.openLater(junk, func(err error) { failed = err })
+	u.jobs.wait()
+	if failed == nil || u.st.Path() != second {
+		t.Errorf("a file that is not a database: %v, and %s is open", failed, u.st.Path())
 	}
 }
