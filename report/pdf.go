@@ -310,10 +310,10 @@ type column struct {
 
 // Table row markers: a row whose first cell starts with groupMark is a
 // group heading spanning the table; one whose first cell starts with
-// noteMark is a note in small type spanning the table under the row above.
+// rowNoteMark is a note in small type spanning the table under the row above.
 const (
 	groupMark = "§"
-	noteMark  = "¶"
+	rowNoteMark  = "¶"
 )
 
 // fitColumns widens any column whose title holds a word wider than the
@@ -361,7 +361,7 @@ const cellPad = 1.5
 // table prints a table with a bold header (repeated on each new page) and
 // light banding. Cells wrap onto as many lines as they need, so nothing is
 // cut short; group headings and notes span the table (groupMark,
-// noteMark).
+// rowNoteMark).
 func (d *doc) table(cols []column, rows [][]string) {
 	lh, fs := rowH, 7.5
 	if d.compact {
@@ -414,9 +414,9 @@ func (d *doc) table(cols []column, rows [][]string) {
 			d.pdf.CellFormat(total, lh, strings.TrimPrefix(first, groupMark), "B", 1, "L", false, 0, "")
 			band = 0
 			continue
-		case strings.HasPrefix(first, noteMark):
+		case strings.HasPrefix(first, rowNoteMark):
 			d.pdf.SetFont("go", "", fs-1)
-			lines := d.pdf.SplitText(strings.TrimPrefix(first, noteMark), total-6)
+			lines := d.pdf.SplitText(strings.TrimPrefix(first, rowNoteMark), total-6)
 			nh := float64(len(lines)) * (lh - 0.6)
 			if d.pdf.GetY()+nh > contentBotto {
 				d.pdf.AddPage()
@@ -549,7 +549,7 @@ func (d *doc) noteRow(ind Indicator) []string {
 	if len(parts) == 0 {
 		return nil
 	}
-	return []string{noteMark + strings.Join(parts, "; ") + "."}
+	return []string{rowNoteMark + strings.Join(parts, "; ") + "."}
 }
 
 // fewCasesNote flags a figure reported without a target on fewer cases

@@ -45,12 +45,11 @@ func (a *Audit) ReportInput(ctx context.Context, req ReportRequest, figs Figures
 	}, nil
 }
 
-// WriteReportFile computes the report's figures in one pass
-// (ReportFigures) and writes the PDF to path under a temporary name first,
-// so that a failed or cancelled report leaves no partial file. The command
-// line and the app both make their reports here, so that the same request
-// gives the same report. progress is passed to ReportFigures.
-func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequest, progress func(cases int)) error {
+// WriteReport computes the report's figures in one pass (ReportFigures)
+// and writes the PDF to w. The command line and the app both make their
+// reports here, so that the same request gives the same report. progress
+// is passed to ReportFigures; cancelling ctx stops the work.
+func (a *Audit) WriteReport(ctx context.Context, w io.Writer, req ReportRequest, progress func(cases int)) error {
 	figs, err := a.ReportFigures(ctx, req, progress)
 	if err != nil {
 		return err
@@ -59,12 +58,17 @@ func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequ
 	if err != nil {
 		return err
 	}
-	return WriteFileAtomically(path, func(w io.Writer) error {
-		if err := ctx.Err(); err != nil {
-			return err
-		}
-		return report.WritePDF(w, in)
-	})
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+	return report.WritePDF(w, in)
+}
+
+// WriteReportFile writes the report (WriteReport) to path under a
+// temporary name first, so that a failed or cancelled report leaves no
+// partial file.
+func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequest, progress func(cases int)) error {
+	return WriteFileAtomically(path, func(w io.Writer) error { return a.WriteReport(ctx, w, req, progress) })
 }
 
 // WriteFileAtomically writes a file under a temporary name beside path,
