@@ -312,8 +312,8 @@ type column struct {
 // group heading spanning the table; one whose first cell starts with
 // rowNoteMark is a note in small type spanning the table under the row above.
 const (
-	groupMark = "§"
-	rowNoteMark  = "¶"
+	groupMark   = "§"
+	rowNoteMark = "¶"
 )
 
 // fitColumns widens any column whose title holds a word wider than the
