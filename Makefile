@@ -1,6 +1,8 @@
 # polypledger: build, try, test and package.
 #   make demo   install what is missing, build, create demo.db (invented data) and open the app on it
-#   make test   install what is missing, then every check CI runs
+#   make test   install what is missing, then every check CI runs (the
+#               end-to-end tests in e2e/ drive the real app under Xvfb and
+#               keep a screenshot of every screen in dist/e2e/)
 #   make dist-linux     dist/polypledger-VERSION-linux-amd64.tar.gz (binary, desktop entry, icon, notes)
 #   make dist-windows   dist/polypledger-VERSION-windows-amd64.zip (cross-built with MinGW-w64)
 #   make check-dist     check that the archives hold what they claim (scripts/check-dist)

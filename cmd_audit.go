@@ -134,13 +134,6 @@ func writeIntervalText[T any](w io.Writer, g report.Guideline, rows []T, fields 
 	return nil
 }
 
-// extraFigures are the figures counted beside the profile's indicators in
-// the same pass: the optical-diagnosis audit and interval adherence, under
-// the unit's guideline and eligibility settings.
-func (a *auditSetup) extraFigures(g report.Guideline) []report.AccumulatorFactory {
-	return a.shared().ExtraFigures(g)
-}
-
 // computeMetrics streams the period's cases once through the indicator
 // engine.
 func (a *auditSetup) computeMetrics(ctx context.Context, from, to time.Time, g report.Guideline) (report.MetricsResult, error) {

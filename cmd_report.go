@@ -7,10 +7,8 @@ import (
 	"strings"
 	"time"
 
-	"polypledger/assets"
 	"polypledger/logbook"
 	"polypledger/report"
-	"polypledger/store"
 	"polypledger/workspace"
 )
 
@@ -62,46 +60,26 @@ func cmdReport(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	names := make(map[string]string, len(roster))
-	roles := make(map[string]logbook.Role, len(roster))
-	for _, r := range roster {
-		names[r.ID], roles[r.ID] = r.Name, r.Role
-	}
-	in := report.ReportInput{
-		Kind: report.UnitReport, UnitName: a.settings.UnitName, Profile: a.profile, Guideline: g,
-		Eligibility: report.EligibilitySettings{MinCases: a.settings.DiscardMinCases, RuleSet: a.settings.EligibilityRules},
-		From:        from, To: to, GeneratedOn: time.Now(), Names: names,
-		Fonts: report.ReportFonts{Regular: assets.FontRegular(), Bold: assets.FontBold()},
-	}
-	filter := store.CaseFilter{From: from, To: to}
+	req := workspace.ReportRequest{Kind: report.UnitReport, From: from, To: to, Guideline: g, Now: time.Now()}
 	what := "unit audit report"
 	switch {
 	case *operator != "":
 		if err := rosterRole(roster, "operator", *operator, logbook.RoleEndoscopist); err != nil {
 			return err
 		}
-		in.Kind, in.SubjectID = report.PersonalReport, *operator
+		req.Kind, req.SubjectID = report.PersonalReport, *operator
 		what = "personal report for " + *operator
 	case *trainee != "":
 		if err := rosterRole(roster, "trainee", *trainee, logbook.RoleTrainee); err != nil {
 			return err
 		}
-		in.Kind, in.SubjectID = report.TraineeReport, *trainee
-		filter.TraineeID = *trainee
+		req.Kind, req.SubjectID = report.TraineeReport, *trainee
 		what = "trainee logbook for " + *trainee
 	}
-	pass, err := report.NewReportPass(a.profile, report.ReportPassOptions{From: from, To: to, Extra: a.extraFigures(g)})
-	if err != nil {
-		return err
-	}
-	if err := streamCases(ctx, a.st, filter, pass.Add); err != nil {
-		return err
-	}
-	in.Data = pass.Result()
 	var pages int
 	err = dest.Write(func(w io.Writer) error {
 		pc := &workspace.PageCounter{W: w}
-		err := report.WritePDF(pc, in)
+		err := a.shared().WriteReport(ctx, pc, req, nil)
 		pages = pc.Pages
 		return err
 	})
@@ -145,47 +123,4 @@ func article(word string) string {
 		return "an"
 	}
 	return "a"
-}
-
-// streamCases feeds every selected case to add in one pass. Reading the
-// database and counting run side by side: the reader copies cases into
-// batches that a second goroutine counts, so the slower of the two sets
-// the pace rather than their sum. add runs on one goroutine only.
-func streamCases(ctx context.Context, st *store.Store, f store.CaseFilter, add func(*logbook.Case)) error {
-	const batchSize, inFlight = 256, 4
-	full := make(chan []logbook.Case, inFlight)
-	free := make(chan []logbook.Case, inFlight+1)
-	for range inFlight + 1 {
-		free <- make([]logbook.Case, 0, batchSize)
-	}
-	done := make(chan struct{})
-	go func() {
-		defer close(done)
-		for b := range full {
-			for i := range b {
-				add(&b[i])
-			}
-			free <- b[:0]
-		}
-	}()
-	batch := <-free
-	err := st.ForEachCase(ctx, f, func(c *logbook.Case) error {
-		n := len(batch)
-		batch = batch[:n+1]
-		dst := &batch[n]
-		lesions := append(dst.Lesions[:0], c.Lesions...)
-		*dst = *c
-		dst.Lesions = lesions
-		if len(batch) == batchSize {
-			full <- batch
-			batch = <-free
-		}
-		return nil
-	})
-	if err == nil && len(batch) > 0 {
-		full <- batch
-	}
-	close(full)
-	<-done
-	return err
 }

@@ -3,8 +3,10 @@
 // come from report (through workspace, which the command line shares).
 //
 // The environment variable POLYPLEDGER_START_TAB names the screen shown
-// first (cases, entry, pathology, scorecards, reports, settings), so that
+// first (cases, entry, pathology, figures, reports, settings), so that
 // each screen can be opened directly, for example to take a screenshot.
+// Alt+1 to Alt+6 switch screens; the File menu opens another database and
+// imports record files.
 package app
 
 import (
@@ -14,12 +16,16 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"path/filepath"
 	"strings"
 	"time"
 
 	"fyne.io/fyne/v2"
 	fyneapp "fyne.io/fyne/v2/app"
 	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/driver/desktop"
+	"fyne.io/fyne/v2/storage"
 	"fyne.io/fyne/v2/widget"
 
 	"polypledger/assets"
@@ -38,6 +44,7 @@ func Run(dbPath string) error {
 	w := a.NewWindow("polypledger")
 	u := newUI(a, w, time.Now)
 	u.startTab = os.Getenv("POLYPLEDGER_START_TAB")
+	u.startLayoutFile()
 	u.start(dbPath)
 	w.Resize(fyne.NewSize(1280, 800))
 	w.ShowAndRun()
@@ -64,9 +71,13 @@ type ui struct {
 	list    *caseList
 	form    *caseForm
 	inbox   *inbox
-	cards   *scorecard
+	figures *figuresScreen
 	reports *reportScreen
 	unit    *unitScreen
+
+	// names are what fields outside the forms are called, for the layout
+	// file of the end-to-end tests (layoutfile.go).
+	names map[fyne.CanvasObject]string
 }
 
 func newUI(a fyne.App, w fyne.Window, now func() time.Time) *ui {
@@ -89,17 +100,53 @@ func (u *ui) start(dbPath string) {
 }
 
 // open opens (or creates) the database with the unit key and shows the
-// main screens.
+// main screens; it is for the start, before the window shows (openLater
+// is for a window already showing).
 func (u *ui) open(path string) error {
-	st, err := workspace.OpenStore(u.ctx, path, true)
+	st, profiles, err := openUnit(u.ctx, path)
 	if err != nil {
 		return err
+	}
+	return u.adopt(st, profiles)
+}
+
+// openLater opens the database off the UI thread (opening may bring an
+// older file's schema up to date) and then shows it in place of the one
+// open now; failed is called with the reason when it cannot be opened, and
+// the database open before stays open.
+func (u *ui) openLater(path string, failed func(error)) {
+	var st *store.Store
+	var profiles []*report.Profile
+	u.jobs.run("Opening "+filepath.Base(path), func(ctx context.Context, progress progressFunc) (err error) {
+		st, profiles, err = openUnit(ctx, path)
+		return err
+	}, func(err error) {
+		if err == nil {
+			err = u.adopt(st, profiles)
+		}
+		if err != nil {
+			failed(err)
+		}
+	})
+}
+
+// openUnit opens a database with the unit key, and the standard profiles.
+func openUnit(ctx context.Context, path string) (*store.Store, []*report.Profile, error) {
+	st, err := workspace.OpenStore(ctx, path, true)
+	if err != nil {
+		return nil, nil, err
 	}
 	profiles, err := workspace.LoadProfiles()
 	if err != nil {
 		st.Close()
-		return err
+		return nil, nil, err
 	}
+	return st, profiles, nil
+}
+
+// adopt shows an opened database in place of the one open now. (It must
+// not wait for running jobs: they finish on the UI thread it runs on.)
+func (u *ui) adopt(st *store.Store, profiles []*report.Profile) error {
 	u.close()
 	u.st, u.profiles = st, profiles
 	if err := u.reloadUnit(); err != nil {
@@ -134,38 +181,118 @@ func (u *ui) reloadUnit() error {
 	return nil
 }
 
-// tabNames are the screens in order, as POLYPLEDGER_START_TAB names them.
-var tabNames = []string{"cases", "entry", "pathology", "scorecards", "reports", "settings"}
+// tabNames are the screens in order, as POLYPLEDGER_START_TAB names them
+// ("scorecards" is still read as "figures").
+var tabNames = []string{"cases", "entry", "pathology", "figures", "reports", "settings"}
+
+// tabTitles are the screens' names on their tabs and in the Go menu.
+var tabTitles = []string{"Cases", "Enter a case", "Pathology results", "Audit figures", "Reports", "Unit settings"}
 
 // showMain builds the screens of an open unit.
 func (u *ui) showMain() {
 	u.list = newCaseList(u)
 	u.form = newCaseForm(u)
 	u.inbox = newInbox(u)
-	u.cards = newScorecard(u)
+	u.figures = newFiguresScreen(u)
 	u.reports = newReportScreen(u)
 	u.unit = newUnitScreen(u)
-	u.tabs = container.NewAppTabs(
-		container.NewTabItem("Cases", u.list.content),
-		container.NewTabItem("Enter a case", u.form.content),
-		container.NewTabItem("Pathology results", u.inbox.content),
-		container.NewTabItem("Scorecards", u.cards.content),
-		container.NewTabItem("Reports", u.reports.content),
-		container.NewTabItem("Unit settings", u.unit.content),
-	)
+	contents := []fyne.CanvasObject{u.list.content, u.form.content, u.inbox.content, u.figures.content, u.reports.content, u.unit.content}
+	var items []*container.TabItem
+	for i, c := range contents {
+		items = append(items, container.NewTabItem(tabTitles[i], c))
+	}
+	u.tabs = container.NewAppTabs(items...)
 	u.tabs.OnSelected = func(t *container.TabItem) { u.tabShown(u.tabs.SelectedIndex()) }
 	u.status = widget.NewLabel("")
 	u.status.Truncation = fyne.TextTruncateEllipsis
 	u.updateStatus()
 	u.win.SetContent(container.NewBorder(nil, u.status, nil, nil, u.tabs))
+	u.win.SetMainMenu(u.mainMenu())
 	start := 0
 	for i, n := range tabNames {
-		if strings.EqualFold(n, u.startTab) {
+		if strings.EqualFold(n, u.startTab) || (n == "figures" && strings.EqualFold(u.startTab, "scorecards")) {
 			start = i
 		}
 	}
 	u.tabs.SelectIndex(start)
 	u.tabShown(start)
+}
+
+// mainMenu is the window's menu: File (open another database, import a
+// records file, back up) and Go (each screen, Alt+1 to Alt+6, which work
+// whatever has the keyboard).
+func (u *ui) mainMenu() *fyne.MainMenu {
+	ctrl := func(k fyne.KeyName) fyne.Shortcut {
+		return &desktop.CustomShortcut{KeyName: k, Modifier: fyne.KeyModifierShortcutDefault}
+	}
+	file := fyne.NewMenu("File",
+		&fyne.MenuItem{Label: "Open another database…", Shortcut: ctrl(fyne.KeyO), Action: u.chooseDatabase},
+		&fyne.MenuItem{Label: "Import records from a CSV file…", Shortcut: ctrl(fyne.KeyI), Action: u.chooseImport},
+		&fyne.MenuItem{Label: "Back up the database…", Action: func() { u.unit.backup() }},
+	)
+	var screens []*fyne.MenuItem
+	for i, t := range tabTitles {
+		i := i
+		screens = append(screens, &fyne.MenuItem{Label: t, Action: func() { u.tabs.SelectIndex(i) },
+			Shortcut: &desktop.CustomShortcut{KeyName: fyne.KeyName(fmt.Sprint(i + 1)), Modifier: fyne.KeyModifierAlt}})
+	}
+	return fyne.NewMainMenu(file, fyne.NewMenu("Go", screens...))
+}
+
+// chooseDatabase asks for another database file and opens it in place of
+// the one open now.
+func (u *ui) chooseDatabase() {
+	u.openFile([]string{".db", ".sqlite", ".sqlite3"}, func(path string) {
+		u.openLater(path, func(err error) {
+			dialog.ShowError(fmt.Errorf("%s could not be opened; the database open before is still open: %w", path, err), u.win)
+		})
+	})
+}
+
+// openFile asks for an existing file with one of the extensions exts,
+// starting in the database's folder, and calls then with its path.
+func (u *ui) openFile(exts []string, then func(path string)) {
+	d := dialog.NewFileOpen(func(r fyne.URIReadCloser, err error) {
+		if err != nil || r == nil {
+			return
+		}
+		path := r.URI().Path()
+		r.Close()
+		then(path)
+	}, u.win)
+	d.SetFilter(storage.NewExtensionFileFilter(exts))
+	u.startIn(d)
+	d.Show()
+}
+
+// saveFile asks where to save a file, suggesting name in the database's
+// folder, and calls then with the path chosen. The dialog has made an
+// empty file there; then writes over it.
+func (u *ui) saveFile(name string, then func(path string)) {
+	d := dialog.NewFileSave(func(w fyne.URIWriteCloser, err error) {
+		if err != nil || w == nil {
+			return
+		}
+		path := w.URI().Path()
+		w.Close()
+		then(path)
+	}, u.win)
+	d.SetFileName(name)
+	u.startIn(d)
+	d.Show()
+}
+
+// startIn opens a file dialog in the folder of the database, so that files
+// kept beside it are one click away.
+func (u *ui) startIn(d interface{ SetLocation(fyne.ListableURI) }) {
+	if u.st == nil {
+		return
+	}
+	if abs, err := filepath.Abs(u.st.Path()); err == nil {
+		if l, err := storage.ListerForURI(storage.NewFileURI(filepath.Dir(abs))); err == nil {
+			d.SetLocation(l)
+		}
+	}
 }
 
 // tabShown brings a screen up to date when it is shown.
@@ -179,7 +306,7 @@ func (u *ui) tabShown(i int) {
 	case 2:
 		u.inbox.reload()
 	case 3:
-		u.cards.shown()
+		u.figures.shown()
 	case 4:
 		u.reports.shown()
 	case 5:
@@ -207,7 +334,7 @@ func (u *ui) recordsChanged() {
 	u.updateStatus()
 	u.list.invalidate()
 	u.inbox.stale = true
-	u.cards.stale = true
+	u.figures.stale = true
 }
 
 // rosterChanged is called after the roster or settings are stored.
@@ -218,7 +345,7 @@ func (u *ui) rosterChanged() {
 	}
 	u.form.refreshRoster()
 	u.list.refreshRoster()
-	u.cards.refreshChoices()
+	u.figures.refreshChoices()
 	u.reports.refreshChoices()
 	u.updateStatus()
 }

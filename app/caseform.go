@@ -15,30 +15,36 @@ import (
 )
 
 // caseForm is the "Enter a case" screen: every procedure field with its
-// validation message beside it, the Boston score as three pickers with the
-// total, the lesions as an editable list, and Save (also on Enter), which
-// stays disabled until the record is valid.
+// validation message beside it (shown once the field is changed or a save
+// is tried), the Boston score as three pickers with the total, the lesions
+// as an editable list, and Save (also Enter in any field). The hospital
+// number is turned into its pseudonym only when the case is saved, off the
+// UI thread with the save itself, so typing never waits for the database.
 type caseForm struct {
 	u      *ui
 	fields *fieldSet
 
 	isNew      bool
 	storedKey  string // the pseudonym of the case being edited
+	saving     bool   // a save is under way
 	lesions    []logbook.Lesion
 	lesionBox  *fyne.Container
 	problems   logbook.Problems
 	heading    *widget.Label
 	notice     *widget.Label
 	otherProbs *widget.Label
+	progress   *widget.ProgressBarInfinite
+	scroll     *container.Scroll
+	editor     *lesionEditor // the lesion dialog open now, if any
 
-	id, date, patient, age, withdrawal *widget.Entry
-	midazolam, fentanyl, pethidine     *widget.Entry
+	id, date, patient, age, withdrawal *entry
+	midazolam, fentanyl, pethidine     *entry
 	patientCode                        *widget.Label
 	operator, trainee, comfort         *keySelect
 	operatorIDs, traineeIDs            []string
 	supervision                        *choice[logbook.Supervision]
-	reached, photo, retro, propofol    *yesNoChoice
-	aid                                *yesNoChoice
+	reached, photo, retro, propofol    *choice[logbook.YesNo]
+	aid                                *choice[logbook.YesNo]
 	sex                                *choice[logbook.Sex]
 	indication                         *choice[logbook.Indication]
 	setting                            *choice[logbook.Setting]
@@ -47,10 +53,10 @@ type caseForm struct {
 	incomplete                         *choice[logbook.IncompleteReason]
 	adverse                            *choice[logbook.AdverseEvent]
 	interval                           *choice[logbook.Interval]
-	bbps                               [3]*widget.RadioGroup
+	bbps                               [3]*keySelect
 	bbpsTotal                          *widget.Label
 
-	save, del, fresh *widget.Button
+	save, del, fresh *button
 	content          fyne.CanvasObject
 }
 
@@ -60,7 +66,7 @@ func newCaseForm(u *ui) *caseForm {
 	sub := f.submit
 	f.id = submitEntry("e.g. C2026-0142", ch, sub)
 	f.date = submitEntry("YYYY-MM-DD", ch, sub)
-	f.patient = submitEntry("hospital number — only a code is kept", ch, sub)
+	f.patient = submitEntry("hospital number (only a code made from it is kept)", ch, sub)
 	f.patientCode = widget.NewLabel("")
 	f.age = submitEntry("years", ch, sub)
 	f.withdrawal = submitEntry("minutes:seconds, e.g. 7:30", ch, sub)
@@ -84,29 +90,31 @@ func newCaseForm(u *ui) *caseForm {
 	f.incomplete = newChoice(logbook.IncompleteReasons, incompleteWords, true, ch)
 	f.adverse = newChoice(logbook.AdverseEvents, adverseWords, true, ch)
 	f.interval = newChoice(logbook.Intervals, intervalWords, true, ch)
-	for _, s := range []*keySelect{f.operator, f.trainee, f.comfort, f.supervision.keySelect, f.reached.keySelect,
-		f.photo.keySelect, f.retro.keySelect, f.propofol.keySelect, f.aid.keySelect, f.sex.keySelect,
-		f.indication.keySelect, f.setting.keySelect, f.exclusion.keySelect, f.extent.keySelect,
-		f.incomplete.keySelect, f.adverse.keySelect, f.interval.keySelect} {
+	for _, s := range []*keySelect{f.operator, f.trainee, f.comfort, &f.supervision.keySelect, &f.reached.keySelect,
+		&f.photo.keySelect, &f.retro.keySelect, &f.propofol.keySelect, &f.aid.keySelect, &f.sex.keySelect,
+		&f.indication.keySelect, &f.setting.keySelect, &f.exclusion.keySelect, &f.extent.keySelect,
+		&f.incomplete.keySelect, &f.adverse.keySelect, &f.interval.keySelect} {
 		s.OnSubmit = sub
 	}
 	for i := range f.bbps {
-		r := widget.NewRadioGroup([]string{"0", "1", "2", "3"}, func(string) { ch() })
-		r.Horizontal = true
-		f.bbps[i] = r
+		f.bbps[i] = newKeySelect(append([]string{notRecorded}, bostonWords...), func(string) { ch() })
+		f.bbps[i].OnSubmit = sub
 	}
 	f.bbpsTotal = widget.NewLabel("")
+	f.bbpsTotal.Wrapping = fyne.TextWrapWord
 	f.heading = widget.NewLabelWithStyle("New case", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
 	f.notice = widget.NewLabel("")
-	f.notice.Importance = widget.SuccessImportance
 	f.otherProbs = widget.NewLabel("")
 	f.otherProbs.Importance = widget.DangerImportance
 	f.otherProbs.Wrapping = fyne.TextWrapWord
-	f.save = widget.NewButton("Save the case  (Enter)", sub)
+	f.progress = widget.NewProgressBarInfinite()
+	f.progress.Stop()
+	f.progress.Hide()
+	f.save = newButton("Save the case  (Enter)", sub)
 	f.save.Importance = widget.HighImportance
-	f.del = widget.NewButton("Delete this case…", f.confirmDelete)
+	f.del = newButton("Delete this case…", f.confirmDelete)
 	f.del.Importance = widget.DangerImportance
-	f.fresh = widget.NewButton("Start a new case", func() { f.startNew(true) })
+	f.fresh = newButton("Start a new case", func() { f.startNew(true) })
 	f.lesionBox = container.NewVBox()
 
 	fs := f.fields
@@ -124,18 +132,14 @@ func newCaseForm(u *ui) *caseForm {
 		fieldRow{"Setting", "setting", f.setting},
 		fieldRow{"Excluded from detection figures", "exclusion", f.exclusion},
 	)
-	bbpsRows := container.NewVBox()
-	for i, name := range []string{"right", "transverse", "left"} {
-		bbpsRows.Add(container.NewBorder(nil, nil, widget.NewLabel(name), nil, f.bbps[i]))
-	}
-	bbpsHelp := widget.NewLabel(strings.Join(bostonWords, " · "))
-	bbpsHelp.Importance = widget.LowImportance
 	right := fs.group("The examination",
 		fieldRow{"Furthest point reached", "extent", f.extent},
 		fieldRow{"Why it stopped short", "incomplete_reason", f.incomplete},
 		fieldRow{"Photo of the caecum", "caecal_photo", f.photo},
 		fieldRow{"Withdrawal time", "withdrawal_seconds", f.withdrawal},
-		fieldRow{"Boston bowel prep score", "bbps_right", container.NewVBox(bbpsRows, bbpsHelp, f.bbpsTotal)},
+		fieldRow{"Boston score, right colon", "bbps_right", f.bbps[0]},
+		fieldRow{"Boston score, transverse", "bbps_transverse", f.bbps[1]},
+		fieldRow{"Boston score, left colon", "bbps_left", container.NewVBox(f.bbps[2], f.bbpsTotal)},
 		fieldRow{"Rectal retroversion", "retroversion", f.retro},
 		fieldRow{"Computer-aided detection used", "detection_aid", f.aid},
 	)
@@ -150,23 +154,28 @@ func newCaseForm(u *ui) *caseForm {
 		fieldRow{"Complication within 30 days", "adverse_event", f.adverse},
 		fieldRow{"Next colonoscopy advised", "recommended_interval", f.interval},
 	)
-	// The BBPS message line shows any of the three segments' problems.
-	fs.msgs["bbps_transverse"], fs.msgs["bbps_left"] = fs.msgs["bbps_right"], fs.msgs["bbps_right"]
-
-	addLesion := widget.NewButton("Add a lesion", func() { f.editLesion(-1) })
+	addLesion := newButton("Add a lesion", func() { f.editLesion(-1) })
 	lesions := container.NewVBox(
 		widget.NewLabelWithStyle("Lesions", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		f.lesionBox, container.NewHBox(addLesion))
-	cols := container.NewGridWithColumns(2, left, container.NewVBox(right, sedation, outcome))
+	cols, layout := newColumns(560, left, container.NewVBox(right, sedation, outcome))
 	buttons := container.NewHBox(f.save, f.fresh, f.del)
-	body := container.NewVBox(container.NewHBox(f.heading, f.notice), cols, lesions, f.otherProbs, buttons)
-	f.content = container.NewVScroll(container.NewPadded(body))
+	f.notice.Wrapping = fyne.TextWrapWord
+	f.notice.TextStyle.Bold = true
+	body := container.NewVBox(f.heading, f.notice, f.progress, cols, lesions, f.otherProbs, buttons)
+	f.scroll = container.NewVScroll(container.NewPadded(body))
+	layout.onChange = f.scroll.Refresh
+	f.content = f.scroll
 	f.startNew(false)
 	return f
 }
 
 // refreshRoster offers the roster's current endoscopists and trainees.
 func (f *caseForm) refreshRoster() {
+	f.fields.fill(f.offerRoster)
+}
+
+func (f *caseForm) offerRoster() {
 	opSel, trSel := f.operatorValue(), f.traineeValue()
 	f.operatorIDs, f.traineeIDs = nil, []string{""}
 	var ops []string
@@ -228,21 +237,39 @@ func (f *caseForm) setTrainee(id string) {
 	f.trainee.SetSelectedIndex(0)
 }
 
+// say shows a line about the last save above the form; "" hides it.
+func (f *caseForm) say(text string) { showText(f.notice, text) }
+
+// showText sets a label's text and hides the label while it has none, so
+// that an empty line takes no room.
+func showText(l *widget.Label, text string) {
+	l.SetText(text)
+	if text == "" {
+		l.Hide()
+	} else {
+		l.Show()
+	}
+}
+
 // startNew clears the form for a new case. With keep, the date and the
 // endoscopist stay as they were, for the next case of the same list.
 func (f *caseForm) startNew(keep bool) {
 	date, op := f.date.Text, f.operatorValue()
 	f.isNew, f.storedKey, f.lesions = true, "", nil
 	f.heading.SetText("New case")
-	f.notice.SetText("")
+	f.say("")
 	f.fill(logbook.NewProcedure())
-	if keep {
-		f.date.SetText(date)
-		f.setOperator(op)
-	} else {
-		f.date.SetText(logbook.FormatDate(f.u.today()))
-	}
+	f.fields.fill(func() {
+		if keep {
+			f.date.SetText(date)
+			f.setOperator(op)
+		} else {
+			f.date.SetText(logbook.FormatDate(f.u.today()))
+		}
+	})
 	f.del.Hide()
+	f.fields.untouched()
+	f.showLesions()
 	f.changed()
 }
 
@@ -251,14 +278,22 @@ func (f *caseForm) edit(c logbook.Case) {
 	f.isNew, f.storedKey = false, c.PatientKey
 	f.lesions = append([]logbook.Lesion(nil), c.Lesions...)
 	f.heading.SetText("Case " + c.ID)
-	f.notice.SetText("")
+	f.say("")
 	f.fill(c.Procedure)
 	f.del.Show()
+	f.showLesions()
+	f.fields.untouched()
+	f.fields.revealAll = true // a stored record's problems show at once
 	f.changed()
+	f.scroll.ScrollToTop()
 }
 
-// fill writes a procedure's values into the widgets.
+// fill writes a procedure's values into the widgets (touching none).
 func (f *caseForm) fill(p logbook.Procedure) {
+	f.fields.fill(func() { f.fillNow(p) })
+}
+
+func (f *caseForm) fillNow(p logbook.Procedure) {
 	f.refreshRoster()
 	f.id.SetText(p.ID)
 	f.id.Enable()
@@ -281,10 +316,10 @@ func (f *caseForm) fill(p logbook.Procedure) {
 	f.photo.Set(p.CaecalPhoto)
 	f.withdrawal.SetText(logbook.FormatMinSec(p.WithdrawalSeconds))
 	for i, v := range []int{p.BBPSRight, p.BBPSTransverse, p.BBPSLeft} {
-		if v == logbook.NotRecorded {
-			f.bbps[i].SetSelected("")
+		if v >= 0 && v <= 3 {
+			f.bbps[i].SetSelectedIndex(v + 1)
 		} else {
-			f.bbps[i].SetSelected(fmt.Sprint(v))
+			f.bbps[i].SetSelectedIndex(0)
 		}
 	}
 	f.retro.Set(p.Retroversion)
@@ -320,15 +355,9 @@ func (f *caseForm) read() (logbook.Procedure, logbook.Problems) {
 	p.TraineeID = f.traineeValue()
 	p.Supervision = f.supervision.Value()
 	p.TraineeReachedCaecum = f.reached.Value()
+	// The pseudonym is made on save (submit), not here: read runs on every
+	// keystroke and must not touch the database.
 	p.PatientKey = f.storedKey
-	if ref := strings.TrimSpace(f.patient.Text); ref != "" {
-		key, err := f.u.st.Pseudonymise(ref)
-		if errors.Is(err, logbook.ErrNoKey) {
-			err = errors.New("no unit key is loaded, so the hospital number cannot be coded")
-		}
-		bad("patient_ref", err)
-		p.PatientKey = key
-	}
 	p.Age, err = logbook.ParseCount(strings.TrimSpace(f.age.Text))
 	bad("age", err)
 	p.Sex = f.sex.Value()
@@ -342,8 +371,8 @@ func (f *caseForm) read() (logbook.Procedure, logbook.Problems) {
 	bad("withdrawal_seconds", err)
 	scores := []*int{&p.BBPSRight, &p.BBPSTransverse, &p.BBPSLeft}
 	for i, r := range f.bbps {
-		if r.Selected != "" {
-			fmt.Sscan(r.Selected, scores[i])
+		if k := r.SelectedIndex(); k >= 1 {
+			*scores[i] = k - 1
 		}
 	}
 	p.Retroversion = f.retro.Value()
@@ -403,11 +432,17 @@ func (f *caseForm) changed() {
 	for _, p := range rest {
 		lines = append(lines, p.Error())
 	}
+	if !f.fields.revealAll {
+		lines = nil
+	}
 	f.otherProbs.SetText(strings.Join(lines, "\n"))
-	if c.PatientKey != "" {
-		f.patientCode.SetText("Kept as " + logbook.ShortCode(c.PatientKey))
-	} else {
-		f.patientCode.SetText("")
+	switch {
+	case strings.TrimSpace(f.patient.Text) != "":
+		showText(f.patientCode, "A code is made from it when the case is saved; the number itself is not kept.")
+	case c.PatientKey != "":
+		showText(f.patientCode, "Kept as "+logbook.ShortCode(c.PatientKey)+". Type a hospital number only to change it.")
+	default:
+		showText(f.patientCode, "")
 	}
 	if c.BBPSRecorded() {
 		words := "not adequate (a segment below 2)"
@@ -418,43 +453,82 @@ func (f *caseForm) changed() {
 	} else {
 		f.bbpsTotal.SetText("Total: score all three segments")
 	}
-	f.showLesions()
-	if len(ps) == 0 {
-		f.save.Enable()
-	} else {
-		f.save.Disable()
-	}
 }
 
-// submit saves the case when it is valid (Enter in any field, or Save).
+// submit saves the case (Enter in any field, or Save). A case with
+// problems is not saved: every message shows and the first field with a
+// problem gets the keyboard. A valid case is saved off the UI thread,
+// the hospital number turned into its pseudonym first, while the screen
+// shows that it is saving and stays usable; a database busy with another
+// program's writing delays only the save.
 func (f *caseForm) submit() {
-	c, ps := f.current()
-	if len(ps) > 0 {
-		f.changed()
+	if f.saving {
 		return
 	}
-	err := f.u.st.SaveCase(f.u.ctx, c, f.isNew)
+	c, ps := f.current()
+	if len(ps) > 0 {
+		f.fields.revealAll = true
+		f.changed()
+		f.say(fmt.Sprintf("Not saved: %d of the values need attention (shown beside each field).", len(ps)))
+		f.fields.focusFirst(f.u.win.Canvas(), ps)
+		return
+	}
+	ref := strings.TrimSpace(f.patient.Text)
+	isNew := f.isNew
+	f.saving = true
+	f.save.Disable()
+	f.say("Saving case " + c.ID + "…")
+	f.progress.Show()
+	f.progress.Start()
+	f.u.jobs.background(func() error {
+		if ref != "" {
+			key, err := f.u.st.Pseudonymise(ref)
+			if errors.Is(err, logbook.ErrNoKey) {
+				err = errors.New("no unit key is loaded, so the hospital number cannot be coded")
+			}
+			if err != nil {
+				return &store.ValidationError{Record: "procedure " + c.ID, Problems: logbook.Problems{{Field: "patient_ref", Reason: err.Error()}}}
+			}
+			c.PatientKey = key
+		}
+		return f.u.st.SaveCase(f.u.ctx, c, isNew)
+	}, func(err error) { f.saved(c, isNew, err) })
+}
+
+// saved shows the outcome of a save on the UI thread.
+func (f *caseForm) saved(c logbook.Case, isNew bool, err error) {
+	f.saving = false
+	f.progress.Stop()
+	f.progress.Hide()
+	f.save.Enable()
 	var ve *store.ValidationError
 	if errors.As(err, &ve) {
+		f.fields.revealAll = true
 		rest := f.fields.show(ve.Problems)
 		var lines []string
 		for _, p := range rest {
 			lines = append(lines, p.Error())
 		}
 		f.otherProbs.SetText(strings.Join(lines, "\n"))
-		f.save.Disable()
+		f.say("Not saved: " + ve.Problems[0].Error())
+		f.fields.focusFirst(f.u.win.Canvas(), ve.Problems)
 		return
 	}
 	if err != nil {
+		f.say("Not saved: " + err.Error())
 		dialog.ShowError(fmt.Errorf("the case was not saved: %w", err), f.u.win)
 		return
 	}
 	what := "Saved case " + c.ID
-	if !f.isNew {
+	if !isNew {
 		what = "Saved the changes to case " + c.ID
 	}
+	if c.PatientKey != "" {
+		what += " (patient " + logbook.ShortCode(c.PatientKey) + ")"
+	}
 	f.startNew(true)
-	f.notice.SetText(what + ". Ready for the next case.")
+	f.say(what + ". Ready for the next case.")
+	f.scroll.ScrollToTop()
 	f.u.win.Canvas().Focus(f.id)
 	f.u.recordsChanged()
 }
@@ -473,12 +547,17 @@ func (f *caseForm) confirmDelete() {
 	}, f.u.win)
 }
 
+// deleteNow deletes the case off the UI thread.
 func (f *caseForm) deleteNow(id string) {
-	if err := f.u.st.DeleteCase(f.u.ctx, id); err != nil {
-		dialog.ShowError(fmt.Errorf("case %s was not deleted: %w", id, err), f.u.win)
-		return
-	}
-	f.startNew(true)
-	f.notice.SetText("Deleted case " + id + ".")
-	f.u.recordsChanged()
+	f.del.Disable()
+	f.u.jobs.background(func() error { return f.u.st.DeleteCase(f.u.ctx, id) }, func(err error) {
+		f.del.Enable()
+		if err != nil {
+			dialog.ShowError(fmt.Errorf("case %s was not deleted: %w", id, err), f.u.win)
+			return
+		}
+		f.startNew(true)
+		f.say("Deleted case " + id + ".")
+		f.u.recordsChanged()
+	})
 }

@@ -1,7 +1,10 @@
 package app
 
 import (
+	"database/sql"
+	"strings"
 	"testing"
+	"time"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/test"
@@ -21,30 +24,44 @@ func fillValidCase(f *caseForm, id string) {
 	f.indication.Set(logbook.Screening)
 	f.extent.Set(logbook.ExtentCaecum)
 	f.withdrawal.SetText("8:15")
-	for i, v := range []string{"3", "2", "2"} {
-		f.bbps[i].SetSelected(v)
+	for i, v := range []int{3, 2, 2} {
+		f.bbps[i].SetSelectedIndex(v + 1)
 	}
 }
 
 func TestEntryValidationAndSave(t *testing.T) {
 	u := newTestUI(t, 50)
-	u.win.SetContent(u.form.content)
+	u.tabs.SelectIndex(1)
 	u.win.Resize(fyne.NewSize(1200, 900))
 	f := u.form
 
-	// An empty form cannot be saved and says what is missing beside each field.
-	if !f.save.Disabled() {
-		t.Fatal("Save is enabled on an empty form")
+	// An empty form says nothing before anything is typed.
+	required := []string{"procedure_id", "operator_id", "age", "sex", "indication", "extent"}
+	for _, field := range required {
+		if got := f.fields.message(field); got != "" {
+			t.Errorf("before anything is typed, %s already says %q", field, got)
+		}
 	}
-	for _, field := range []string{"procedure_id", "operator_id", "age", "sex", "indication", "extent"} {
+	// Trying to save it says what is missing beside each field, stores
+	// nothing and gives the keyboard to the first field missing.
+	test.Tap(f.save)
+	u.jobs.wait()
+	for _, field := range required {
 		if got := f.fields.message(field); got != "is required" {
 			t.Errorf("message beside %s = %q, want %q", field, got, "is required")
 		}
 	}
+	if u.win.Canvas().Focused() != f.id {
+		t.Errorf("after a refused save the keyboard is on %T, not the procedure number", u.win.Canvas().Focused())
+	}
+	if n, _ := u.st.CountProcedures(u.ctx, store.ListQuery{}); n != 50 {
+		t.Fatalf("a refused save stored something: %d procedures", n)
+	}
 
+	f.startNew(false)
 	fillValidCase(f, "NEW-1")
-	if f.save.Disabled() {
-		t.Fatalf("Save stays disabled on a valid case: %v", f.problems)
+	if len(f.problems) > 0 {
+		t.Fatalf("a valid case has problems: %v", f.problems)
 	}
 	if got, want := f.bbpsTotal.Text, "Total 7 of 9 – adequate (every segment 2 or more)"; got != want {
 		t.Errorf("Boston total = %q, want %q", got, want)
@@ -72,22 +89,24 @@ func TestEntryValidationAndSave(t *testing.T) {
 		if f.fields.message(tc.field) == "" {
 			t.Errorf("%s: no message beside %s", tc.name, tc.field)
 		}
-		if !f.save.Disabled() {
-			t.Errorf("%s: Save is enabled", tc.name)
+		if len(f.problems) == 0 {
+			t.Errorf("%s: the case has no problem", tc.name)
 		}
 		tc.undo()
-		if f.save.Disabled() {
-			t.Errorf("%s: Save stays disabled after the fix: %v", tc.name, f.problems)
+		if len(f.problems) > 0 {
+			t.Errorf("%s: problems remain after the fix: %v", tc.name, f.problems)
 		}
 	}
 
 	// A lesion added through the list is saved with the case.
 	f.lesions = append(f.lesions, logbook.Lesion{LesionNo: 1, Segment: logbook.Sigmoid, SizeMM: 4,
 		Resection: logbook.ColdSnare, Retrieved: logbook.Yes, SentToPathology: logbook.Yes, Histology: logbook.HistPending})
+	f.showLesions()
 	f.changed()
 
-	// Enter in a field saves.
+	// Enter in a field saves (off the UI thread).
 	f.age.TypedKey(&fyne.KeyEvent{Name: fyne.KeyReturn})
+	u.jobs.wait()
 	c, err := u.st.Case(u.ctx, "NEW-1")
 	if err != nil {
 		t.Fatalf("the case was not saved: %v", err)
@@ -105,11 +124,12 @@ func TestEntryValidationAndSave(t *testing.T) {
 
 	// Editing shows the short code only, never the hospital number.
 	f.edit(c)
-	if f.patient.Text != "" || f.patientCode.Text != "Kept as "+logbook.ShortCode(c.PatientKey) {
+	if f.patient.Text != "" || !strings.HasPrefix(f.patientCode.Text, "Kept as "+logbook.ShortCode(c.PatientKey)+".") {
 		t.Errorf("edit shows patient %q / %q", f.patient.Text, f.patientCode.Text)
 	}
 	f.age.SetText("59")
 	test.Tap(f.save)
+	u.jobs.wait()
 	if c, _ = u.st.Case(u.ctx, "NEW-1"); c.Age != 59 || c.PatientKey != want {
 		t.Errorf("edited case: age %d, key kept %v", c.Age, c.PatientKey == want)
 	}
@@ -117,6 +137,7 @@ func TestEntryValidationAndSave(t *testing.T) {
 	// A duplicate id is refused by the store and shown beside the id.
 	fillValidCase(f, "NEW-1")
 	f.submit()
+	u.jobs.wait()
 	if got := f.fields.message("procedure_id"); got == "" {
 		t.Error("a duplicate procedure id gave no message beside the field")
 	}
@@ -124,6 +145,7 @@ func TestEntryValidationAndSave(t *testing.T) {
 	// Deleting is recorded in the change log.
 	f.edit(c)
 	f.deleteNow("NEW-1")
+	u.jobs.wait()
 	if _, err := u.st.Case(u.ctx, "NEW-1"); err == nil {
 		t.Error("the case is still there after delete")
 	}
@@ -141,14 +163,17 @@ func TestLesionEditorValidates(t *testing.T) {
 	l := logbook.NewLesion()
 	l.LesionNo = 1
 	e := newLesionEditor(u, l)
-	if !e.keep.Disabled() {
-		t.Fatal("an empty lesion can be kept")
+	kept := false
+	e.onDone = func(keep bool) { kept = keep }
+	test.Tap(e.keep)
+	if kept || e.fields.message("segment") != "is required" {
+		t.Fatalf("an empty lesion was kept (%v) or says %q beside its segment", kept, e.fields.message("segment"))
 	}
 	e.segment.Set(logbook.Rectum)
 	e.size.SetText("3")
 	e.optical.Set(logbook.OpticalUncertain)
 	e.confidence.Set(logbook.HighConfidence)
-	if e.fields.message("confidence") == "" || !e.keep.Disabled() {
+	if e.fields.message("confidence") == "" || len(e.problems) == 0 {
 		t.Error("an uncertain call with high confidence is accepted")
 	}
 	e.confidence.Set(logbook.LowConfidence)
@@ -157,7 +182,145 @@ func TestLesionEditorValidates(t *testing.T) {
 	if e.histology.Value() != logbook.HistPending {
 		t.Errorf("a specimen sent starts as %q, want pending", e.histology.Value())
 	}
-	if e.keep.Disabled() {
+	test.Tap(e.keep)
+	if !kept {
 		t.Errorf("a valid lesion cannot be kept: %v", e.problems)
+	}
+}
+
+// holdWriteLock takes the database's write lock from another connection,
+// as another program writing would, until release is called.
+func holdWriteLock(t *testing.T, u *ui) (release func()) {
+	t.Helper()
+	db, err := sql.Open("sqlite", u.st.Path())
+	if err != nil {
+		t.Fatal(err)
+	}
+	other, err := db.Conn(u.ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := other.ExecContext(u.ctx, "BEGIN IMMEDIATE"); err != nil {
+		t.Fatal(err)
+	}
+	done := false
+	release = func() {
+		if done {
+			return
+		}
+		done = true
+		if _, err := other.ExecContext(u.ctx, "ROLLBACK"); err != nil {
+			t.Error(err)
+		}
+		other.Close()
+		db.Close()
+	}
+	t.Cleanup(release)
+	return release
+}
+
+// returnsAtOnce runs action as the UI thread would and fails the test when
+// it waits for the database (a write waits the whole 60 s busy timeout).
+func returnsAtOnce(t *testing.T, what string, action func()) {
+	t.Helper()
+	done := make(chan struct{})
+	go func() {
+		fyne.DoAndWait(action)
+		close(done)
+	}()
+	select {
+	case <-done:
+	case <-time.After(20 * time.Second):
+		t.Fatalf("%s waited for the database on the UI thread", what)
+	}
+}
+
+// TestTypingNeverWaitsForTheDatabase holds the database's write lock from
+// another connection, as another program writing would, while a hospital
+// number is typed: no keystroke may wait for it, because nothing is
+// written while typing. Saving then waits off the UI thread, says so, and
+// stores the case with the pseudonym once the other writer is done.
+func TestTypingNeverWaitsForTheDatabase(t *testing.T) {
+	t.Setenv("POLYPLEDGER_BUSY_TIMEOUT", "60s")
+	u := newTestUI(t, 20)
+	u.tabs.SelectIndex(1)
+	f := u.form
+	fillValidCase(f, "BUSY-1") // types the hospital number "rx 4471"
+
+	release := holdWriteLock(t, u)
+	returnsAtOnce(t, "a keystroke in the hospital number", func() { test.Type(f.patient, "2") })
+	returnsAtOnce(t, "saving the case", f.submit)
+	if !f.saving || !strings.HasPrefix(f.notice.Text, "Saving case BUSY-1") || !f.progress.Visible() {
+		t.Errorf("while the save waits the screen says %q (saving %v)", f.notice.Text, f.saving)
+	}
+	if _, err := u.st.Case(u.ctx, "BUSY-1"); err == nil {
+		t.Fatal("the case was stored while another program held the write lock")
+	}
+	release()
+	u.jobs.wait()
+	c, err := u.st.Case(u.ctx, "BUSY-1")
+	if err != nil {
+		t.Fatalf("the case was not stored once the other writer finished: %v (screen says %q)", err, f.notice.Text)
+	}
+	want, _ := u.st.Pseudonymise("RX 44712")
+	if c.PatientKey != want || strings.Contains(f.notice.Text, "4471") {
+		t.Errorf("stored key %q, want the pseudonym of the number typed; the screen says %q", c.PatientKey, f.notice.Text)
+	}
+}
+
+// TestOtherWritesWaitOffTheScreen holds another program's write lock while
+// a pathology result, a roster entry, the settings and a deletion are
+// saved: each returns to the screen at once and is stored once the lock is
+// free.
+func TestOtherWritesWaitOffTheScreen(t *testing.T) {
+	t.Setenv("POLYPLEDGER_BUSY_TIMEOUT", "60s")
+	u := newTestUI(t, 300)
+	u.inbox.reload()
+	row := u.inbox.rows[0]
+	row.histology.Set(logbook.TubularAdenoma)
+	row.dysplasia.Set(logbook.DysplasiaLow)
+	u.unit.load()
+	u.unit.newID.SetText("E42")
+	u.unit.newName.SetText("Dr New Person")
+	u.unit.name.SetText("Renamed Unit")
+	var caseID string // any stored case but the one given a result
+	if err := u.st.ForEachCase(u.ctx, store.CaseFilter{}, func(c *logbook.Case) error {
+		if caseID == "" && c.ID != row.item.Lesion.ProcedureID {
+			caseID = c.ID
+		}
+		return nil
+	}); err != nil || caseID == "" {
+		t.Fatalf("no case to delete: %v", err)
+	}
+
+	release := holdWriteLock(t, u)
+	returnsAtOnce(t, "saving a pathology result", func() { u.inbox.record(row) })
+	returnsAtOnce(t, "adding to the roster", u.unit.addPerson)
+	returnsAtOnce(t, "saving the settings", u.unit.save)
+	returnsAtOnce(t, "deleting a case", func() { u.form.deleteNow(caseID) })
+	release()
+	u.jobs.wait()
+
+	c, err := u.st.Case(u.ctx, row.item.Lesion.ProcedureID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, l := range c.Lesions {
+		if l.LesionNo == row.item.Lesion.LesionNo && l.Histology != logbook.TubularAdenoma {
+			t.Errorf("the pathology result was not stored: %s", l.Histology)
+		}
+	}
+	if s, _ := u.st.Settings(u.ctx); s.UnitName != "Renamed Unit" {
+		t.Errorf("the settings were not stored: unit name %q", s.UnitName)
+	}
+	found := false
+	for _, r := range u.roster {
+		found = found || r.ID == "E42"
+	}
+	if !found {
+		t.Error("the roster entry was not stored")
+	}
+	if _, err := u.st.Case(u.ctx, caseID); err == nil {
+		t.Errorf("case %s was not deleted", caseID)
 	}
 }

@@ -8,6 +8,7 @@ import (
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/layout"
 	"fyne.io/fyne/v2/widget"
 
 	"polypledger/logbook"
@@ -60,12 +61,13 @@ var listColumns = []listColumn{
 type caseList struct {
 	u *ui
 
-	from, to    *widget.Entry
-	operator    *widget.Select
+	from, to    *entry
+	operator    *keySelect
 	operatorIDs []string
 	indication  *choice[logbook.Indication]
 	pending     *widget.Check
 	countLabel  *widget.Label
+	hint        *widget.Label
 	table       *widget.Table
 	content     fyne.CanvasObject
 
@@ -83,13 +85,15 @@ func newCaseList(u *ui) *caseList {
 	apply := func() { l.applyFilters() }
 	l.from = submitEntry("from YYYY-MM-DD", apply, nil)
 	l.to = submitEntry("to YYYY-MM-DD", apply, nil)
-	l.operator = widget.NewSelect(nil, func(string) { apply() })
+	l.operator = newKeySelect(nil, func(string) { apply() })
 	l.indication = newChoice(logbook.Indications, indicationWords, false, apply)
 	l.indication.PlaceHolder = "any reason"
-	clearReason := widget.NewButton("Clear reason", func() { l.indication.ClearSelected(); apply() })
+	clearReason := newButton("Any reason", func() { l.indication.ClearSelected(); apply() })
 	l.pending = widget.NewCheck("Only cases awaiting histology", func(bool) { apply() })
 	l.countLabel = widget.NewLabel("")
 	l.refreshRoster()
+	u.name(l.operator, "Endoscopist")
+	u.name(l.indication, "Reason")
 
 	l.table = widget.NewTableWithHeaders(
 		func() (int, int) {
@@ -128,18 +132,19 @@ func newCaseList(u *ui) *caseList {
 			l.open(r.Procedure.ID)
 		}
 	}
-	help := widget.NewLabel("Click a case to open it. Click a column title to sort.")
-	help.Importance = widget.LowImportance
-	filters := container.NewHBox(widget.NewLabel("Period"), sized(l.from, 130), sized(l.to, 130),
-		widget.NewLabel("Endoscopist"), sized(l.operator, 240),
-		widget.NewLabel("Reason"), sized(l.indication, 240), clearReason)
-	l.content = container.NewBorder(container.NewVBox(filters, container.NewHBox(l.pending, l.countLabel, help)), nil, nil, nil, l.table)
+	help := widget.NewLabel("Click a case to open it; click a column title to sort.")
+	l.hint = widget.NewLabel("")
+	l.hint.Wrapping = fyne.TextWrapWord
+	l.hint.Alignment = fyne.TextAlignCenter
+	l.hint.Hide()
+	filters := container.NewVBox(
+		container.NewHBox(widget.NewLabel("Period"), sized(l.from, 130), sized(l.to, 130),
+			widget.NewLabel("Endoscopist"), sized(l.operator, 240)),
+		container.NewHBox(widget.NewLabel("Reason"), sized(l.indication, 240), clearReason, l.pending),
+		container.NewHBox(l.countLabel, help))
+	l.content = container.NewBorder(filters, nil, nil, nil,
+		container.NewStack(l.table, container.NewVBox(layout.NewSpacer(), l.hint, layout.NewSpacer())))
 	return l
-}
-
-// sized gives an object a fixed minimum width inside a row.
-func sized(o fyne.CanvasObject, w float32) fyne.CanvasObject {
-	return container.NewGridWrap(fyne.NewSize(w, o.MinSize().Height), o)
 }
 
 func (l *caseList) headerText(c listColumn) string {
@@ -244,8 +249,20 @@ func (l *caseList) reload() {
 			return
 		}
 		l.count = n
+		filtered := !q.From.IsZero() || !q.To.IsZero() || q.OperatorID != "" || q.Indication != "" || q.HistologyPending
 		l.mu.Unlock()
 		l.countLabel.SetText(fmt.Sprintf("%d cases.", n))
+		switch {
+		case n > 0:
+			l.hint.Hide()
+		case filtered:
+			l.hint.SetText("No case matches these filters. Clear the dates, choose Everyone or Any reason to see more.")
+			l.hint.Show()
+		default:
+			l.hint.SetText("No cases yet. Enter one under Enter a case (Alt+2), or import a file of procedures " +
+				"(File ▸ Import records from a CSV file, Ctrl+I).")
+			l.hint.Show()
+		}
 		l.table.Refresh()
 	})
 }

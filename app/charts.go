@@ -1,18 +1,22 @@
 package app
 
 import (
+	"time"
+
 	"polypledger/report"
 	"polypledger/workspace"
 )
 
-// chartOptions is the size the scorecard draws its charts at.
+// chartOptions is the size the figures screen draws its charts at.
 var chartOptions = report.ChartOptions{WidthMM: 160, HeightMM: 90, DPI: 96}
 
-// scorecardCharts draws the charts of one population with the report's
-// own chart functions: for the unit or an endoscopist the quarterly ADR
-// trend, the ADR funnel and the detection-aid comparison; for a trainee the
-// cases by supervision and the CUSUM learning curve.
-func scorecardCharts(figs workspace.Figures, prof *report.Profile, pop workspace.Population) []chartImage {
+// figureCharts draws the charts of one population with the report's own
+// chart functions: for the unit or an endoscopist the quarterly ADR trend
+// (a quarter not over on today, or still waiting for much histology, drawn
+// as provisional), the ADR funnel and the detection-aid comparison; for a
+// trainee the cases by supervision and the CUSUM learning curve from the
+// trainee's first case.
+func figureCharts(figs workspace.Figures, prof *report.Profile, pop workspace.Population, today time.Time) []chartImage {
 	var out []chartImage
 	add := func(name string, png []byte, err error) {
 		out = append(out, chartImage{name: name, png: png, err: err})
@@ -51,7 +55,8 @@ func scorecardCharts(figs workspace.Figures, prof *report.Profile, pop workspace
 		if !ok {
 			ind = report.Indicator{ID: "adr", Status: report.TooFew}
 		}
-		td.Points = append(td.Points, report.TrendPoint{Label: q.Quarter, Indicator: ind})
+		td.Points = append(td.Points, report.TrendPoint{Label: q.Quarter, Indicator: ind,
+			Provisional: report.ProvisionalNote(ind, q.Unfinished(today))})
 	}
 	png, err := report.TrendChart(td, chartOptions)
 	add("trend", png, err)

@@ -1,7 +1,9 @@
 package app
 
 import (
+	"fmt"
 	"strings"
+	"time"
 	"unicode"
 
 	"fyne.io/fyne/v2"
@@ -12,19 +14,58 @@ import (
 
 // keySelect is a drop-down that is quick from the keyboard: a letter picks
 // the next option starting with it, left and right step through the
-// options, and Enter calls OnSubmit (the form's save).
+// options, space or the arrow keys open the list, and Enter calls OnSubmit
+// (the form's save).
+//
+// A type that embeds keySelect must register itself with ExtendBaseWidget
+// before it is shown (see choice): the drop-down finds its window, redraws
+// and lays itself out through the object registered, so it must be the very
+// object placed on screen.
 type keySelect struct {
 	widget.Select
 	OnSubmit func()
+	// opened is when the list was last opened, so that the layout file
+	// can tell whose list is open.
+	opened time.Time
 }
 
+// Tapped opens the list.
+func (s *keySelect) Tapped(ev *fyne.PointEvent) {
+	s.opened = time.Now()
+	s.Select.Tapped(ev)
+}
+
+// newKeySelect returns a keyboard-friendly drop-down over options.
 func newKeySelect(options []string, changed func(string)) *keySelect {
 	s := &keySelect{}
+	s.init(options, changed)
+	s.ExtendBaseWidget(s)
+	return s
+}
+
+// init sets the options, the change handler and the placeholder; it does
+// not register the widget.
+func (s *keySelect) init(options []string, changed func(string)) {
 	s.Options = options
 	s.OnChanged = changed
 	s.PlaceHolder = "choose…"
-	s.ExtendBaseWidget(s)
-	return s
+}
+
+// selector is every keyboard-friendly drop-down: a keySelect or a type
+// that embeds one.
+type selector interface {
+	fyne.Widget
+	base() *keySelect
+}
+
+// base returns the drop-down itself (for a type that embeds it, the
+// embedded keySelect).
+func (s *keySelect) base() *keySelect { return s }
+
+// FocusGained shows the focus and brings the drop-down into view.
+func (s *keySelect) FocusGained() {
+	s.Select.FocusGained()
+	revealFocused()
 }
 
 // TypedKey saves on Enter and otherwise behaves as a drop-down.
@@ -33,20 +74,32 @@ func (s *keySelect) TypedKey(e *fyne.KeyEvent) {
 		s.OnSubmit()
 		return
 	}
+	if e.Name == fyne.KeySpace || e.Name == fyne.KeyUp || e.Name == fyne.KeyDown {
+		s.opened = time.Now()
+	}
 	s.Select.TypedKey(e)
 }
 
-// TypedRune picks the next option whose first letter or digit is r.
+// TypedRune picks the next option whose first letter or digit is r. An
+// option in brackets ("(not recorded)", "(no trainee)") is picked by its
+// letter only when no other option starts with it, so that "n" means "No"
+// and left/right reach the bracketed options.
 func (s *keySelect) TypedRune(r rune) {
 	r = unicode.ToLower(r)
 	n := len(s.Options)
 	start := s.SelectedIndex()
-	for step := 1; step <= n; step++ {
-		i := (start + step + n) % n
-		o := strings.TrimLeft(strings.ToLower(s.Options[i]), "( ")
-		if o != "" && []rune(o)[0] == r {
-			s.SetSelectedIndex(i)
-			return
+	for _, bracketed := range []bool{false, true} {
+		for step := 1; step <= n; step++ {
+			i := (start + step + n) % n
+			o := strings.ToLower(s.Options[i])
+			if strings.HasPrefix(o, "(") != bracketed {
+				continue
+			}
+			o = strings.TrimLeft(o, "( ")
+			if o != "" && []rune(o)[0] == r {
+				s.SetSelectedIndex(i)
+				return
+			}
 		}
 	}
 }
@@ -55,47 +108,53 @@ func (s *keySelect) TypedRune(r rune) {
 const notRecorded = "(not recorded)"
 
 // choice is a drop-down over one code set: people pick plain words, the
-// program reads and writes the code.
-type choice[T ~string] struct {
-	*keySelect
+// program reads and writes the code. The zero value of T means "not
+// recorded".
+type choice[T comparable] struct {
+	keySelect
 	codes []T
 	words []string
 }
 
 // newChoice makes a choice over codes, labelled by words (the code itself
 // where words has none). optional adds a "not recorded" option first.
-func newChoice[T ~string](codes []T, words map[T]string, optional bool, changed func()) *choice[T] {
+func newChoice[T comparable](codes []T, words map[T]string, optional bool, changed func()) *choice[T] {
 	c := &choice[T]{}
+	var zero T
 	if optional {
-		c.codes = append(c.codes, "")
+		c.codes = append(c.codes, zero)
 		c.words = append(c.words, notRecorded)
 	}
 	for _, code := range codes {
-		w := words[code]
-		if w == "" {
-			w = string(code)
+		w, ok := words[code]
+		if !ok || w == "" {
+			w = fmt.Sprint(code)
 		}
 		c.codes = append(c.codes, code)
 		c.words = append(c.words, w)
 	}
-	c.keySelect = newKeySelect(c.words, func(string) {
+	c.init(c.words, func(string) {
 		if changed != nil {
 			changed()
 		}
 	})
+	c.ExtendBaseWidget(c)
 	return c
 }
 
-// Value returns the chosen code, "" when nothing or "not recorded" is chosen.
+// Value returns the chosen code, the zero value when nothing or "not
+// recorded" is chosen.
 func (c *choice[T]) Value() T {
 	i := c.SelectedIndex()
 	if i < 0 {
-		return ""
+		var zero T
+		return zero
 	}
 	return c.codes[i]
 }
 
-// Set chooses code v; "" chooses "not recorded" or clears the choice.
+// Set chooses code v; the zero value chooses "not recorded" or clears the
+// choice.
 func (c *choice[T]) Set(v T) {
 	for i, code := range c.codes {
 		if code == v {
@@ -106,43 +165,14 @@ func (c *choice[T]) Set(v T) {
 	c.ClearSelected()
 }
 
-// yesNoChoice is a yes/no (and optionally "not applicable") drop-down.
-type yesNoChoice struct {
-	*keySelect
-	values []logbook.YesNo
-}
-
-func newYesNo(allowNA bool, naWords string, changed func()) *yesNoChoice {
-	c := &yesNoChoice{values: []logbook.YesNo{logbook.Unrecorded, logbook.Yes, logbook.No}}
-	opts := []string{notRecorded, "Yes", "No"}
+// newYesNo is a yes/no drop-down (not recorded first), with a fourth
+// answer worded naWords when allowNA.
+func newYesNo(allowNA bool, naWords string, changed func()) *choice[logbook.YesNo] {
+	values := []logbook.YesNo{logbook.Yes, logbook.No}
+	words := map[logbook.YesNo]string{logbook.Yes: "Yes", logbook.No: "No"}
 	if allowNA {
-		c.values = append(c.values, logbook.NotApplicable)
-		opts = append(opts, naWords)
+		values = append(values, logbook.NotApplicable)
+		words[logbook.NotApplicable] = naWords
 	}
-	c.keySelect = newKeySelect(opts, func(string) {
-		if changed != nil {
-			changed()
-		}
-	})
-	return c
-}
-
-// Value returns the answer chosen (Unrecorded when none).
-func (c *yesNoChoice) Value() logbook.YesNo {
-	i := c.SelectedIndex()
-	if i < 0 {
-		return logbook.Unrecorded
-	}
-	return c.values[i]
-}
-
-// Set chooses answer v.
-func (c *yesNoChoice) Set(v logbook.YesNo) {
-	for i, x := range c.values {
-		if x == v {
-			c.SetSelectedIndex(i)
-			return
-		}
-	}
-	c.ClearSelected()
+	return newChoice(values, words, true, changed)
 }

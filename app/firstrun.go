@@ -10,7 +10,6 @@ import (
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
-	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/widget"
 
 	"polypledger/logbook"
@@ -23,14 +22,14 @@ import (
 // unit of one's own.
 type firstRun struct {
 	u        *ui
-	path     *widget.Entry
+	path     *entry
 	problem  *widget.Label
-	demoSize *widget.Entry
-	unitName *widget.Entry
+	demoSize *entry
+	unitName *entry
 	roster   []logbook.RosterEntry
 	rosterUI *fyne.Container
-	newID    *widget.Entry
-	newName  *widget.Entry
+	newID    *entry
+	newName  *entry
 	newRole  *choice[logbook.Role]
 }
 
@@ -38,42 +37,31 @@ type firstRun struct {
 // empty, says why the file could not be opened.
 func (u *ui) showFirstRun(path, problem string) {
 	fr := &firstRun{u: u}
-	fr.path = widget.NewEntry()
+	fr.path = newEntry("where the database file is kept")
 	fr.path.SetText(path)
-	choose := widget.NewButton("Choose another place…", func() {
-		d := dialog.NewFileSave(func(w fyne.URIWriteCloser, err error) {
-			if err != nil || w == nil {
-				return
-			}
-			p := w.URI().Path()
-			w.Close()
+	choose := newButton("Choose another place…", func() {
+		u.saveFile(filepath.Base(path), func(p string) {
 			os.Remove(p) // the dialog creates the file; the store creates its own
 			fr.path.SetText(p)
-		}, u.win)
-		d.SetFileName(filepath.Base(path))
-		d.Show()
+		})
 	})
-	openOther := widget.NewButton("Open an existing database…", func() {
-		dialog.ShowFileOpen(func(r fyne.URIReadCloser, err error) {
-			if err != nil || r == nil {
-				return
-			}
-			p := r.URI().Path()
-			r.Close()
+	openOther := newButton("Open an existing database…", func() {
+		u.openFile([]string{".db", ".sqlite", ".sqlite3"}, func(p string) {
 			fr.path.SetText(p)
 			fr.openExisting()
-		}, u.win)
+		})
 	})
 	fr.problem = widget.NewLabel(problem)
 	fr.problem.Importance = widget.DangerImportance
 	fr.problem.Wrapping = fyne.TextWrapWord
+	showText(fr.problem, "")
 	if problem != "" {
-		fr.problem.SetText("This database could not be opened: " + problem)
+		showText(fr.problem, "This database could not be opened: "+problem)
 	}
 
-	fr.demoSize = widget.NewEntry()
+	fr.demoSize = newEntry("number of cases")
 	fr.demoSize.SetText("4000")
-	demoBtn := widget.NewButton("Open a demo unit", fr.makeDemo)
+	demoBtn := newButton("Open a demo unit", fr.makeDemo)
 	demoBtn.Importance = widget.HighImportance
 	demoText := widget.NewLabel("A made-up unit with eight endoscopists, two trainees and two years of invented cases, to try every screen. None of it is real patient data.")
 	demoText.Wrapping = fyne.TextWrapWord
@@ -83,36 +71,40 @@ func (u *ui) showFirstRun(path, problem string) {
 		container.NewBorder(nil, nil, widget.NewLabel("Number of cases"), nil, fr.demoSize),
 		demoBtn)
 
-	fr.unitName = widget.NewEntry()
-	fr.unitName.SetPlaceHolder("e.g. Riverside Hospital Endoscopy")
-	fr.newID = widget.NewEntry()
-	fr.newID.SetPlaceHolder("short id, e.g. E01")
-	fr.newName = widget.NewEntry()
-	fr.newName.SetPlaceHolder("name as it appears on reports")
+	fr.unitName = newEntry("e.g. Riverside Hospital Endoscopy")
+	fr.newID = newEntry("short id, e.g. E01")
+	fr.newName = newEntry("name as it appears on reports")
 	fr.newRole = newChoice(logbook.Roles, roleWords, false, nil)
 	fr.newRole.Set(logbook.RoleEndoscopist)
+	u.name(fr.newRole, "Role")
+	u.name(fr.demoSize, "Number of cases")
+	u.name(fr.unitName, "Unit name")
 	fr.rosterUI = container.NewVBox()
-	add := widget.NewButton("Add to the roster", fr.addPerson)
+	add := newButton("Add to the roster", fr.addPerson)
 	fr.newName.OnSubmitted = func(string) { fr.addPerson() }
-	create := widget.NewButton("Start an empty unit", fr.makeEmpty)
+	create := newButton("Start an empty unit", fr.makeEmpty)
 	create.Importance = widget.HighImportance
 	emptyBox := container.NewVBox(
 		widget.NewLabelWithStyle("Start your own unit", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		container.NewBorder(nil, nil, widget.NewLabel("Unit name"), nil, fr.unitName),
 		widget.NewLabel("Who performs or learns colonoscopy here (you can add more later):"),
 		fr.rosterUI,
-		container.NewGridWithColumns(4, fr.newID, fr.newName, fr.newRole, add),
+		container.NewGridWithColumns(2, fr.newID, fr.newName),
+		container.NewGridWithColumns(2, fr.newRole, add),
 		create)
 	fr.showRoster()
 
 	title := widget.NewLabelWithStyle("Welcome to polypledger", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
 	intro := widget.NewLabel("There is no logbook database here yet. It will be kept in this file:")
-	body := container.NewVBox(title, intro,
-		container.NewBorder(nil, nil, nil, container.NewHBox(choose, openOther), fr.path),
+	cards, layout := newColumns(420, widget.NewCard("", "", demoBox), widget.NewCard("", "", emptyBox))
+	body := container.NewVBox(title, intro, fr.path, container.NewHBox(choose, openOther),
 		fr.problem,
 		widget.NewSeparator(),
-		container.NewGridWithColumns(2, widget.NewCard("", "", demoBox), widget.NewCard("", "", emptyBox)))
-	u.win.SetContent(container.NewVScroll(container.NewPadded(body)))
+		cards)
+	scroll := container.NewVScroll(container.NewPadded(body))
+	layout.onChange = scroll.Refresh
+	u.win.SetMainMenu(nil)
+	u.win.SetContent(scroll)
 }
 
 func (fr *firstRun) showRoster() {
@@ -124,26 +116,26 @@ func (fr *firstRun) showRoster() {
 	}
 	for i, r := range fr.roster {
 		i := i
-		fr.rosterUI.Add(container.NewBorder(nil, nil, nil, widget.NewButton("Remove", func() {
+		fr.rosterUI.Add(container.NewBorder(nil, nil, nil, newButton("Remove "+r.ID, func() {
 			fr.roster = append(fr.roster[:i:i], fr.roster[i+1:]...)
 			fr.showRoster()
-		}), widget.NewLabel(fmt.Sprintf("%s – %s (%s)", r.ID, r.Name, strings.ToLower(roleWords[r.Role])))))
+		}), rosterLine(r)))
 	}
 }
 
 func (fr *firstRun) addPerson() {
 	r := logbook.RosterEntry{ID: strings.TrimSpace(fr.newID.Text), Name: strings.TrimSpace(fr.newName.Text), Role: fr.newRole.Value()}
 	if ps := logbook.ValidateRosterEntry(r); len(ps) > 0 {
-		fr.problem.SetText("Roster: " + ps[0].Error())
+		showText(fr.problem, "Roster: "+ps[0].Error())
 		return
 	}
 	for _, x := range fr.roster {
 		if x.ID == r.ID {
-			fr.problem.SetText("Roster: " + r.ID + " is already on the list")
+			showText(fr.problem, "Roster: "+r.ID+" is already on the list")
 			return
 		}
 	}
-	fr.problem.SetText("")
+	showText(fr.problem, "")
 	fr.roster = append(fr.roster, r)
 	fr.newID.SetText("")
 	fr.newName.SetText("")
@@ -155,11 +147,11 @@ func (fr *firstRun) addPerson() {
 func (fr *firstRun) target() (string, bool) {
 	p := strings.TrimSpace(fr.path.Text)
 	if p == "" {
-		fr.problem.SetText("Say where the database file should be kept.")
+		showText(fr.problem, "Say where the database file should be kept.")
 		return "", false
 	}
 	if _, err := os.Stat(p); err == nil {
-		fr.problem.SetText(p + " already exists; open it, or choose another place for a new unit.")
+		showText(fr.problem, p+" already exists; open it, or choose another place for a new unit.")
 		return "", false
 	}
 	return p, true
@@ -167,9 +159,7 @@ func (fr *firstRun) target() (string, bool) {
 
 func (fr *firstRun) openExisting() {
 	p := strings.TrimSpace(fr.path.Text)
-	if err := fr.u.open(p); err != nil {
-		fr.problem.SetText("This database could not be opened: " + err.Error())
-	}
+	fr.u.openLater(p, func(err error) { showText(fr.problem, "This database could not be opened: "+err.Error()) })
 }
 
 // makeDemo creates the invented demo unit at the chosen path.
@@ -180,7 +170,7 @@ func (fr *firstRun) makeDemo() {
 	}
 	n, err := strconv.Atoi(strings.TrimSpace(fr.demoSize.Text))
 	if err != nil || n < 1 || n > 2_000_000 {
-		fr.problem.SetText("The number of cases must be a whole number from 1 to 2000000.")
+		showText(fr.problem, "The number of cases must be a whole number from 1 to 2000000.")
 		return
 	}
 	fr.u.jobs.run("Making the demo unit", func(ctx context.Context, report progressFunc) error {
@@ -201,13 +191,11 @@ func (fr *firstRun) makeDemo() {
 	}, func(err error) {
 		switch {
 		case cancelled(err):
-			fr.problem.SetText("Stopped; nothing was kept.")
+			showText(fr.problem, "Stopped; nothing was kept.")
 		case err != nil:
-			fr.problem.SetText("The demo unit could not be made: " + err.Error())
+			showText(fr.problem, "The demo unit could not be made: "+err.Error())
 		default:
-			if err := fr.u.open(p); err != nil {
-				fr.problem.SetText(err.Error())
-			}
+			fr.u.openLater(p, func(err error) { showText(fr.problem, err.Error()) })
 		}
 	})
 }
@@ -220,31 +208,37 @@ func (fr *firstRun) makeEmpty() {
 	}
 	name := strings.TrimSpace(fr.unitName.Text)
 	if name == "" {
-		fr.problem.SetText("Give the unit a name; it is printed on every report.")
+		showText(fr.problem, "Give the unit a name; it is printed on every report.")
 		return
 	}
-	st, err := workspace.OpenStore(fr.u.ctx, p, true)
-	if err == nil {
+	roster := append([]logbook.RosterEntry(nil), fr.roster...)
+	fr.u.jobs.run("Creating the unit", func(ctx context.Context, progress progressFunc) error {
+		st, err := workspace.OpenStore(ctx, p, true)
+		if err != nil {
+			return err
+		}
 		s := store.DefaultSettings
 		s.UnitName = name
-		err = st.SaveSettings(fr.u.ctx, s)
-		for _, r := range fr.roster {
+		err = st.SaveSettings(ctx, s)
+		for _, r := range roster {
 			if err == nil {
-				err = st.SaveRosterEntry(fr.u.ctx, r)
+				err = st.SaveRosterEntry(ctx, r)
 			}
 		}
 		if cerr := st.Close(); err == nil {
 			err = cerr
 		}
-	}
-	if err != nil {
-		removeDatabase(p)
-		fr.problem.SetText("The unit could not be created: " + err.Error())
-		return
-	}
-	if err := fr.u.open(p); err != nil {
-		fr.problem.SetText(err.Error())
-	}
+		if err != nil {
+			removeDatabase(p)
+		}
+		return err
+	}, func(err error) {
+		if err != nil {
+			showText(fr.problem, "The unit could not be created: "+err.Error())
+			return
+		}
+		fr.u.openLater(p, func(err error) { showText(fr.problem, err.Error()) })
+	})
 }
 
 // removeDatabase deletes a database file this screen created and its

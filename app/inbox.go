@@ -1,15 +1,12 @@
 package app
 
 import (
-	"context"
 	"errors"
 	"fmt"
-	"os"
 	"strings"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
-	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/widget"
 
 	"polypledger/logbook"
@@ -30,8 +27,9 @@ type inbox struct {
 	rows    []*inboxRow
 	summary *widget.Label
 	list    *fyne.Container
-	prev    *widget.Button
-	next    *widget.Button
+	prev    *button
+	next    *button
+	scroll  *container.Scroll
 	content fyne.CanvasObject
 }
 
@@ -40,8 +38,8 @@ type inboxRow struct {
 	item      store.AwaitingLesion
 	histology *choice[logbook.Histology]
 	dysplasia *choice[logbook.Dysplasia]
-	reported  *widget.Entry
-	save      *widget.Button
+	reported  *entry
+	save      *button
 	message   *widget.Label
 }
 
@@ -49,14 +47,14 @@ func newInbox(u *ui) *inbox {
 	b := &inbox{u: u, stale: true}
 	b.summary = widget.NewLabel("")
 	b.list = container.NewVBox()
-	b.prev = widget.NewButton("◀ Older", func() { b.page--; b.reload() })
-	b.next = widget.NewButton("Newer ▶", func() { b.page++; b.reload() })
-	imp := widget.NewButton("Import a results file (CSV)…", b.chooseImport)
+	b.prev = newButton("◀ Older", func() { b.page--; b.reload() })
+	b.next = newButton("Newer ▶", func() { b.page++; b.reload() })
+	imp := newButton("Import a results file (CSV)…", b.chooseImport)
 	help := widget.NewLabel("Choose the histology and dysplasia from the report and press Save (or Enter in the date). A file from the laboratory needs the columns procedure_id, lesion_no, histology, dysplasia, reported_on.")
 	help.Wrapping = fyne.TextWrapWord
-	help.Importance = widget.LowImportance
 	top := container.NewVBox(container.NewHBox(b.prev, b.next, imp), b.summary, help)
-	b.content = container.NewBorder(top, nil, nil, nil, container.NewVScroll(b.list))
+	b.scroll = container.NewVScroll(b.list)
+	b.content = container.NewBorder(top, nil, nil, nil, b.scroll)
 	return b
 }
 
@@ -123,19 +121,20 @@ func (b *inbox) newRow(it store.AwaitingLesion) *inboxRow {
 	r.histology.PlaceHolder = "histology…"
 	r.dysplasia = newChoice(logbook.Dysplasias, dysplasiaWords, true, nil)
 	r.dysplasia.PlaceHolder = "dysplasia…"
-	r.reported = widget.NewEntry()
+	r.reported = newEntry("reported on, YYYY-MM-DD")
 	r.reported.SetText(logbook.FormatDate(b.u.today()))
 	r.message = widget.NewLabel("")
 	r.message.Importance = widget.DangerImportance
 	r.message.Hide()
-	r.save = widget.NewButton("Save result", func() { b.record(r) })
+	r.save = newButton("Save result", func() { b.record(r) })
 	r.reported.OnSubmitted = func(string) { b.record(r) }
 	r.histology.OnSubmit = func() { b.record(r) }
 	r.dysplasia.OnSubmit = func() { b.record(r) }
 	return r
 }
 
-// record stores the result entered in a row; the lesion leaves the list.
+// record stores the result entered in a row, off the UI thread; the
+// lesion then leaves the list.
 func (b *inbox) record(r *inboxRow) {
 	d, err := logbook.ParseDate(strings.TrimSpace(r.reported.Text))
 	if err != nil {
@@ -150,20 +149,24 @@ func (b *inbox) record(r *inboxRow) {
 		r.message.Show()
 		return
 	}
-	err = b.u.st.RecordHistology(b.u.ctx, h, false)
-	var ve *store.ValidationError
-	if errors.As(err, &ve) {
-		r.message.SetText(resultProblems(ve.Problems))
-		r.message.Show()
-		return
-	}
-	if err != nil {
-		r.message.SetText("Not saved: " + err.Error())
-		r.message.Show()
-		return
-	}
-	b.u.recordsChanged()
-	b.reload()
+	r.save.Disable()
+	r.message.SetText("Saving…")
+	r.message.Show()
+	b.u.jobs.background(func() error {
+		return b.u.st.RecordHistology(b.u.ctx, h, false)
+	}, func(err error) {
+		r.save.Enable()
+		var ve *store.ValidationError
+		switch {
+		case errors.As(err, &ve):
+			r.message.SetText(resultProblems(ve.Problems))
+		case err != nil:
+			r.message.SetText("Not saved: " + err.Error())
+		default:
+			b.u.recordsChanged()
+			b.reload()
+		}
+	})
 }
 
 // resultProblems words a result's problems for the row.
@@ -178,70 +181,11 @@ func resultProblems(ps logbook.Problems) string {
 
 // chooseImport asks for a results file and imports it.
 func (b *inbox) chooseImport() {
-	dialog.ShowFileOpen(func(r fyne.URIReadCloser, err error) {
-		if err != nil || r == nil {
-			return
-		}
-		path := r.URI().Path()
-		r.Close()
-		b.importFile(path, nil)
-	}, b.u.win)
+	b.u.openFile([]string{".csv"}, func(path string) { b.importFile(path, nil) })
 }
 
-// importFile imports a histology CSV off the UI thread with a progress bar
-// and Cancel; refused rows are listed as the command line lists them
-// (FILE:LINE: column: reason). done, when set, is called afterwards with the
-// result (tests).
+// importFile imports a histology CSV (ui.importFile); done, when set, is
+// called afterwards with the result (tests).
 func (b *inbox) importFile(path string, done func(store.ImportResult, error)) {
-	var res store.ImportResult
-	b.u.jobs.run("Importing pathology results", func(ctx context.Context, report progressFunc) error {
-		f, err := os.Open(path)
-		if err != nil {
-			return fmt.Errorf("cannot open %s: %w", path, err)
-		}
-		defer f.Close()
-		var size int64
-		if fi, err := f.Stat(); err == nil {
-			size = fi.Size()
-		}
-		res, err = b.u.st.Import(ctx, store.Histology, path, f, store.ImportOptions{
-			Progress: func(rows int, read int64) {
-				frac := -1.0
-				if size > 0 {
-					frac = float64(read) / float64(size)
-				}
-				report(frac, fmt.Sprintf("%d rows read", rows))
-			},
-		})
-		return err
-	}, func(err error) {
-		if done != nil {
-			defer done(res, err)
-		}
-		b.u.recordsChanged()
-		b.reload()
-		var ie *store.ImportError
-		switch {
-		case cancelled(err):
-			dialog.ShowInformation("Import stopped", "The import was cancelled; nothing was stored.", b.u.win)
-		case errors.As(err, &ie):
-			b.showImportErrors(ie)
-		case err != nil:
-			dialog.ShowError(err, b.u.win)
-		default:
-			dialog.ShowInformation("Results imported", fmt.Sprintf("%d results were stored from %s.", res.Rows, path), b.u.win)
-		}
-	})
-}
-
-// showImportErrors lists a refused file's problems, one line each.
-func (b *inbox) showImportErrors(ie *store.ImportError) {
-	text := widget.NewLabel(ie.Error())
-	text.Wrapping = fyne.TextWrapWord
-	text.TextStyle.Monospace = true
-	body := container.NewBorder(widget.NewLabel("Nothing was imported. Correct these rows and import the file again:"), nil, nil, nil,
-		container.NewVScroll(text))
-	d := dialog.NewCustom("The results file was refused", "Close", body, b.u.win)
-	d.Resize(fyne.NewSize(760, 420))
-	d.Show()
+	b.u.importFile(store.Histology, path, store.ImportOptions{}, done)
 }

@@ -35,6 +35,7 @@ func TestInboxRecordsResultInPlace(t *testing.T) {
 	r.histology.Set(logbook.HistHyperplastic)
 	r.dysplasia.Set(logbook.DysplasiaHigh)
 	test.Tap(r.save)
+	u.jobs.wait()
 	if r.message.Hidden || !strings.Contains(r.message.Text, "dysplasia") {
 		t.Errorf("refused result shows %q", r.message.Text)
 	}
@@ -46,6 +47,7 @@ func TestInboxRecordsResultInPlace(t *testing.T) {
 	r.dysplasia.Set(logbook.DysplasiaLow)
 	r.reported.SetText("2026-11-10")
 	test.Tap(r.save)
+	u.jobs.wait()
 	if b.total != before-1 {
 		t.Errorf("after one result, %d lesions wait; want %d", b.total, before-1)
 	}

@@ -3,6 +3,7 @@ package app
 import (
 	"fmt"
 	"strings"
+	"unicode"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
@@ -22,14 +23,14 @@ func lesionSummary(l logbook.Lesion) string {
 		parts = append(parts, "Paris "+string(l.Paris))
 	}
 	if l.OpticalClass != "" {
-		s := "looks like " + strings.ToLower(opticalWords[l.OpticalClass])
+		s := "looks like " + lowerFirst(opticalWords[l.OpticalClass])
 		if l.Confidence != "" {
-			s += " (" + strings.ToLower(confidenceWords[l.Confidence]) + " confidence)"
+			s += " (" + lowerFirst(confidenceWords[l.Confidence]) + " confidence)"
 		}
 		parts = append(parts, s)
 	}
 	if l.Resection != "" {
-		parts = append(parts, strings.ToLower(resectionWords[l.Resection]))
+		parts = append(parts, lowerFirst(resectionWords[l.Resection]))
 	}
 	if l.Retrieved == logbook.Yes {
 		parts = append(parts, "retrieved")
@@ -38,15 +39,26 @@ func lesionSummary(l logbook.Lesion) string {
 	case l.Histology == logbook.HistPending:
 		parts = append(parts, "histology awaited")
 	case l.Histology != "":
-		h := strings.ToLower(histologyWords[l.Histology])
+		h := lowerFirst(histologyWords[l.Histology])
 		if l.Dysplasia != "" && l.Dysplasia != logbook.DysplasiaNone {
-			h += ", " + strings.ToLower(dysplasiaWords[l.Dysplasia]) + " dysplasia"
+			h += ", " + lowerFirst(dysplasiaWords[l.Dysplasia]) + " dysplasia"
 		}
 		parts = append(parts, h)
 	case l.SentToPathology == logbook.No:
 		parts = append(parts, "not sent to pathology")
 	}
 	return strings.Join(parts, ", ")
+}
+
+// lowerFirst lower-cases the first letter of words for use inside a
+// sentence, leaving an abbreviation ("EMR", "NBI") as it is.
+func lowerFirst(w string) string {
+	r := []rune(w)
+	if len(r) == 0 || (len(r) > 1 && unicode.IsUpper(r[1])) {
+		return w
+	}
+	r[0] = unicode.ToLower(r[0])
+	return string(r)
 }
 
 func wordOr(w, fallback string) string {
@@ -72,9 +84,10 @@ func (f *caseForm) showLesions() {
 		line := widget.NewLabel(lesionSummary(l))
 		line.Wrapping = fyne.TextWrapWord
 		row := container.NewBorder(nil, nil, nil, container.NewHBox(
-			widget.NewButton("Edit", func() { f.editLesion(i) }),
-			widget.NewButton("Remove", func() {
+			newButton(fmt.Sprintf("Edit lesion %d", l.LesionNo), func() { f.editLesion(i) }),
+			newButton(fmt.Sprintf("Remove lesion %d", l.LesionNo), func() {
 				f.lesions = append(f.lesions[:i:i], f.lesions[i+1:]...)
+				f.showLesions()
 				f.changed()
 			})), line)
 		f.lesionBox.Add(row)
@@ -99,9 +112,11 @@ func (f *caseForm) editLesion(i int) {
 		l.LesionNo++
 	}
 	ed := newLesionEditor(f.u, l)
+	f.editor = ed
 	var d dialog.Dialog
 	ed.onDone = func(keep bool) {
 		d.Hide()
+		f.editor = nil
 		if !keep {
 			return
 		}
@@ -110,10 +125,12 @@ func (f *caseForm) editLesion(i int) {
 		} else {
 			f.lesions = append(f.lesions, ed.lesion())
 		}
+		f.showLesions()
 		f.changed()
 	}
 	d = dialog.NewCustomWithoutButtons(fmt.Sprintf("Lesion %d", l.LesionNo), ed.content, f.u.win)
-	d.Resize(fyne.NewSize(640, 640))
+	size := f.u.win.Canvas().Size()
+	d.Resize(fyne.NewSize(min(680, size.Width-40), min(680, size.Height-40)))
 	d.Show()
 	f.u.win.Canvas().Focus(ed.segment)
 }
@@ -125,16 +142,17 @@ type lesionEditor struct {
 	fields *fieldSet
 
 	segment               *choice[logbook.Segment]
-	size, reported        *widget.Entry
+	size, reported        *entry
 	paris                 *choice[logbook.Paris]
 	optical, aidClass     *choice[logbook.OpticalClass]
 	confidence            *choice[logbook.Confidence]
 	imaging               *choice[logbook.Imaging]
 	resection             *choice[logbook.Resection]
-	retrieved, sent, tatt *yesNoChoice
+	retrieved, sent, tatt *choice[logbook.YesNo]
 	histology             *choice[logbook.Histology]
 	dysplasia             *choice[logbook.Dysplasia]
-	keep                  *widget.Button
+	keep                  *button
+	message               *widget.Label
 	onDone                func(keep bool)
 	content               fyne.CanvasObject
 	problems              logbook.Problems
@@ -144,7 +162,15 @@ func newLesionEditor(u *ui, l logbook.Lesion) *lesionEditor {
 	e := &lesionEditor{u: u, base: l, fields: newFieldSet()}
 	ch := e.changed
 	done := func() {
-		if len(e.problems) == 0 && e.onDone != nil {
+		if len(e.problems) > 0 {
+			// Show every problem and give the keyboard to the first.
+			e.fields.revealAll = true
+			e.changed()
+			e.message.SetText(fmt.Sprintf("Not kept yet: %d of the values need attention.", len(e.problems)))
+			e.fields.focusFirst(e.u.win.Canvas(), e.problems)
+			return
+		}
+		if e.onDone != nil {
 			e.onDone(true)
 		}
 	}
@@ -168,26 +194,11 @@ func newLesionEditor(u *ui, l logbook.Lesion) *lesionEditor {
 	e.histology = newChoice(logbook.Histologies, histologyWords, true, ch)
 	e.dysplasia = newChoice(logbook.Dysplasias, dysplasiaWords, true, ch)
 	e.reported = submitEntry("YYYY-MM-DD", ch, done)
-	for _, s := range []*keySelect{e.segment.keySelect, e.paris.keySelect, e.optical.keySelect, e.confidence.keySelect,
-		e.imaging.keySelect, e.aidClass.keySelect, e.resection.keySelect, e.retrieved.keySelect, e.sent.keySelect,
-		e.tatt.keySelect, e.histology.keySelect, e.dysplasia.keySelect} {
+	for _, s := range []*keySelect{&e.segment.keySelect, &e.paris.keySelect, &e.optical.keySelect, &e.confidence.keySelect,
+		&e.imaging.keySelect, &e.aidClass.keySelect, &e.resection.keySelect, &e.retrieved.keySelect, &e.sent.keySelect,
+		&e.tatt.keySelect, &e.histology.keySelect, &e.dysplasia.keySelect} {
 		s.OnSubmit = done
 	}
-
-	e.segment.Set(l.Segment)
-	e.size.SetText(logbook.FormatCount(l.SizeMM))
-	e.paris.Set(l.Paris)
-	e.optical.Set(l.OpticalClass)
-	e.confidence.Set(l.Confidence)
-	e.imaging.Set(l.Imaging)
-	e.aidClass.Set(l.AidClass)
-	e.resection.Set(l.Resection)
-	e.retrieved.Set(l.Retrieved)
-	e.sent.Set(l.SentToPathology)
-	e.tatt.Set(l.Tattoo)
-	e.histology.Set(l.Histology)
-	e.dysplasia.Set(l.Dysplasia)
-	e.reported.SetText(logbook.FormatDate(l.ReportedOn))
 
 	fs := e.fields
 	form := fs.group("Where and what",
@@ -208,17 +219,44 @@ func newLesionEditor(u *ui, l logbook.Lesion) *lesionEditor {
 		fieldRow{"Dysplasia", "dysplasia", e.dysplasia},
 		fieldRow{"Result reported on", "reported_on", e.reported},
 	)
-	e.keep = widget.NewButton("Keep this lesion  (Enter)", done)
+	fs.fill(func() { e.set(l) })
+
+	e.keep = newButton("Keep this lesion  (Enter)", done)
 	e.keep.Importance = widget.HighImportance
-	cancel := widget.NewButton("Cancel", func() {
+	cancel := newButton("Cancel", func() {
 		if e.onDone != nil {
 			e.onDone(false)
 		}
 	})
-	e.content = container.NewBorder(nil, container.NewHBox(e.keep, cancel), nil, nil,
+	e.message = widget.NewLabel("")
+	e.message.Importance = widget.DangerImportance
+	e.message.Wrapping = fyne.TextWrapWord
+	e.content = container.NewBorder(nil, container.NewVBox(e.message, container.NewHBox(e.keep, cancel)), nil, nil,
 		container.NewVScroll(container.NewVBox(form, removal)))
+	e.fields.untouched()
+	if l.Segment != "" {
+		e.fields.revealAll = true // an existing lesion's problems show at once
+	}
 	e.changed()
 	return e
+}
+
+// set writes a lesion's values into the widgets.
+func (e *lesionEditor) set(l logbook.Lesion) {
+	e.segment.Set(l.Segment)
+	e.size.SetText(logbook.FormatCount(l.SizeMM))
+	e.paris.Set(l.Paris)
+	e.optical.Set(l.OpticalClass)
+	e.confidence.Set(l.Confidence)
+	e.imaging.Set(l.Imaging)
+	e.aidClass.Set(l.AidClass)
+	e.resection.Set(l.Resection)
+	e.retrieved.Set(l.Retrieved)
+	e.sent.Set(l.SentToPathology)
+	e.tatt.Set(l.Tattoo)
+	e.histology.Set(l.Histology)
+	e.dysplasia.Set(l.Dysplasia)
+	e.reported.SetText(logbook.FormatDate(l.ReportedOn))
 }
 
 // lesion returns the lesion as the editor holds it (values that cannot be
@@ -264,12 +302,7 @@ func (e *lesionEditor) changed() {
 	ps = append(ps, logbook.ValidateLesion(check, e.u.today())...)
 	e.problems = ps
 	e.fields.show(ps)
-	if e.keep == nil {
-		return
-	}
-	if len(ps) == 0 {
-		e.keep.Enable()
-	} else {
-		e.keep.Disable()
+	if e.message != nil && len(ps) == 0 {
+		e.message.SetText("")
 	}
 }

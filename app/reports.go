@@ -9,7 +9,6 @@ import (
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
-	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/widget"
 
 	"polypledger/logbook"
@@ -32,14 +31,14 @@ var reportKinds = []struct {
 // its path shown with a button to open it.
 type reportScreen struct {
 	u        *ui
-	kind     *widget.Select
+	kind     *keySelect
 	period   *periodPicker
-	standard *widget.Select
-	person   *widget.Select
+	standard *keySelect
+	person   *keySelect
 	personID []string
-	make     *widget.Button
+	make     *button
 	result   *widget.Label
-	openBtn  *widget.Button
+	openBtn  *button
 	saved    string
 	content  fyne.CanvasObject
 }
@@ -50,15 +49,16 @@ func newReportScreen(u *ui) *reportScreen {
 	for _, k := range reportKinds {
 		kinds = append(kinds, k.words)
 	}
-	r.kind = widget.NewSelect(kinds, func(string) { r.refreshPeople() })
+	r.kind = newKeySelect(kinds, func(string) { r.refreshPeople() })
 	r.period = newPeriodPicker(u)
-	r.standard = widget.NewSelect(nil, nil)
-	r.person = widget.NewSelect(nil, nil)
-	r.make = widget.NewButton("Make the report…", r.chooseFile)
+	r.standard = newKeySelect(nil, nil)
+	r.person = newKeySelect(nil, nil)
+	r.make = newButton("Make the report…", r.chooseFile)
 	r.make.Importance = widget.HighImportance
 	r.result = widget.NewLabel("")
 	r.result.Wrapping = fyne.TextWrapWord
-	r.openBtn = widget.NewButton("Open the report", r.openSaved)
+	r.result.Hide()
+	r.openBtn = newButton("Open the report", r.openSaved)
 	r.openBtn.Hide()
 	r.refreshChoices()
 	r.kind.SetSelectedIndex(0)
@@ -68,10 +68,12 @@ func newReportScreen(u *ui) *reportScreen {
 		widget.NewFormItem("Standard", r.standard),
 		widget.NewFormItem("For", r.person),
 	)
-	note := widget.NewLabel("A personal report shows everyone else only as anonymous peers. " + report.AuditCaution())
+	note := widget.NewLabel("A personal report shows everyone else only as anonymous peers. A trainee's logbook counts " +
+		"from the trainee's first case. Reports of a period not yet over say that their verdicts are provisional.")
 	note.Wrapping = fyne.TextWrapWord
-	note.Importance = widget.LowImportance
-	r.content = container.NewVBox(heading("Make a PDF report"), form, container.NewHBox(r.make), r.result, container.NewHBox(r.openBtn), note)
+	body := container.NewVBox(heading("Make a PDF report"), form, container.NewHBox(r.make), r.result,
+		container.NewHBox(r.openBtn), note, cautionBox(report.AuditCaution()))
+	r.content = container.NewVScroll(container.NewPadded(body))
 	return r
 }
 
@@ -157,19 +159,10 @@ func fileName(req workspace.ReportRequest) string {
 func (r *reportScreen) chooseFile() {
 	req, _, err := r.request()
 	if err != nil {
-		r.result.SetText(err.Error())
+		showText(r.result, err.Error())
 		return
 	}
-	d := dialog.NewFileSave(func(w fyne.URIWriteCloser, err error) {
-		if err != nil || w == nil {
-			return
-		}
-		path := w.URI().Path()
-		w.Close()
-		r.makeReport(path, nil)
-	}, r.u.win)
-	d.SetFileName(fileName(req))
-	d.Show()
+	r.u.saveFile(fileName(req), func(path string) { r.makeReport(path, nil) })
 }
 
 // makeReport writes the chosen report to path off the UI thread; done,
@@ -177,26 +170,26 @@ func (r *reportScreen) chooseFile() {
 func (r *reportScreen) makeReport(path string, done func(error)) {
 	req, prof, err := r.request()
 	if err != nil {
-		r.result.SetText(err.Error())
+		showText(r.result, err.Error())
 		return
 	}
 	audit := &workspace.Audit{Store: r.u.st, Settings: r.u.settings, Profile: prof}
 	req.Guideline, _ = audit.Guideline("")
 	r.openBtn.Hide()
 	r.make.Disable()
-	r.result.SetText("Making the report…")
+	showText(r.result, "Making the report…")
 	r.u.jobs.run("Making the report", func(ctx context.Context, progress progressFunc) error {
 		return audit.WriteReportFile(ctx, path, req, func(n int) { progress(-1, fmt.Sprintf("%d cases read", n)) })
 	}, func(err error) {
 		r.make.Enable()
 		switch {
 		case cancelled(err):
-			r.result.SetText("Stopped; no report was saved.")
+			showText(r.result, "Stopped; no report was saved.")
 		case err != nil:
-			r.result.SetText("The report could not be made: " + err.Error())
+			showText(r.result, "The report could not be made: "+err.Error())
 		default:
 			r.saved = path
-			r.result.SetText("Saved " + path)
+			showText(r.result, "Saved "+path)
 			r.openBtn.Show()
 		}
 		if done != nil {
@@ -215,6 +208,6 @@ func (r *reportScreen) openSaved() {
 		abs = r.saved
 	}
 	if err := r.u.app.OpenURL(&url.URL{Scheme: "file", Path: abs}); err != nil {
-		r.result.SetText("Saved " + r.saved + " (it could not be opened here: " + err.Error() + ")")
+		showText(r.result, "Saved "+r.saved+" (it could not be opened here: "+err.Error()+")")
 	}
 }

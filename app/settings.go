@@ -1,14 +1,14 @@
 package app
 
 import (
+	"context"
 	"errors"
-	"fmt"
 	"strconv"
 	"strings"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
-	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
 	"polypledger/logbook"
@@ -21,35 +21,37 @@ import (
 // guideline, the local minimum for resect-and-discard figures, and backup.
 type unitScreen struct {
 	u         *ui
-	name      *widget.Entry
-	standard  *widget.Select
-	guideline *widget.Select
-	rules     *widget.Select
-	minCases  *widget.Entry
+	name      *entry
+	standard  *keySelect
+	guideline *keySelect
+	rules     *keySelect
+	minCases  *entry
 	message   *widget.Label
 	roster    *fyne.Container
-	newID     *widget.Entry
-	newName   *widget.Entry
+	newID     *entry
+	newName   *entry
 	newRole   *choice[logbook.Role]
 	content   fyne.CanvasObject
 }
 
 func newUnitScreen(u *ui) *unitScreen {
 	s := &unitScreen{u: u}
-	s.name = widget.NewEntry()
-	s.standard = widget.NewSelect(nil, nil)
+	s.name = newEntry("the unit's name, printed on every report")
+	s.standard = newKeySelect(nil, nil)
 	var gls []string
 	for _, g := range report.Guidelines {
 		gls = append(gls, g.Title())
 	}
-	s.guideline = widget.NewSelect(gls, nil)
-	s.rules = widget.NewSelect([]string{"PIVI (ASGE 2011)", "ESGE competence standards (2022)"}, nil)
-	s.minCases = widget.NewEntry()
+	s.guideline = newKeySelect(gls, nil)
+	s.rules = newKeySelect([]string{"PIVI (ASGE 2011)", "ESGE competence standards (2022)"}, nil)
+	s.minCases = newEntry("cases")
 	s.message = widget.NewLabel("")
 	s.message.Wrapping = fyne.TextWrapWord
-	save := widget.NewButton("Save the settings", s.save)
+	save := newButton("Save the settings", s.save)
 	save.Importance = widget.HighImportance
-	backup := widget.NewButton("Back up now…", s.backup)
+	backup := newButton("Back up now…", s.backup)
+	openOther := newButton("Open another database…", u.chooseDatabase)
+	imp := newButton("Import records from a CSV file…", u.chooseImport)
 	minItem := widget.NewFormItem("Fewest cases to judge", s.minCases)
 	minItem.HintText = "before a resect-and-discard figure gets a verdict (local policy)"
 	form := widget.NewForm(
@@ -60,21 +62,25 @@ func newUnitScreen(u *ui) *unitScreen {
 		minItem,
 	)
 	s.roster = container.NewVBox()
-	s.newID = widget.NewEntry()
-	s.newID.SetPlaceHolder("id, e.g. E09")
-	s.newName = widget.NewEntry()
-	s.newName.SetPlaceHolder("name")
+	s.newID = newEntry("id, e.g. E09")
+	s.newName = newEntry("name as printed on reports")
 	s.newRole = newChoice(logbook.Roles, roleWords, false, nil)
 	s.newRole.Set(logbook.RoleEndoscopist)
-	add := widget.NewButton("Add to the roster", s.addPerson)
+	u.name(s.newRole, "Role")
+	add := newButton("Add to the roster", s.addPerson)
 	s.newName.OnSubmitted = func(string) { s.addPerson() }
 	keyNote := widget.NewLabel("Patient codes are made with the unit key kept in the settings folder, not in the database. Back the key up together with the database, but keep the two apart.")
 	keyNote.Wrapping = fyne.TextWrapWord
-	keyNote.Importance = widget.LowImportance
-	left := container.NewVBox(heading("The unit"), form, container.NewHBox(save, backup), s.message, keyNote)
+	dbNote := widget.NewLabel("Database: " + u.st.Path())
+	dbNote.Wrapping = fyne.TextWrapBreak
+	left := container.NewVBox(heading("The unit"), form, container.NewHBox(save), s.message,
+		heading("The database"), dbNote, container.NewHBox(openOther, backup), container.NewHBox(imp), keyNote)
 	right := container.NewVBox(heading("Roster"), s.roster,
-		container.NewGridWithColumns(4, s.newID, s.newName, s.newRole, add))
-	s.content = container.NewVScroll(container.NewPadded(container.NewGridWithColumns(2, left, right)))
+		container.NewGridWithColumns(2, s.newID, s.newName), container.NewGridWithColumns(2, s.newRole, add))
+	cols, layout := newColumns(470, left, right)
+	scroll := container.NewVScroll(container.NewPadded(cols))
+	layout.onChange = scroll.Refresh
+	s.content = scroll
 	return s
 }
 
@@ -112,34 +118,58 @@ func (s *unitScreen) showRoster() {
 	s.roster.RemoveAll()
 	for _, r := range s.u.roster {
 		r := r
-		text := fmt.Sprintf("%s – %s (%s)", r.ID, r.Name, strings.ToLower(roleWords[r.Role]))
-		if r.Retired {
-			text += ", retired"
-		}
-		line := widget.NewLabel(text)
-		if r.Retired {
-			line.Importance = widget.LowImportance
-		}
-		retire := widget.NewButton("Retire", func() { r.Retired = true; s.storePerson(r) })
-		if r.Retired {
-			retire = widget.NewButton("Bring back", func() { r.Retired = false; s.storePerson(r) })
-		}
-		role := widget.NewButton("Mark as trainee", func() { r.Role = logbook.RoleTrainee; s.storePerson(r) })
-		if r.Role == logbook.RoleTrainee {
-			role = widget.NewButton("Mark as endoscopist", func() { r.Role = logbook.RoleEndoscopist; s.storePerson(r) })
-		}
-		s.roster.Add(container.NewBorder(nil, nil, nil, container.NewHBox(role, retire), line))
+		s.roster.Add(container.NewBorder(nil, nil, nil, s.rosterButtons(r), rosterLine(r)))
 	}
 }
 
-func (s *unitScreen) storePerson(r logbook.RosterEntry) {
-	if err := s.u.st.SaveRosterEntry(s.u.ctx, r); err != nil {
-		s.message.SetText("Roster: " + err.Error())
-		return
+// rosterLine names a person and their role once: "T01 – Dr Name",
+// then "trainee" (and "retired") in smaller type.
+func rosterLine(r logbook.RosterEntry) fyne.CanvasObject {
+	name := r.ID
+	if r.Name != "" {
+		name += " – " + r.Name
 	}
-	s.message.SetText("Roster saved.")
-	s.u.rosterChanged()
-	s.showRoster()
+	role := strings.ToLower(roleWords[r.Role])
+	if r.Retired {
+		role += ", retired"
+	}
+	l := widget.NewLabel(name)
+	l.Wrapping = fyne.TextWrapWord
+	sub := widget.NewLabel(role)
+	sub.SizeName = theme.SizeNameCaptionText
+	if r.Retired {
+		l.Importance = widget.LowImportance
+		sub.Importance = widget.LowImportance
+	}
+	return container.New(stackLayout{}, l, sub)
+}
+
+// rosterButtons are a roster entry's buttons: change the role, retire or
+// bring back.
+func (s *unitScreen) rosterButtons(r logbook.RosterEntry) fyne.CanvasObject {
+	retire := newButton("Retire "+r.ID, func() { r.Retired = true; s.storePerson(r) })
+	if r.Retired {
+		retire = newButton("Bring back "+r.ID, func() { r.Retired = false; s.storePerson(r) })
+	}
+	role := newButton("Make trainee", func() { r.Role = logbook.RoleTrainee; s.storePerson(r) })
+	if r.Role == logbook.RoleTrainee {
+		role = newButton("Make endoscopist", func() { r.Role = logbook.RoleEndoscopist; s.storePerson(r) })
+	}
+	return container.NewVBox(container.NewHBox(role, retire))
+}
+
+// storePerson stores a roster entry off the UI thread.
+func (s *unitScreen) storePerson(r logbook.RosterEntry) {
+	s.message.SetText("Saving the roster…")
+	s.u.jobs.background(func() error { return s.u.st.SaveRosterEntry(s.u.ctx, r) }, func(err error) {
+		if err != nil {
+			s.message.SetText("Roster: " + err.Error())
+			return
+		}
+		s.message.SetText("Roster saved.")
+		s.u.rosterChanged()
+		s.showRoster()
+	})
 }
 
 func (s *unitScreen) addPerson() {
@@ -178,39 +208,38 @@ func (s *unitScreen) save() {
 		return
 	}
 	st.DiscardMinCases = n
-	err = s.u.st.SaveSettings(s.u.ctx, st)
-	var ve *store.ValidationError
-	switch {
-	case errors.As(err, &ve):
-		s.message.SetText(ve.Error())
-		return
-	case err != nil:
-		s.message.SetText("Not saved: " + err.Error())
-		return
-	}
-	s.message.SetText("Settings saved.")
-	s.u.rosterChanged()
+	s.message.SetText("Saving the settings…")
+	s.u.jobs.background(func() error { return s.u.st.SaveSettings(s.u.ctx, st) }, func(err error) {
+		var ve *store.ValidationError
+		switch {
+		case errors.As(err, &ve):
+			s.message.SetText(ve.Error())
+			return
+		case err != nil:
+			s.message.SetText("Not saved: " + err.Error())
+			return
+		}
+		s.message.SetText("Settings saved.")
+		s.u.rosterChanged()
+	})
 }
 
 // backup writes a consistent copy of the database where the person chooses.
 func (s *unitScreen) backup() {
-	d := dialog.NewFileSave(func(w fyne.URIWriteCloser, err error) {
-		if err != nil || w == nil {
-			return
-		}
-		path := w.URI().Path()
-		w.Close()
-		s.backupTo(path)
-	}, s.u.win)
-	d.SetFileName("unit-backup-" + logbook.FormatDate(s.u.today()) + ".db")
-	d.Show()
+	s.u.saveFile("unit-backup-"+logbook.FormatDate(s.u.today())+".db", s.backupTo)
 }
 
+// backupTo writes the backup off the UI thread with a progress window.
 func (s *unitScreen) backupTo(path string) {
 	removeDatabase(path) // the save dialog created an empty file; Backup wants a new name
-	if err := s.u.st.Backup(s.u.ctx, path, false); err != nil {
-		s.message.SetText("Backup failed: " + err.Error())
-		return
-	}
-	s.message.SetText("Backed up to " + path + ".")
+	s.u.jobs.run("Backing up the database", func(ctx context.Context, progress progressFunc) error {
+		progress(-1, "Copying to "+path)
+		return s.u.st.Backup(ctx, path, false)
+	}, func(err error) {
+		if err != nil {
+			s.message.SetText("Backup failed: " + err.Error())
+			return
+		}
+		s.message.SetText("Backed up to " + path + ".")
+	})
 }

@@ -1,6 +1,9 @@
 package app
 
-import "polypledger/logbook"
+import (
+	"polypledger/logbook"
+	"polypledger/report"
+)
 
 // The plain words the screens use for each stored code. The codes stay as
 // the clinical reference spells them in files; people see these.
@@ -42,10 +45,12 @@ var incompleteWords = map[logbook.IncompleteReason]string{
 	logbook.ReasonOther:         "Other reason",
 }
 
+// supervisionWords are the report's own words for the supervision levels,
+// so that screens and reports say the same.
 var supervisionWords = map[logbook.Supervision]string{
-	logbook.Independent:        "On their own",
-	logbook.SupervisedHandsOn:  "Trainer took the scope",
-	logbook.SupervisedObserved: "Trainer watched",
+	logbook.Independent:        report.SupervisionWords(logbook.Independent),
+	logbook.SupervisedHandsOn:  report.SupervisionWords(logbook.SupervisedHandsOn),
+	logbook.SupervisedObserved: report.SupervisionWords(logbook.SupervisedObserved),
 }
 
 var adverseWords = map[logbook.AdverseEvent]string{
@@ -129,4 +134,9 @@ var comfortWords = []string{"1 – comfortable", "2 – minimal discomfort", "3 
 
 // bostonWords describe each Boston Bowel Preparation Scale grade (Lai EJ et
 // al., Gastrointest Endosc 2009;69:620–625).
-var bostonWords = []string{"0 solid stool", "1 part seen", "2 minor residue", "3 all seen"}
+var bostonWords = []string{
+	"0 – solid stool, mucosa not seen",
+	"1 – only part of the mucosa seen",
+	"2 – minor residue, mucosa seen well",
+	"3 – whole mucosa seen well",
+}

@@ -48,8 +48,8 @@ func StaffList() []Staff {
 		e("E06", "Dr Hamish Drummond", 0.24, 7.0, 0.84, 0.9),
 		e("E07", "Dr Yuki Sorensen", 0.20, 6.5, 0.80, 0.8),
 		e("E08", "Dr Bartholomew Quayle", 0.15, 5.5, 0.76, 0.7),
-		t("T01", "Dr Ada Nwachukwu (trainee)"),
-		t("T02", "Dr Leo Marchetti (trainee)"),
+		t("T01", "Dr Ada Nwachukwu"),
+		t("T02", "Dr Leo Marchetti"),
 	}
 }
 

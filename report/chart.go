@@ -304,13 +304,31 @@ type points struct {
 	horizontal bool
 }
 
-// Plot implements plot.Plotter.
+// Plot implements plot.Plotter. Labels are placed beside their point
+// where they overlap no other point or label: right, left, above or below,
+// in that order of preference.
 func (pp *points) Plot(c draw.Canvas, p *plot.Plot) {
 	tx, ty := p.Transforms(&c)
 	whisker := lineStyle(shadeBlack, 0.8, nil)
 	labelStyle := text.Style{Font: chartFont(7.5, false), Handler: plot.DefaultTextHandler, Color: color.Black,
-		XAlign: draw.XLeft, YAlign: draw.YCenter}
+		XAlign: draw.XLeft, YAlign: draw.YBottom}
 	cap := vg.Points(2.5)
+	radius := func(pt chartPoint) vg.Length {
+		if pt.Radius == 0 {
+			return vg.Points(3.2)
+		}
+		return pt.Radius
+	}
+	// Every mark is an obstacle for every label.
+	var taken []vg.Rectangle
+	for _, pt := range pp.pts {
+		at := vg.Point{X: tx(pt.X), Y: ty(pt.Y)}
+		r := radius(pt)
+		if pt.Ring {
+			r *= 2
+		}
+		taken = append(taken, vg.Rectangle{Min: vg.Point{X: at.X - r, Y: at.Y - r}, Max: vg.Point{X: at.X + r, Y: at.Y + r}})
+	}
 	for _, pt := range pp.pts {
 		if !math.IsNaN(pt.Lo) && !math.IsNaN(pt.Hi) {
 			var line, c1, c2 []vg.Point
@@ -328,22 +346,60 @@ func (pp *points) Plot(c draw.Canvas, p *plot.Plot) {
 			c.StrokeLines(whisker, c.ClipLinesXY(line, c1, c2)...)
 		}
 		at := vg.Point{X: tx(pt.X), Y: ty(pt.Y)}
-		r := pt.Radius
-		if r == 0 {
-			r = vg.Points(3.2)
-		}
+		r := radius(pt)
 		c.DrawGlyph(draw.GlyphStyle{Color: pt.Mark.colour.rgba(), Radius: r, Shape: pt.Mark.glyph}, at)
 		if pt.Ring {
 			c.DrawGlyph(draw.GlyphStyle{Color: shadeBlack.rgba(), Radius: r * 2, Shape: thickRing{}}, at)
 		}
-		if pt.Label != "" && c.Contains(at) {
-			ls := labelStyle
-			if pt.Bold {
-				ls.Font = chartFont(8.5, true)
+		if pt.Label == "" || !c.Contains(at) {
+			continue
+		}
+		ls := labelStyle
+		if pt.Bold {
+			ls.Font = chartFont(8.5, true)
+		}
+		box := placeLabel(c.Rectangle, taken, at, r+vg.Points(2), ls.Width(pt.Label), ls.Height(pt.Label))
+		taken = append(taken, box)
+		c.FillText(ls, box.Min, pt.Label)
+	}
+}
+
+// placeLabel returns where a label of size w × h goes beside a mark at
+// at with room gap around it: the first of right, left, above, below,
+// upper right and lower right that stays inside area and overlaps nothing
+// taken, else the right.
+func placeLabel(area vg.Rectangle, taken []vg.Rectangle, at vg.Point, gap, w, h vg.Length) vg.Rectangle {
+	candidates := []vg.Point{
+		{X: at.X + gap, Y: at.Y - h/2},
+		{X: at.X - gap - w, Y: at.Y - h/2},
+		{X: at.X - w/2, Y: at.Y + gap},
+		{X: at.X - w/2, Y: at.Y - gap - h},
+		{X: at.X + gap, Y: at.Y + gap},
+		{X: at.X + gap, Y: at.Y - gap - h},
+	}
+	for _, min := range candidates {
+		box := vg.Rectangle{Min: min, Max: vg.Point{X: min.X + w, Y: min.Y + h}}
+		if box.Min.X < area.Min.X || box.Max.X > area.Max.X || box.Min.Y < area.Min.Y || box.Max.Y > area.Max.Y {
+			continue
+		}
+		free := true
+		for _, t := range taken {
+			if overlaps(box, t) {
+				free = false
+				break
 			}
-			c.FillText(ls, vg.Point{X: at.X + r + vg.Points(3), Y: at.Y}, pt.Label)
+		}
+		if free {
+			return box
 		}
 	}
+	min := candidates[0]
+	return vg.Rectangle{Min: min, Max: vg.Point{X: min.X + w, Y: min.Y + h}}
+}
+
+// overlaps reports whether two rectangles share any area.
+func overlaps(a, b vg.Rectangle) bool {
+	return a.Min.X < b.Max.X && b.Min.X < a.Max.X && a.Min.Y < b.Max.Y && b.Min.Y < a.Max.Y
 }
 
 // refLine is a horizontal (or, with vertical set, vertical) reference line
@@ -390,6 +446,26 @@ func (r refLine) Plot(c draw.Canvas, p *plot.Plot) {
 	}
 }
 
+// countTicks are axis ticks for counts: whole numbers with thousands
+// separated, never "250.00".
+type countTicks struct{}
+
+// Ticks implements plot.Ticker.
+func (countTicks) Ticks(lo, hi float64) []plot.Tick {
+	ticks := plot.DefaultTicks{}.Ticks(lo, hi)
+	out := ticks[:0]
+	for _, t := range ticks {
+		if t.Value != math.Trunc(t.Value) {
+			continue
+		}
+		if t.Label != "" {
+			t.Label = groupThousands(int64(t.Value))
+		}
+		out = append(out, t)
+	}
+	return out
+}
+
 // curve is a polyline clipped to the data area.
 type curve struct {
 	pts plotter.XYs
@@ -428,6 +504,21 @@ func axisScale(ind Indicator) (factor float64, unit string) {
 		return float64(ind.Scale), fmt.Sprintf("per %d", ind.Scale)
 	}
 	return 100, "%"
+}
+
+// axisUnit is a short axis label naming only the unit of an indicator's
+// values ("per cent", "minutes"), for a vertical axis whose chart title
+// already names the indicator: a long rotated label would squeeze the
+// data area of a short chart.
+func axisUnit(ind Indicator) string {
+	_, unit := axisScale(ind)
+	switch unit {
+	case "%":
+		return "per cent"
+	case "":
+		return "value"
+	}
+	return unit
 }
 
 // axisTitle is an indicator's axis label with its unit.

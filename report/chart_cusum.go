@@ -42,6 +42,15 @@ func CUSUMChart(c CUSUMResult, opt ChartOptions) ([]byte, error) {
 	h1Sty := lineStyle(shadeVermilion, 1.3, dashed())
 	h0Sty := lineStyle(shadeBlue, 1.3, dotted())
 	zero := lineStyle(shadeGrey, 0.8, nil)
+	// A curve that starts before the period marks where the period begins.
+	for i, pt := range c.Points {
+		if pt.InPeriod {
+			if i > 0 {
+				p.Add(refLine{at: float64(i) + 0.5, vertical: true, sty: lineStyle(shadeGrey, 1, dashed()), label: "period starts"})
+			}
+			break
+		}
+	}
 	p.Add(refLine{at: 0, sty: zero},
 		refLine{at: c.H1, sty: h1Sty, label: fmt.Sprintf("+h1 = %.2f", c.H1)},
 		refLine{at: -c.H0, sty: h0Sty, label: fmt.Sprintf("−h0 = −%.2f", c.H0)},

@@ -88,25 +88,28 @@ func FunnelChart(f FunnelData, opt ChartOptions) ([]byte, error) {
 	}
 	p.Y.Min, p.Y.Max = ys.padded(10, 0, 100)
 	p.X.Min, p.X.Max = 0, xMax
+	p.X.Tick.Marker = countTicks{}
 
 	limit95 := lineStyle(shadeBlue, 1, dashed())
 	limit998 := lineStyle(shadeBlack, 1, dotted())
 	pooled := lineStyle(shadeBlack, 1.2, nil)
 	target := lineStyle(shadeOrange, 1.4, dashDot())
-	p.Add(curve{lo998, limit998}, curve{hi998, limit998}, curve{lo95, limit95}, curve{hi95, limit95},
-		refLine{at: 100 * fn.Target, sty: pooled, label: fmt.Sprintf("unit %.1f%%", 100*fn.Target)})
+	// The two lines are named with their values in the legend, not on the
+	// chart, where the points and each other's labels would crowd them.
+	p.Add(curve{lo998, limit998}, curve{hi998, limit998}, curve{lo95, limit95}, curve{hi95, limit95})
 	if f.Target != nil {
-		p.Add(refLine{at: 100 * *f.Target, sty: target, below: true, label: fmt.Sprintf("target %.1f%%", 100**f.Target)})
+		p.Add(refLine{at: 100 * *f.Target, sty: target})
 	}
+	p.Add(refLine{at: 100 * fn.Target, sty: pooled})
 	p.Add(&points{pts: pts})
 
 	legend := []legendItem{
-		lineItem("unit's pooled rate", pooled),
+		lineItem(fmt.Sprintf("unit's pooled rate %.1f%%", 100*fn.Target), pooled),
 		lineItem("95% control limits", limit95),
 		lineItem("99.8% control limits", limit998),
 	}
 	if f.Target != nil {
-		legend = append(legend, lineItem("standard's target", target))
+		legend = append(legend, lineItem(fmt.Sprintf("standard's target %.1f%%", 100**f.Target), target))
 	}
 	legend = append(legend,
 		markItem(funnelMark(SideWithin), ""), markItem(funnelMark(SideAbove), ""), markItem(funnelMark(SideBelow), ""),

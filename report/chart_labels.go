@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"math"
 	"strings"
 )
 
@@ -91,10 +92,12 @@ func doseUnit(id string) string {
 
 // FormatValue prints an indicator's value as the reports do: rates as
 // percentages to one decimal, per-1000 and per-100 figures as such, means in
-// minutes, sedation medians with their unit, and "–" when there are no
-// cases.
+// minutes, sedation medians with their unit, counts with thousands
+// separated, and "–" when there are no cases. A value so close to its
+// target that one decimal would hide which side it lies on gets the
+// decimals that show it ("94.97%" against "≥ 95.0%").
 func FormatValue(ind Indicator) string {
-	s := valueText(ind, ind.Value)
+	s := numberText(ind, ind.Value, verdictDigits(ind))
 	if u := doseUnit(ind.ID); u != "" && ind.Value != nil {
 		s += " " + u
 	}
@@ -105,8 +108,9 @@ func FormatValue(ind Indicator) string {
 // or "" when there is none.
 func FormatInterval(ind Indicator) string { return intervalText(ind) }
 
-// FormatTarget prints the target ("≥ 35.0%", "≤ 1.0 per 1000", with any
-// aspirational aim), or "" when the profile sets none.
+// FormatTarget prints the target ("≥ 35.0%", "< 10.0%" for a strict
+// maximum, with any aspirational aim and a dose unit), or "" when the
+// profile sets none.
 func FormatTarget(ind Indicator) string {
 	s := targetText(ind)
 	if u := doseUnit(ind.ID); u != "" && s != "" {
@@ -116,15 +120,72 @@ func FormatTarget(ind Indicator) string {
 }
 
 // FormatCases prints the count behind a figure: "k/n" for proportions and n
-// otherwise.
+// otherwise, thousands separated.
 func FormatCases(ind Indicator) string { return casesText(ind) }
+
+// countNouns names what an indicator's denominator counts where it is not
+// procedures.
+var countNouns = map[string]string{
+	"retrieval": "polypectomies", "tattoo_large": "lesions", "cold_snare_small": "polypectomies",
+	"bleeding": "procedures with a polypectomy", "pivi2_npv": "lesions", "pivi2_npv_neoplasia": "lesions",
+	"high_confidence_rate": "diminutive polyps", "optical_aid_kappa": "lesions",
+	"esge2022_sensitivity": "lesions", "esge2022_specificity": "lesions",
+}
+
+// CountNoun names what an indicator counts in its denominator:
+// "procedures" for most, "lesions" for the optical-diagnosis figures,
+// "polypectomies" for retrieval.
+func CountNoun(id string) string {
+	if n, ok := countNouns[id]; ok {
+		return n
+	}
+	if strings.HasPrefix(id, "optical_") || strings.HasPrefix(id, "aid_") {
+		return "lesions"
+	}
+	return "procedures"
+}
+
+// FormatCount prints the count behind a figure in words, naming what is
+// counted: "208 of 668 procedures", "332 adenomas in 668 procedures",
+// "245 procedures", "1,000 procedures in 365 days".
+func FormatCount(ind Indicator) string {
+	k := groupThousands(int64(math.Round(ind.Numerator)))
+	n := groupThousands(int64(ind.Denominator))
+	noun := CountNoun(ind.ID)
+	switch ind.Kind {
+	case "", "proportion":
+		return k + " of " + n + " " + noun
+	case KindPerYear:
+		return k + " procedures in " + n + " days"
+	case KindRatio:
+		return k + " adenomas in " + n + " " + noun
+	case KindDifference:
+		return "over " + n + " " + noun
+	}
+	return n + " " + noun
+}
 
 // FormatVerdict prints the verdict in words; a figure whose histology is
 // still awaited says how many cases wait.
 func FormatVerdict(ind Indicator) string {
 	w := ind.Status.Words()
 	if ind.AwaitingHistology > 0 {
-		w += fmt.Sprintf("; %d awaiting histology", ind.AwaitingHistology)
+		w += fmt.Sprintf("; %s awaiting histology", groupThousands(int64(ind.AwaitingHistology)))
 	}
 	return w
+}
+
+// VerdictShape is the shape printed before a verdict so that it reads
+// without colour: ● meets, ▼ below, ○ too few cases to judge, ■ reported
+// without a target.
+func VerdictShape(s Status) string {
+	switch s {
+	case Meets:
+		return "●"
+	case Below:
+		return "▼"
+	case TooFew:
+		return "○"
+	}
+	return "■"
 }

@@ -109,8 +109,9 @@ func chartFixtures() map[string]func(ChartOptions) ([]byte, error) {
 		},
 		"trend": func(o ChartOptions) ([]byte, error) {
 			return TrendChart(TrendData{IndicatorID: "adr", Name: "E01", Points: []TrendPoint{
-				{"2026-Q1", ind("adr", 10, 40, 0.35)}, {"2026-Q2", ind("adr", 20, 45, 0.35)}, {"2026-Q3", ind("adr", 5, 12, 0.35)},
-			}, ComparisonName: "unit", Comparison: []TrendPoint{{"2026-Q1", ind("adr", 80, 300, 0.35)}}}, o)
+				{Label: "2026-Q1", Indicator: ind("adr", 10, 40, 0.35)}, {Label: "2026-Q2", Indicator: ind("adr", 20, 45, 0.35)},
+				{Label: "2026-Q3", Indicator: ind("adr", 5, 12, 0.35), Provisional: "provisional: the period is not over yet"},
+			}, ComparisonName: "unit", Comparison: []TrendPoint{{Label: "2026-Q1", Indicator: ind("adr", 80, 300, 0.35)}}}, o)
 		},
 		"cusum":   func(o ChartOptions) ([]byte, error) { return CUSUMChart(tr.CUSUM, o) },
 		"trainee": func(o ChartOptions) ([]byte, error) { return TraineeCasesChart(tr.Months, o) },

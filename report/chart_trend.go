@@ -3,6 +3,8 @@ package report
 import (
 	"math"
 
+	"polypledger/logbook"
+
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
@@ -10,10 +12,14 @@ import (
 )
 
 // TrendPoint is one period of a trend: its label (such as "2026-Q1") and
-// the indicator over that period.
+// the indicator over that period. Provisional, when set, says why the
+// point may still change (ProvisionalNote): it is drawn as an open grey
+// mark rather than with its verdict, so that a quarter not yet over or
+// still waiting for histology does not read as a fall.
 type TrendPoint struct {
-	Label     string
-	Indicator Indicator
+	Label       string
+	Indicator   Indicator
+	Provisional string
 }
 
 // TrendData is what TrendChart draws: one indicator over consecutive
@@ -44,12 +50,13 @@ func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 		sample = t.Points[0].Indicator
 	}
 	factor, _ := axisScale(sample)
-	p := newPlot(opt.title(IndicatorTitle(t.IndicatorID)+" by quarter"), "Period", axisTitle(t.IndicatorID, sample))
+	p := newPlot(opt.title(IndicatorTitle(t.IndicatorID)+" by quarter"), "Quarter", axisUnit(sample))
 	labels := make([]string, len(t.Points))
 	ys := newSpan()
 	var pts []chartPoint
 	var line plotter.XYs
 	seen := map[Status]bool{}
+	provisional := false
 	var target *float64
 	for i, tp := range t.Points {
 		labels[i] = tp.Label
@@ -62,7 +69,12 @@ func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 			continue
 		}
 		m := verdictMark(ind.Status)
-		seen[ind.Status] = true
+		if tp.Provisional != "" {
+			m = provisionalMark()
+			provisional = true
+		} else {
+			seen[ind.Status] = true
+		}
 		lo, hi := valueOr(ind.CILow, factor), valueOr(ind.CIHigh, factor)
 		pts = append(pts, chartPoint{X: float64(i), Y: v, Lo: lo, Hi: hi, Mark: m})
 		line = append(line, plotter.XY{X: float64(i), Y: v})
@@ -120,7 +132,31 @@ func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 			legend = append(legend, markItem(verdictMark(s), ""))
 		}
 	}
+	if provisional {
+		legend = append(legend, markItem(provisionalMark(), ""))
+	}
 	return render(p, legend, opt)
+}
+
+// provisionalMark is the mark of a point whose figure may still change.
+func provisionalMark() mark {
+	return mark{openDiamond{}, shadeGrey, "provisional: not over, or histology awaited"}
+}
+
+// openDiamond is an open diamond, the mark of a provisional figure.
+type openDiamond struct{}
+
+// DrawGlyph implements draw.GlyphDrawer.
+func (openDiamond) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	r := sty.Radius * 1.3
+	c.SetLineStyle(draw.LineStyle{Color: sty.Color, Width: vg.Points(1.2)})
+	var p vg.Path
+	p.Move(vg.Point{X: pt.X, Y: pt.Y + r})
+	p.Line(vg.Point{X: pt.X + r, Y: pt.Y})
+	p.Line(vg.Point{X: pt.X, Y: pt.Y - r})
+	p.Line(vg.Point{X: pt.X - r, Y: pt.Y})
+	p.Close()
+	c.Stroke(p)
 }
 
 // comboThumb is a line sample with a mark on it, for the legend.
@@ -150,9 +186,9 @@ func TraineeCasesChart(months []MonthCount, opt ChartOptions) ([]byte, error) {
 	}
 	all := []series{
 		{"all cases", func(m MonthCount) int { return m.Total }, lineStyle(shadeBlack, 1.4, nil), draw.CircleGlyph{}, shadeBlack},
-		{"independent", func(m MonthCount) int { return m.Independent }, lineStyle(shadeBlue, 1.1, dashed()), draw.BoxGlyph{}, shadeBlue},
-		{"supervised, hands on", func(m MonthCount) int { return m.SupervisedHandsOn }, lineStyle(shadeVermilion, 1.1, dotted()), upTriangle{}, shadeVermilion},
-		{"supervised, observed", func(m MonthCount) int { return m.SupervisedObserved }, lineStyle(shadeGreen, 1.1, dashDot()), downTriangle{}, shadeGreen},
+		{SupervisionWords(logbook.Independent), func(m MonthCount) int { return m.Independent }, lineStyle(shadeBlue, 1.1, dashed()), draw.BoxGlyph{}, shadeBlue},
+		{SupervisionWords(logbook.SupervisedHandsOn), func(m MonthCount) int { return m.SupervisedHandsOn }, lineStyle(shadeVermilion, 1.1, dotted()), upTriangle{}, shadeVermilion},
+		{SupervisionWords(logbook.SupervisedObserved), func(m MonthCount) int { return m.SupervisedObserved }, lineStyle(shadeGreen, 1.1, dashDot()), downTriangle{}, shadeGreen},
 		{"supervision not recorded", func(m MonthCount) int { return m.Unrecorded }, lineStyle(shadeGrey, 1, dashed()), thickRing{}, shadeGrey},
 	}
 	ys := newSpan()

@@ -5,10 +5,13 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"slices"
 	"strings"
 	"time"
 
 	"github.com/jung-kurt/gofpdf"
+
+	"polypledger/logbook"
 )
 
 // ReportKind is which PDF report is written.
@@ -134,6 +137,10 @@ type doc struct {
 	contentsPage int
 	// compact tightens tables so that the unit summary fits one page.
 	compact bool
+	// today is the civil date the report is made on; unfinished is true
+	// when the period asked for is not over on it.
+	today      time.Time
+	unfinished bool
 }
 
 type section struct{ title, alias string }
@@ -149,6 +156,10 @@ func newDoc(in ReportInput) *doc {
 	pdf.SetModificationDate(in.GeneratedOn)
 	pdf.SetCreator("polypledger", true)
 	d := &doc{pdf: pdf, in: in}
+	if !in.GeneratedOn.IsZero() {
+		d.today = logbook.Today(in.GeneratedOn)
+		d.unfinished = PeriodUnfinished(in.To, d.today)
+	}
 	switch in.Kind {
 	case UnitReport:
 		d.title = "Colonoscopy quality audit"
@@ -301,15 +312,66 @@ type column struct {
 	align string // "L", "R" or "C"
 }
 
-// table prints a table with a bold header, wrapped onto several lines when
-// a title is wider than its column and repeated on each new page, and light
-// banding. A row whose first cell starts with "§" is a group heading
-// spanning the table. Cells are trimmed with an ellipsis to their column.
-func (d *doc) table(cols []column, rows [][]string) {
-	rh, fs := rowH, 7.5
-	if d.compact {
-		rh, fs = 3.72, 7
+// Table row markers: a row whose first cell starts with groupMark is a
+// group heading spanning the table; one whose first cell starts with
+// rowNoteMark is a note in small type spanning the table under the row above.
+const (
+	groupMark   = "§"
+	rowNoteMark = "¶"
+)
+
+// fitColumns widens any column whose title holds a word wider than the
+// column, taking the room from the widest left-aligned column, so that a
+// header never breaks inside a word.
+func (d *doc) fitColumns(cols []column, fs float64) []column {
+	out := slices.Clone(cols)
+	d.pdf.SetFont("go", "B", fs)
+	need := make([]float64, len(out))
+	deficit := 0.0
+	// SplitText leaves a cell margin on both sides of the room it is given.
+	pad := cellPad + 2*d.pdf.GetCellMargin() + 0.2
+	for i, c := range out {
+		for _, w := range strings.Fields(c.title) {
+			need[i] = max(need[i], d.pdf.GetStringWidth(w)+pad)
+		}
+		if need[i] > c.width {
+			deficit += need[i] - c.width
+		}
 	}
+	if deficit == 0 {
+		return out
+	}
+	donor := -1
+	for i, c := range out {
+		if c.align == "L" && c.width-deficit >= need[i] && (donor < 0 || c.width > out[donor].width) {
+			donor = i
+		}
+	}
+	if donor < 0 {
+		return out
+	}
+	for i := range out {
+		if need[i] > out[i].width {
+			out[i].width = need[i]
+		}
+	}
+	out[donor].width -= deficit
+	return out
+}
+
+// cellPad is the room left between a cell's text and its neighbour.
+const cellPad = 1.5
+
+// table prints a table with a bold header (repeated on each new page) and
+// light banding. Cells wrap onto as many lines as they need, so nothing is
+// cut short; group headings and notes span the table (groupMark,
+// rowNoteMark).
+func (d *doc) table(cols []column, rows [][]string) {
+	lh, fs := rowH, 7.5
+	if d.compact {
+		lh, fs = 3.72, 7
+	}
+	cols = d.fitColumns(cols, fs)
 	total := 0.0
 	for _, c := range cols {
 		total += c.width
@@ -319,48 +381,89 @@ func (d *doc) table(cols []column, rows [][]string) {
 		split := make([][]string, len(cols))
 		lines := 1
 		for i, c := range cols {
-			split[i] = d.pdf.SplitText(c.title, c.width-1.5)
+			split[i] = d.pdf.SplitText(c.title, c.width-cellPad)
 			lines = max(lines, len(split[i]))
 		}
-		const lh = 3.2
-		h := float64(lines)*lh + 1.4
+		const hl = 3.2
+		h := float64(lines)*hl + 1.4
 		y0 := d.pdf.GetY()
 		d.pdf.SetFillColor(225, 225, 225)
 		d.pdf.Rect(marginL, y0, total, h, "F")
 		x := marginL
 		for i, c := range cols {
 			for j, l := range split[i] {
-				d.pdf.SetXY(x, y0+0.7+float64(j)*lh)
-				d.pdf.CellFormat(c.width, lh, l, "", 0, c.align, false, 0, "")
+				d.pdf.SetXY(x, y0+0.7+float64(j)*hl)
+				d.pdf.CellFormat(c.width, hl, l, "", 0, c.align, false, 0, "")
 			}
 			x += c.width
 		}
 		d.pdf.SetXY(marginL, y0+h)
 	}
-	d.space(2*rh + 8)
+	d.space(2*lh + 8)
 	header()
-	for i, row := range rows {
-		if d.pdf.GetY()+rh > contentBotto {
+	band := 0
+	for _, row := range rows {
+		first := ""
+		if len(row) > 0 {
+			first = row[0]
+		}
+		switch {
+		case strings.HasPrefix(first, groupMark):
+			d.pdf.SetFont("go", "B", fs)
+			if d.pdf.GetY()+2*lh > contentBotto {
+				d.pdf.AddPage()
+				header()
+			}
+			d.pdf.SetX(marginL)
+			d.pdf.CellFormat(total, lh, strings.TrimPrefix(first, groupMark), "B", 1, "L", false, 0, "")
+			band = 0
+			continue
+		case strings.HasPrefix(first, rowNoteMark):
+			d.pdf.SetFont("go", "", fs-1)
+			lines := d.pdf.SplitText(strings.TrimPrefix(first, rowNoteMark), total-6)
+			nh := float64(len(lines)) * (lh - 0.6)
+			if d.pdf.GetY()+nh > contentBotto {
+				d.pdf.AddPage()
+				header()
+			}
+			d.pdf.SetTextColor(70, 70, 70)
+			for _, l := range lines {
+				d.pdf.SetX(marginL + 6)
+				d.pdf.CellFormat(total-6, lh-0.6, l, "", 1, "L", band%2 == 0, 0, "")
+			}
+			d.pdf.SetTextColor(0, 0, 0)
+			continue
+		}
+		band++
+		d.pdf.SetFont("go", "", fs)
+		split := make([][]string, len(cols))
+		lines := 1
+		for j, c := range cols {
+			if j < len(row) && row[j] != "" {
+				split[j] = d.pdf.SplitText(row[j], c.width-cellPad)
+				lines = max(lines, len(split[j]))
+			}
+		}
+		h := float64(lines) * lh
+		if d.pdf.GetY()+h > contentBotto {
 			d.pdf.AddPage()
 			header()
 		}
-		d.pdf.SetX(marginL)
-		if len(row) > 0 && strings.HasPrefix(row[0], "§") {
-			d.pdf.SetFont("go", "B", fs)
-			d.pdf.CellFormat(total, rh, strings.TrimPrefix(row[0], "§"), "B", 1, "L", false, 0, "")
-			continue
+		y0 := d.pdf.GetY()
+		fill := band%2 == 0
+		if fill {
+			d.pdf.SetFillColor(246, 246, 246)
+			d.pdf.Rect(marginL, y0, total, h, "F")
 		}
-		d.pdf.SetFont("go", "", fs)
-		fill := i%2 == 1
-		d.pdf.SetFillColor(246, 246, 246)
+		x := marginL
 		for j, c := range cols {
-			s := ""
-			if j < len(row) {
-				s = row[j]
+			for k, l := range split[j] {
+				d.pdf.SetXY(x, y0+float64(k)*lh)
+				d.pdf.CellFormat(c.width, lh, l, "", 0, c.align, false, 0, "")
 			}
-			d.pdf.CellFormat(c.width, rh, d.fit(s, c.width-1.5), "", 0, c.align, fill, 0, "")
+			x += c.width
 		}
-		d.pdf.Ln(-1)
+		d.pdf.SetXY(marginL, y0+h)
 	}
 	d.pdf.Ln(1.5)
 }
@@ -401,46 +504,97 @@ func (d *doc) keyValues(rows [][2]string, labelW float64) {
 	d.pdf.Ln(1.5)
 }
 
-// verdictCell prints a verdict with a shape before the words, so that it
-// reads without colour: ● meets, ▼ below, ○ too few, ■ reported.
-func verdictCell(s Status) string {
-	switch s {
-	case Meets:
-		return "● " + s.Words()
-	case Below:
-		return "▼ " + s.Words()
-	case TooFew:
-		return "○ " + s.Words()
+// verdictText prints a verdict with a shape before the words, so that it
+// reads without colour (● meets, ▼ below, ○ too few, ■ reported), and says
+// "provisional" when it may still change (ProvisionalNote).
+func (d *doc) verdictText(ind Indicator) string {
+	s := VerdictShape(ind.Status) + " " + ind.Status.Words()
+	if (ind.Status == Meets || ind.Status == Below) && d.provisional(ind) != "" {
+		s += " (provisional)"
 	}
-	return "■ " + Reported.Words()
+	return s
 }
 
-// shortVerdict is a verdict mark and value for dense tables.
-func shortVerdict(ind Indicator) string {
+// provisional returns why an indicator's verdict may still change in this
+// report's period, or "".
+func (d *doc) provisional(ind Indicator) string { return ProvisionalNote(ind, d.unfinished) }
+
+// shortVerdict is a value and verdict shape for dense tables; a figure that
+// may still change gets "◊" (provisional) instead of its shape.
+func (d *doc) shortVerdict(ind Indicator) string {
 	if ind.Value == nil {
 		return "–"
 	}
 	v := notedValue(ind)
-	switch ind.Status {
-	case Meets:
-		return v + " ●"
-	case Below:
-		return v + " ▼"
-	case TooFew:
-		return v + " ○"
+	switch {
+	case d.provisional(ind) != "":
+		return v + " ◊"
+	case ind.Status == Reported:
+		return v
 	}
-	return v
+	return v + " " + VerdictShape(ind.Status)
+}
+
+// noteRow returns the note row printed under an indicator's row: cases
+// still awaiting histology and a count too small to rely on; nil when it
+// has none. The indicator's own Note is marked on its value (notedValue)
+// and printed under the table (indicatorNotes). A period not yet over is said
+// once above each table (periodNote), not on every row.
+func (d *doc) noteRow(ind Indicator) []string {
+	var parts []string
+	if h := HistologyAwaitedNote(ind); h != "" {
+		parts = append(parts, "provisional: "+h)
+	}
+	if few := fewCasesNote(ind, d.in.Profile.MinCases); few != "" {
+		parts = append(parts, few)
+	}
+	if len(parts) == 0 {
+		return nil
+	}
+	return []string{rowNoteMark + strings.Join(parts, "; ") + "."}
+}
+
+// fewCasesNote flags a figure reported without a target on fewer cases
+// than the profile's minimum: it is shown, but it is too small to rely on.
+func fewCasesNote(ind Indicator, minCases int) string {
+	if ind.Status != Reported || ind.Kind == KindPerYear || ind.Denominator == 0 || ind.Denominator >= minCases {
+		return ""
+	}
+	return fmt.Sprintf("only %s %s: too few to rely on (the standard judges from %d)",
+		groupThousands(int64(ind.Denominator)), CountNoun(ind.ID), minCases)
+}
+
+// periodNote says, above an indicator table, that the period is not over
+// and its verdicts are provisional.
+func (d *doc) periodNote() {
+	if d.unfinished {
+		d.boxed(fmt.Sprintf("The period ends on %s, after the day this report was made (%s): cases are still being added, "+
+			"so every figure may change and every verdict is provisional.", formatDay(d.in.To), formatDay(d.today)))
+	}
+}
+
+// withNotes returns rows for inds, each followed by its note row when it
+// has one.
+func (d *doc) withNotes(inds []Indicator, row func(Indicator) []string) [][]string {
+	var out [][]string
+	for _, ind := range inds {
+		out = append(out, row(ind))
+		if n := d.noteRow(ind); n != nil {
+			out = append(out, n)
+		}
+	}
+	return out
 }
 
 // indicatorRow is the standard row of an indicator table.
-func indicatorRow(ind Indicator) []string {
-	return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)}
+func (d *doc) indicatorRow(ind Indicator) []string {
+	return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), d.verdictText(ind)}
 }
 
 // indicatorColumns are the columns of indicatorRow.
 func indicatorColumns() []column {
 	return []column{
-		{"Indicator", 62, "L"}, {"Cases", 25, "R"}, {"Value", 20, "R"}, {"95% interval", 27, "R"},
-		{"Target", 19, "R"}, {"Verdict", 27, "L"},
+		{"Indicator", 57, "L"}, {"Cases", 22, "R"}, {"Value", 19, "R"}, {"95% interval", 25, "R"},
+		{"Target", 30, "R"}, {"Verdict", 27, "L"},
 	}
 }

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"strings"
 	"time"
 
 	"polypledger/logbook"
@@ -26,11 +27,12 @@ type ReportPassOptions struct {
 // completeness counts. Add each case once, then call Result. A ReportPass
 // is not safe for concurrent use.
 type ReportPass struct {
-	metrics  *Metrics
-	trends   *Trends
-	trainees *TraineeProgress
-	complete Completeness
-	opt      ReportPassOptions
+	metrics    *Metrics
+	trends     *Trends
+	trainees   *TraineeProgress
+	complete   Completeness
+	byOperator map[string]*Completeness
+	opt        ReportPassOptions
 }
 
 // NewReportPass starts a report pass under profile p; it fails when the
@@ -47,23 +49,35 @@ func NewReportPass(p *Profile, o ReportPassOptions) (*ReportPass, error) {
 	withExtra := period
 	withExtra.Extra = o.Extra
 	return &ReportPass{
-		metrics:  NewMetrics(p, withExtra),
-		trends:   NewTrends(p, period),
-		trainees: tp,
-		opt:      o,
+		metrics:    NewMetrics(p, withExtra),
+		trends:     NewTrends(p, period),
+		trainees:   tp,
+		byOperator: map[string]*Completeness{},
+		opt:        o,
 	}, nil
 }
 
-// Add counts one case in every accumulator; cases outside the period are
-// ignored. The case is not retained.
+// Add counts one case in every accumulator. A case before the period
+// counts only in the trainees' learning curves, which run from a trainee's
+// first case (feed such cases for the trainees whose progress is shown);
+// any other case outside the period is ignored. The case is not retained.
 func (r *ReportPass) Add(c *logbook.Case) {
 	if !(&MetricsOptions{From: r.opt.From, To: r.opt.To}).includes(c.PerformedOn) {
+		if !r.opt.From.IsZero() && c.PerformedOn.Before(r.opt.From) {
+			r.trainees.Add(c)
+		}
 		return
 	}
 	r.metrics.Add(c)
 	r.trends.Add(c)
 	r.trainees.Add(c)
 	r.complete.add(c)
+	oc := r.byOperator[c.OperatorID]
+	if oc == nil {
+		oc = &Completeness{}
+		r.byOperator[strings.Clone(c.OperatorID)] = oc
+	}
+	oc.add(c)
 }
 
 // PopulationDetail is what the report shows of one population beyond its
@@ -86,6 +100,9 @@ type ReportData struct {
 	// Details holds the unit first, then each operator in Metrics order.
 	Details      []PopulationDetail
 	Completeness Completeness
+	// OperatorCompleteness is the completeness of each operator's own
+	// records, by operator id.
+	OperatorCompleteness map[string]Completeness
 }
 
 // Detail returns the detail of an operator ("" for the unit).
@@ -105,6 +122,11 @@ func (r *ReportPass) Result() ReportData {
 		Trends:       r.trends.Result(),
 		Trainees:     r.trainees.Result(),
 		Completeness: r.complete,
+
+		OperatorCompleteness: make(map[string]Completeness, len(r.byOperator)),
+	}
+	for id, c := range r.byOperator {
+		d.OperatorCompleteness[id] = *c
 	}
 	detail := func(id string, accs []Accumulator) PopulationDetail {
 		pd := PopulationDetail{OperatorID: id}

@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"slices"
 	"strconv"
+
+	"polypledger/logbook"
 )
 
 // anonymise returns a copy of a personal report's input in which the
@@ -84,6 +86,10 @@ func anonymise(in ReportInput) ReportInput {
 		}
 	}
 	d.Completeness = src.Completeness
+	d.OperatorCompleteness = map[string]Completeness{}
+	if c, ok := src.OperatorCompleteness[subject]; ok {
+		d.OperatorCompleteness[subject] = c
+	}
 	in.Data = d
 	names := in.Names
 	in.Names = map[string]string{}
@@ -128,24 +134,18 @@ func (d *doc) personalReport() {
 		"○ too few cases to judge, ■ reported without a target. Other endoscopists appear in this report only as " +
 		"anonymous peers.")
 	unit := d.in.Data.Metrics.Unit.Indicators
-	cols := []column{{"Indicator", 55, "L"}, {"Cases", 23, "R"}, {"Value", 19, "R"}, {"95% interval", 26, "R"},
-		{"Unit", 19, "R"}, {"Target", 16, "R"}, {"Verdict", 22, "L"}}
+	cols := []column{{"Indicator", 48, "L"}, {"Cases", 22, "R"}, {"Value", 18, "R"}, {"95% interval", 26, "R"},
+		{"Unit", 17, "R"}, {"Target", 17, "R"}, {"Verdict", 32, "L"}}
+	d.periodNote()
 	d.compact = true
-	d.table(cols, groupedRows(me.Indicators, func(ind Indicator) []string {
+	d.table(cols, d.groupedRows(me.Indicators, func(ind Indicator) []string {
 		u, _ := Find(unit, ind.ID)
-		v := verdictCell(ind.Status)
-		switch ind.Status {
-		case Reported:
-			v = "■ reported"
-		case TooFew:
-			v = "○ too few to judge"
-		}
-		return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v}
+		return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), d.verdictText(ind)}
 	}))
 	d.indicatorNotes(me.Indicators)
 	d.compact = false
 	d.newPage("Your trends by quarter", true)
-	for _, id := range []string{"adr", "cir", "withdrawal_negative"} {
+	for _, id := range trendIDs() {
 		d.trend(me.OperatorID, "you ("+me.OperatorID+")", id, 72)
 	}
 	d.funnels(me.OperatorID)
@@ -154,43 +154,64 @@ func (d *doc) personalReport() {
 	d.adherence()
 }
 
+// trainee returns the subject's progress, nil when they held the scope for
+// no case in the period.
+func (d *doc) trainee() *TraineeResult {
+	for i := range d.in.Data.Trainees {
+		if d.in.Data.Trainees[i].TraineeID == d.in.SubjectID {
+			return &d.in.Data.Trainees[i]
+		}
+	}
+	return nil
+}
+
 // traineeReport lays out a trainee's logbook.
 func (d *doc) traineeReport() {
 	d.cover()
-	var tr *TraineeResult
-	for i := range d.in.Data.Trainees {
-		if d.in.Data.Trainees[i].TraineeID == d.in.SubjectID {
-			tr = &d.in.Data.Trainees[i]
-		}
-	}
+	tr := d.trainee()
 	if tr == nil {
 		d.noProcedures("performed by this trainee")
 		return
 	}
 	d.newPage("Cases by supervision level", true)
-	var rows [][]string
-	for _, m := range tr.Months {
-		rows = append(rows, []string{m.Month, strconv.Itoa(m.Independent), strconv.Itoa(m.SupervisedHandsOn),
-			strconv.Itoa(m.SupervisedObserved), strconv.Itoa(m.Unrecorded), strconv.Itoa(m.Total), strconv.Itoa(m.Cumulative)})
+	periodStart := d.in.From.Format("2006-01")
+	if tr.CasesBefore > 0 {
+		d.note(fmt.Sprintf("From the trainee's first case, so that the running total counts every case: %s cases before the period "+
+			"and %s in it.", groupThousands(int64(tr.CasesBefore)), groupThousands(int64(tr.CasesInPeriod))))
 	}
-	d.table([]column{{"Month", 30, "L"}, {"Independent", 25, "R"}, {"Supervised, hands on", 32, "R"},
-		{"Supervised, observed", 32, "R"}, {"Not recorded", 21, "R"}, {"Total", 18, "R"}, {"Cumulative", 22, "R"}}, rows)
+	var rows [][]string
+	group := ""
+	for _, m := range tr.Months {
+		g := "In the period"
+		if !d.in.From.IsZero() && m.Month < periodStart {
+			g = "Before the period"
+		}
+		if g != group && tr.CasesBefore > 0 {
+			rows = append(rows, []string{groupMark + g})
+			group = g
+		}
+		rows = append(rows, []string{m.Month, strconv.Itoa(m.Independent), strconv.Itoa(m.SupervisedHandsOn),
+			strconv.Itoa(m.SupervisedObserved), strconv.Itoa(m.Unrecorded), strconv.Itoa(m.Total), groupThousands(int64(m.Cumulative))})
+	}
+	d.table([]column{{"Month", 30, "L"}, {SupervisionWords(logbook.Independent), 25, "R"}, {SupervisionWords(logbook.SupervisedHandsOn), 28, "R"},
+		{SupervisionWords(logbook.SupervisedObserved), 28, "R"}, {SupervisionWords(""), 25, "R"}, {"Total", 20, "R"}, {"Running total", 24, "R"}}, rows)
 	d.chart(80, func(o ChartOptions) ([]byte, error) { return TraineeCasesChart(tr.Months, o) }, ChartOptions{})
 
 	d.newPage("Learning curve: unassisted caecal intubation (CUSUM)", true)
 	c := tr.CUSUM
 	d.note("Each case where the trainee reached the caecum without the trainer taking over subtracts s; each case where " +
-		"they did not adds 1 − s. Cases without the outcome recorded are left out. " + c.Note)
+		"they did not adds 1 − s. Cases without the outcome recorded are left out. The curve starts at the trainee's first " +
+		"case, before the period where there are earlier cases, and case numbers count from there. " + c.Note)
 	if len(c.Points) == 0 {
-		d.para("No case in this period records whether the trainee reached the caecum unassisted, so no learning curve can be drawn.")
+		d.para("No case up to the end of this period records whether the trainee reached the caecum unassisted, so no learning curve can be drawn.")
 	} else {
 		d.chart(95, func(o ChartOptions) ([]byte, error) { return CUSUMChart(c, o) }, ChartOptions{})
 	}
 	at := func(n int) string {
 		if n == 0 {
-			return "not reached in this period"
+			return "not reached by the end of the period"
 		}
-		return fmt.Sprintf("at case %d", n)
+		return fmt.Sprintf("at case %d (%s), counted from the first case", n, c.Points[n-1].Date)
 	}
 	d.keyValues([][2]string{
 		{"Acceptable failure rate p0", fmt.Sprintf("%.2f", c.Params.P0)},
@@ -205,10 +226,7 @@ func (d *doc) traineeReport() {
 
 	d.subheading("The trainee's own indicators", 40)
 	d.note("Over the cases the trainee performed (held the scope), whoever was the accountable endoscopist.")
-	var irows [][]string
-	for _, ind := range tr.Indicators {
-		irows = append(irows, indicatorRow(ind))
-	}
-	d.table(indicatorColumns(), irows)
+	d.periodNote()
+	d.table(indicatorColumns(), d.withNotes(tr.Indicators, d.indicatorRow))
 	d.indicatorNotes(tr.Indicators)
 }

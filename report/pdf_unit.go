@@ -7,16 +7,17 @@ import (
 	"strings"
 )
 
-// indicatorGroups orders the summary table; ids a group does not name go
+// IndicatorGroup is a heading and the indicators under it.
+type IndicatorGroup struct {
+	Title string
+	IDs   []string
+}
+
+// IndicatorGroups orders the indicators under headings, as the reports'
+// tables and the app's figures screen show them; ids no group names go
 // under "Other figures".
-func indicatorGroups() []struct {
-	title string
-	ids   []string
-} {
-	return []struct {
-		title string
-		ids   []string
-	}{
+func IndicatorGroups() []IndicatorGroup {
+	return []IndicatorGroup{
 		{"Detection (detection-eligible procedures)", []string{"adr", "adr_male", "adr_female", "adr_stool_test_positive", "ssldr", "pdr", "aadr", "apc", "proximal_sdr"}},
 		{"Completion and bowel preparation", []string{"cir", "cir_adjusted", "caecal_photo", "prep_adequate", "prep_recorded", "prep_adequate_total6", "retroversion"}},
 		{"Withdrawal", []string{"withdrawal_negative", "withdrawal_timed", "withdrawal_6min_share"}},
@@ -30,32 +31,32 @@ func indicatorGroups() []struct {
 }
 
 // groupedRows returns the rows of an indicator table in group order, with
-// group headings; extra, when set, adds a column from another population.
-func groupedRows(inds []Indicator, row func(Indicator) []string) [][]string {
+// group headings and each indicator's note row.
+func (d *doc) groupedRows(inds []Indicator, row func(Indicator) []string) [][]string {
 	var out [][]string
 	used := map[string]bool{}
-	for _, g := range indicatorGroups() {
-		var rows [][]string
-		for _, id := range g.ids {
+	for _, g := range IndicatorGroups() {
+		var group []Indicator
+		for _, id := range g.IDs {
 			if ind, ok := Find(inds, id); ok {
-				rows = append(rows, row(ind))
+				group = append(group, ind)
 				used[id] = true
 			}
 		}
-		if len(rows) > 0 {
-			out = append(out, []string{"§" + g.title})
-			out = append(out, rows...)
+		if len(group) > 0 {
+			out = append(out, []string{groupMark + g.Title})
+			out = append(out, d.withNotes(group, row)...)
 		}
 	}
-	var rest [][]string
+	var rest []Indicator
 	for _, ind := range inds {
 		if !used[ind.ID] {
-			rest = append(rest, row(ind))
+			rest = append(rest, ind)
 		}
 	}
 	if len(rest) > 0 {
-		out = append(out, []string{"§Other figures"})
-		out = append(out, rest...)
+		out = append(out, []string{groupMark + "Other figures"})
+		out = append(out, d.withNotes(rest, row)...)
 	}
 	return out
 }
@@ -80,6 +81,7 @@ func (d *doc) unitReport() {
 	d.reserveContents()
 	d.summary()
 	d.operatorOverview()
+	d.unitTrends()
 	d.funnels("")
 	for _, o := range d.in.Data.Metrics.Operators {
 		d.operatorPage(o)
@@ -108,8 +110,12 @@ func (d *doc) cover() {
 	case TraineeReport:
 		rows = append(rows, [2]string{"Trainee", d.name(in.SubjectID)})
 	}
+	period := d.periodText() + " (both days included)"
+	if d.unfinished {
+		period += ". Not over on the day this report was made: its figures will change, and verdicts are provisional"
+	}
 	rows = append(rows,
-		[2]string{"Period", d.periodText() + " (both days included)"},
+		[2]string{"Period", period},
 		[2]string{"Standard", in.Profile.Title + " (" + in.Profile.ID + ")"},
 		[2]string{"Source", in.Profile.Source},
 		[2]string{"Surveillance guideline", in.Guideline.Title() + " (" + string(in.Guideline) + ")"},
@@ -117,8 +123,28 @@ func (d *doc) cover() {
 		[2]string{"Generated on", formatDay(in.GeneratedOn)},
 	)
 	c := in.Data.Completeness
-	rows = append(rows, [2]string{"Records", fmt.Sprintf("%d procedures, %d lesions", c.Procedures, c.Lesions)})
-	if in.Kind == UnitReport {
+	inds := in.Data.Metrics.Unit.Indicators
+	switch in.Kind {
+	case PersonalReport:
+		c = in.Data.OperatorCompleteness[in.SubjectID]
+		if me, ok := d.subjectResult(); ok {
+			inds = me.Indicators
+		} else {
+			inds = nil
+		}
+		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures and %s lesions by this endoscopist in the period "+
+			"(the unit's: %s procedures)", groupThousands(int64(c.Procedures)), groupThousands(int64(c.Lesions)),
+			groupThousands(int64(in.Data.Completeness.Procedures)))})
+	case TraineeReport:
+		before := 0
+		if tr := d.trainee(); tr != nil {
+			before = tr.CasesBefore
+		}
+		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures and %s lesions with the trainee holding the scope in the period; "+
+			"%s earlier procedures since the trainee's first case count in the learning curve", groupThousands(int64(c.Procedures)),
+			groupThousands(int64(c.Lesions)), groupThousands(int64(before)))})
+	default:
+		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures, %s lesions", groupThousands(int64(c.Procedures)), groupThousands(int64(c.Lesions)))})
 		rows = append(rows, [2]string{"Endoscopists", strconv.Itoa(len(in.Data.Metrics.Operators)) + " with at least one procedure in the period"})
 	}
 	d.keyValues(rows, 42)
@@ -134,7 +160,7 @@ func (d *doc) cover() {
 		return []string{field, strconv.Itoa(k), fmt.Sprintf("%d %s", n, of), pct(k, n)}
 	}
 	complete := 0
-	if ind, ok := Find(in.Data.Metrics.Unit.Indicators, "cir"); ok {
+	if ind, ok := Find(inds, "cir"); ok {
 		complete = int(ind.Numerator)
 	}
 	if in.Kind == TraineeReport {
@@ -162,7 +188,7 @@ func (d *doc) cover() {
 		line("Procedures awaiting any histology", c.PendingProcedures, c.Procedures, "procedures"),
 	)
 	d.table([]column{{"Field not recorded", 90, "L"}, {"Missing", 22, "R"}, {"Of", 40, "R"}, {"Share", 28, "R"}}, tbl)
-	if adr, ok := Find(in.Data.Metrics.Unit.Indicators, "adr"); ok && adr.AwaitingHistology > 0 {
+	if adr, ok := Find(inds, "adr"); ok && adr.AwaitingHistology > 0 && in.Kind != TraineeReport {
 		d.note(fmt.Sprintf("%d detection-eligible procedures still await histology. Until it is reported they count as "+
 			"having no adenoma, so detection rates may rise once results arrive.", adr.AwaitingHistology))
 	}
@@ -185,8 +211,9 @@ func (d *doc) summary() {
 	d.newPage("Unit summary: every indicator", true)
 	d.note("Rates are percentages with their 95% interval in brackets. Verdicts are given in words and by shape: " +
 		"● meets the target, ▼ below it, ○ too few cases to judge, ■ reported without a target.")
+	d.periodNote()
 	d.compact = true
-	d.table(indicatorColumns(), groupedRows(d.in.Data.Metrics.Unit.Indicators, indicatorRow))
+	d.table(indicatorColumns(), d.groupedRows(d.in.Data.Metrics.Unit.Indicators, d.indicatorRow))
 	d.indicatorNotes(d.in.Data.Metrics.Unit.Indicators)
 	d.compact = false
 }
@@ -199,6 +226,7 @@ func overviewIDs() []string {
 // operatorOverview prints one line per endoscopist with the key figures.
 func (d *doc) operatorOverview() {
 	d.newPage("Endoscopists at a glance", true)
+	d.periodNote()
 	d.note("Key figures per endoscopist: value and verdict mark (● meets, ▼ below, ○ too few cases to judge). " +
 		"Each endoscopist's page gives cases, intervals and targets.")
 	cols := []column{{"Endoscopist", 40, "L"}, {"Procedures", 17, "R"}}
@@ -215,7 +243,7 @@ func (d *doc) operatorOverview() {
 		}
 		for _, id := range overviewIDs() {
 			ind, _ := Find(inds, id)
-			r = append(r, shortVerdict(ind))
+			r = append(r, d.shortVerdict(ind))
 		}
 		return r
 	}
@@ -299,26 +327,14 @@ func scorecardIDs() []string {
 // scorecard prints an operator's figures beside the unit's.
 func (d *doc) scorecard(inds []Indicator, ids []string) {
 	unit := d.in.Data.Metrics.Unit.Indicators
-	cols := []column{{"Indicator", 55, "L"}, {"Cases", 23, "R"}, {"Value", 19, "R"}, {"95% interval", 26, "R"},
-		{"Unit", 19, "R"}, {"Target", 16, "R"}, {"Verdict", 22, "L"}}
-	var rows [][]string
-	for _, id := range ids {
-		ind, ok := Find(inds, id)
-		if !ok {
-			continue
-		}
-		u, _ := Find(unit, id)
-		v := verdictCell(ind.Status)
-		if ind.Status == Reported {
-			v = "■ reported"
-		}
-		if ind.Status == TooFew {
-			v = "○ too few to judge"
-		}
-		rows = append(rows, []string{IndicatorTitle(id), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), v})
-	}
-	d.table(cols, rows)
-	d.indicatorNotes(pick(inds, ids))
+	cols := []column{{"Indicator", 48, "L"}, {"Cases", 22, "R"}, {"Value", 18, "R"}, {"95% interval", 26, "R"},
+		{"Unit", 17, "R"}, {"Target", 17, "R"}, {"Verdict", 32, "L"}}
+	chosen := pick(inds, ids)
+	d.table(cols, d.withNotes(chosen, func(ind Indicator) []string {
+		u, _ := Find(unit, ind.ID)
+		return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), d.verdictText(ind)}
+	}))
+	d.indicatorNotes(chosen)
 }
 
 // quarterSeries returns an indicator quarter by quarter for an operator
@@ -339,7 +355,7 @@ func (d *doc) quarterSeries(operatorID, id string) []TrendPoint {
 		if !ok {
 			ind = Indicator{ID: id, Status: TooFew}
 		}
-		out = append(out, TrendPoint{Label: q.Quarter, Indicator: ind})
+		out = append(out, TrendPoint{Label: q.Quarter, Indicator: ind, Provisional: ProvisionalNote(ind, q.Unfinished(d.today))})
 	}
 	return out
 }
@@ -351,10 +367,26 @@ func (d *doc) trend(operatorID, label, id string, h float64) {
 	d.chart(h, func(o ChartOptions) ([]byte, error) { return TrendChart(t, o) }, ChartOptions{})
 }
 
+// trendIDs are the indicators followed quarter by quarter.
+func trendIDs() []string { return []string{"adr", "cir", "withdrawal_negative"} }
+
+// unitTrends prints the unit's key figures quarter by quarter.
+func (d *doc) unitTrends() {
+	d.newPage("Unit trends by quarter", true)
+	d.note("Each quarter's figure with its 95% interval; the verdict is told by the mark's shape. An open diamond marks a " +
+		"quarter whose figure may still change: not over yet, or with a twentieth or more of its cases still awaiting histology " +
+		"(which count as no adenoma until reported).")
+	for _, id := range trendIDs() {
+		t := TrendData{IndicatorID: id, Name: "whole unit", Points: d.quarterSeries("", id)}
+		d.chart(72, func(o ChartOptions) ([]byte, error) { return TrendChart(t, o) }, ChartOptions{})
+	}
+}
+
 // operatorPage prints one endoscopist's scorecard, quarterly ADR and place
 // on the ADR funnel.
 func (d *doc) operatorPage(o OperatorResult) {
 	d.newPage("Endoscopist "+d.name(o.OperatorID), true)
+	d.periodNote()
 	d.scorecard(o.Indicators, scorecardIDs())
 	d.trend(o.OperatorID, o.OperatorID, "adr", 66)
 	if fd, err := d.funnelData("adr"); err == nil {
@@ -430,14 +462,14 @@ func (d *doc) optical() {
 	d.newPage("Optical diagnosis and resect-and-discard eligibility", true)
 	d.note("Lesions with an optical class other than uncertain and a final histology; a call of adenoma predicts an " +
 		"adenoma (cancer included), hyperplastic or SSL predicts not. Every figure has its Wilson 95% interval; kappa is Cohen's.")
-	cols := []column{{"Population", 44, "L"}, {"Lesions", 14, "R"}, {"Sensitivity", 22, "R"}, {"Specificity", 22, "R"},
-		{"NPV", 20, "R"}, {"Kappa", 14, "R"}, {"High confidence", 22, "R"}, {"Aid lesions", 22, "R"}}
+	cols := []column{{"Population", 32, "L"}, {"Lesions", 13, "R"}, {"Sensitivity", 25, "R"}, {"Specificity", 25, "R"},
+		{"NPV", 25, "R"}, {"Kappa", 23, "R"}, {"High confidence", 25, "R"}, {"Aid lesions", 12, "R"}}
 	var rows [][]string
 	for _, p := range pops {
 		o := p.Optical
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(o.Endoscopist.Table.N()),
-			FormatValue(o.Endoscopist.Sensitivity), FormatValue(o.Endoscopist.Specificity), FormatValue(o.Endoscopist.NPV),
-			FormatValue(o.Endoscopist.Kappa), FormatValue(o.HighConfidence), strconv.Itoa(o.Aid.Table.N())})
+			withInterval(o.Endoscopist.Sensitivity), withInterval(o.Endoscopist.Specificity), withInterval(o.Endoscopist.NPV),
+			withInterval(o.Endoscopist.Kappa), withInterval(o.HighConfidence), strconv.Itoa(o.Aid.Table.N())})
 	}
 	d.table(cols, rows)
 	if u := pops[0]; u.OperatorID == "" {
@@ -457,7 +489,7 @@ func (d *doc) optical() {
 		a := o.PIVI1.Agreement
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(a.Denominator), strconv.Itoa(o.PIVI1.Agree),
 			strconv.Itoa(o.PIVI1.Shorter), strconv.Itoa(o.PIVI1.Longer), strconv.Itoa(o.PIVI1.Outside),
-			strings.TrimSpace(shortVerdict(a) + " " + FormatInterval(a))})
+			strings.TrimSpace(d.shortVerdict(a) + " " + FormatInterval(a))})
 		label := "unit"
 		if p.OperatorID != "" {
 			label = p.OperatorID
@@ -480,7 +512,7 @@ func (d *doc) optical() {
 		n := p.Optical.PIVI2.NPV
 		nn := p.Optical.PIVI2.NPVNeoplasia
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(n.Denominator),
-			strings.TrimSpace(FormatValue(n) + " " + FormatInterval(n)), verdictCell(n.Status), FormatValue(nn)})
+			strings.TrimSpace(FormatValue(n) + " " + FormatInterval(n)), d.verdictText(n), FormatValue(nn)})
 	}
 	d.table(cols, rows)
 	fd2 := ForestData{IndicatorID: "pivi2_npv", Rows: p2, Reference: &piviT, ReferenceLabel: "PIVI threshold 90%"}
@@ -512,6 +544,14 @@ func (d *doc) opticalTables(o *OpticalDetail) {
 	k := o.Endoscopist.ClassesKappa
 	d.table([]column{{"Three classes: call", 50, "L"}, {"Adenoma", 25, "R"}, {"Serrated", 25, "R"}, {"Hyperplastic", 25, "R"}, {"Normal or other", 28, "R"}}, rows)
 	d.note(fmt.Sprintf("Three-class agreement over lesions with adenoma, serrated or hyperplastic histology: kappa %s.", kappaText(k)))
+}
+
+// withInterval prints a value with its 95% interval under it.
+func withInterval(ind Indicator) string {
+	if iv := FormatInterval(ind); iv != "" {
+		return FormatValue(ind) + "\n" + iv
+	}
+	return FormatValue(ind)
 }
 
 func kappaText(k Kappa) string {
@@ -631,7 +671,7 @@ func (d *doc) adherence() {
 	var forest []ForestRow
 	for _, x := range inds {
 		id, ind := x[0].(string), x[1].(Indicator)
-		rows = append(rows, []string{d.populationLabel(id), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), verdictCell(ind.Status)})
+		rows = append(rows, []string{d.populationLabel(id), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), d.verdictText(ind)})
 		label := "unit"
 		if id != "" {
 			label = id

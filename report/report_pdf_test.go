@@ -157,7 +157,7 @@ func TestTraineeLogbook(t *testing.T) {
 	checkEveryPage(t, pages)
 	all := oneLine(strings.Join(pages, " "))
 	for _, s := range []string{
-		trainee, demoNames()[trainee], "Cases by supervision level", "Cumulative", "2025-01", "2025-12",
+		trainee, demoNames()[trainee], "Cases by supervision level", "Running total", "2025-01", "2025-12",
 		"Learning curve: unassisted caecal intubation (CUSUM)", "p0", "0.10", "0.20",
 		// Check values computed from the Bolsin and Colson formulas with the
 		// default parameters (clinical-reference §5): s = 0.1452,

@@ -3,7 +3,9 @@ package report
 import (
 	"fmt"
 	"io"
+	"math"
 	"strconv"
+	"strings"
 	"text/tabwriter"
 )
 
@@ -19,15 +21,12 @@ func WriteTable(w io.Writer, r MetricsResult) error {
 		fmt.Fprintf(tw, "\n%s\n", title)
 		fmt.Fprintln(tw, "indicator\tcases\tvalue\t95% interval\ttarget\tverdict")
 		for _, ind := range inds {
-			verdict := ind.Status.Words()
-			if ind.AwaitingHistology > 0 {
-				verdict += fmt.Sprintf("; %d awaiting histology", ind.AwaitingHistology)
-			}
+			verdict := FormatVerdict(ind)
 			if ind.Note != "" {
-				verdict += "; " + ind.Note
+				verdict += " (" + ind.Note + ")"
 			}
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", ind.ID, casesText(ind), FormatValue(ind),
-				intervalText(ind), FormatTarget(ind), verdict)
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\n", ind.ID, FormatCases(ind), FormatValue(ind),
+				FormatInterval(ind), FormatTarget(ind), verdict)
 		}
 	}
 	block("Unit", r.Unit.Indicators)
@@ -41,43 +40,94 @@ func WriteTable(w io.Writer, r MetricsResult) error {
 	return nil
 }
 
-// casesText is the count behind a figure: k/n for proportions, n otherwise.
+// casesText is the count behind a figure: k/n for proportions, n
+// otherwise, with thousands separated ("1,083/1,145").
 func casesText(ind Indicator) string {
+	k := groupThousands(int64(math.Round(ind.Numerator)))
+	n := groupThousands(int64(ind.Denominator))
 	switch ind.Kind {
 	case "", "proportion":
-		return fmt.Sprintf("%.0f/%d", ind.Numerator, ind.Denominator)
+		return k + "/" + n
 	case KindPerYear:
-		return fmt.Sprintf("%.0f in %d days", ind.Numerator, ind.Denominator)
+		return k + " in " + n + " days"
 	case KindRatio:
-		return fmt.Sprintf("%.0f in %d", ind.Numerator, ind.Denominator)
+		return k + " in " + n
 	}
-	return strconv.Itoa(ind.Denominator)
+	return n
 }
 
-// valueText prints v as the indicator's kind reads: "–" when undefined.
-func valueText(ind Indicator, v *float64) string {
+// groupThousands prints n with a comma between groups of three digits.
+func groupThousands(n int64) string {
+	s := strconv.FormatInt(n, 10)
+	neg := strings.HasPrefix(s, "-")
+	s = strings.TrimPrefix(s, "-")
+	var b strings.Builder
+	for i, r := range s {
+		if i > 0 && (len(s)-i)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(r)
+	}
+	if neg {
+		return "-" + b.String()
+	}
+	return b.String()
+}
+
+// valueText prints v as the indicator's kind reads, at the kind's usual
+// precision: "–" when undefined.
+func valueText(ind Indicator, v *float64) string { return numberText(ind, v, 0) }
+
+// numberText prints v as the indicator's kind reads with extra decimals
+// beyond the kind's usual precision.
+func numberText(ind Indicator, v *float64, extra int) string {
 	if v == nil {
 		return "–"
 	}
 	x := *v
+	fixed := func(scaled float64, decimals int) string {
+		return strconv.FormatFloat(scaled, 'f', decimals+extra, 64)
+	}
 	switch ind.Kind {
 	case KindMean:
-		return fmt.Sprintf("%.1f min", x)
+		return fixed(x, 1) + " min"
 	case KindRatio, "kappa":
-		return fmt.Sprintf("%.2f", x)
+		return fixed(x, 2)
 	case KindMedian:
-		return strconv.FormatFloat(x, 'f', -1, 64)
+		if extra == 0 {
+			return strconv.FormatFloat(x, 'f', -1, 64)
+		}
+		return fixed(x, 1)
 	case KindPerYear:
-		return fmt.Sprintf("%.0f per year", x)
+		return groupThousands(int64(math.Round(x))) + " per year"
 	case "count":
-		return fmt.Sprintf("%.0f", x)
+		return groupThousands(int64(math.Round(x)))
 	case KindDifference:
-		return fmt.Sprintf("%+.1f points", 100*x)
+		return fmt.Sprintf("%+.*f points", 1+extra, 100*x)
 	}
 	if ind.Scale > 0 {
-		return fmt.Sprintf("%.1f per %d", x*float64(ind.Scale), ind.Scale)
+		return fixed(x*float64(ind.Scale), 1) + " per " + strconv.Itoa(ind.Scale)
 	}
-	return fmt.Sprintf("%.1f%%", 100*x)
+	return fixed(100*x, 1) + "%"
+}
+
+// verdictDigits is how many decimals beyond the usual an indicator's value
+// needs so that its verdict can be read from the printed numbers: a value
+// of 94.97% against a target of 95% prints as "94.97%", not as "95.0%"
+// beside "below target". It is 0 when the usual precision already tells
+// value and target apart (or they are equal), and at most 4.
+func verdictDigits(ind Indicator) int {
+	if ind.Value == nil || ind.Target == nil || *ind.Value == *ind.Target {
+		return 0
+	}
+	target := valueText(ind, ind.Target)
+	for extra := 0; extra < 4; extra++ {
+		v := numberText(ind, ind.Value, extra)
+		if v != target && v != numberText(ind, ind.Target, extra) {
+			return extra
+		}
+	}
+	return 4
 }
 
 // intervalText prints the interval in brackets; percentages keep their

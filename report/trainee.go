@@ -48,9 +48,13 @@ func (c CUSUMParams) Limits() (s, h0, h1 float64, err error) {
 }
 
 // TraineeProgress follows each trainee's learning curve over the cases where
-// the trainee held the scope (trainee_id), in one pass. Only the trainee's
-// caecal intubation outcomes are kept per case, because the CUSUM needs them
-// in date order. Not safe for concurrent use.
+// the trainee held the scope (trainee_id), in one pass. A learning curve
+// runs from the trainee's first case, so cases before the period are
+// counted too (fed by the caller): they make the monthly and cumulative
+// counts and the CUSUM, while the trainee's indicators count the period's
+// cases only. Only the trainee's caecal intubation outcomes are kept per
+// case, because the CUSUM needs them in date order. Not safe for
+// concurrent use.
 type TraineeProgress struct {
 	prof      *Profile
 	params    CUSUMParams
@@ -61,16 +65,19 @@ type TraineeProgress struct {
 
 type traineeState struct {
 	months   map[int]*[4]int // month key → cases by supervision (independent, hands-on, observed, unrecorded)
-	counts   counts
-	reached  int // trainee_reached_caecum yes
-	recorded int // trainee_reached_caecum yes or no
-	outcomes []cusumCase
+	counts   counts          // the period's cases
+	reached  int             // the period's cases with trainee_reached_caecum yes
+	recorded int             // the period's cases with trainee_reached_caecum yes or no
+	before   int             // cases before the period
+	inPeriod int             // cases in the period
+	outcomes []cusumCase     // every case up to the period's end with the outcome recorded
 }
 
 type cusumCase struct {
-	date    time.Time
-	id      string
-	success bool
+	date     time.Time
+	id       string
+	success  bool
+	inPeriod bool
 }
 
 // NewTraineeProgress starts a trainee pass under profile p (its detection
@@ -84,14 +91,16 @@ func NewTraineeProgress(p *Profile, c CUSUMParams, opt MetricsOptions) (*Trainee
 	return &TraineeProgress{prof: p, params: c, s: s, h0: h0, h1: h1, opt: opt, trainees: map[string]*traineeState{}}, nil
 }
 
-// Add counts a case for its trainee; cases with no trainee or outside the
-// period are ignored. The case is not retained (its id is copied for the
-// CUSUM series).
+// Add counts a case for its trainee: a case in the period counts
+// everywhere, a case before the period in the monthly counts and the CUSUM
+// only; cases with no trainee or after the period are ignored. The case is
+// not retained (its id is copied for the CUSUM series).
 func (t *TraineeProgress) Add(c *logbook.Case) {
 	pr := &c.Procedure
-	if pr.TraineeID == "" || !t.opt.includes(pr.PerformedOn) {
+	if pr.TraineeID == "" || (!t.opt.To.IsZero() && pr.PerformedOn.After(t.opt.To)) {
 		return
 	}
+	inPeriod := t.opt.includes(pr.PerformedOn)
 	st := t.trainees[pr.TraineeID]
 	if st == nil {
 		st = &traineeState{months: map[int]*[4]int{}}
@@ -113,17 +122,43 @@ func (t *TraineeProgress) Add(c *logbook.Case) {
 	default:
 		m[3]++
 	}
+	recorded := pr.TraineeReachedCaecum == logbook.Yes || pr.TraineeReachedCaecum == logbook.No
+	ok := pr.TraineeReachedCaecum == logbook.Yes
+	if recorded {
+		st.outcomes = append(st.outcomes, cusumCase{date: pr.PerformedOn, id: strings.Clone(pr.ID), success: ok, inPeriod: inPeriod})
+	}
+	if !inPeriod {
+		st.before++
+		return
+	}
+	st.inPeriod++
 	var f caseFacts
 	f.read(t.prof, c)
 	st.counts.add(&f)
-	if pr.TraineeReachedCaecum == logbook.Yes || pr.TraineeReachedCaecum == logbook.No {
+	if recorded {
 		st.recorded++
-		ok := pr.TraineeReachedCaecum == logbook.Yes
 		if ok {
 			st.reached++
 		}
-		st.outcomes = append(st.outcomes, cusumCase{date: pr.PerformedOn, id: strings.Clone(pr.ID), success: ok})
 	}
+}
+
+// supervisionWords are the plain words every output uses for the
+// supervision levels of a trainee's case.
+var supervisionWords = map[logbook.Supervision]string{
+	logbook.Independent:        "On their own",
+	logbook.SupervisedHandsOn:  "Trainer helped",
+	logbook.SupervisedObserved: "Trainer watched",
+}
+
+// SupervisionWords returns the plain words for a supervision level ("On
+// their own", "Trainer helped", "Trainer watched"), "Not recorded" for
+// none.
+func SupervisionWords(s logbook.Supervision) string {
+	if w, ok := supervisionWords[s]; ok {
+		return w
+	}
+	return "Not recorded"
 }
 
 // MonthCount is a trainee's cases in one calendar month ("2026-01") by
@@ -138,12 +173,15 @@ type MonthCount struct {
 	Cumulative         int    `json:"cumulative"`
 }
 
-// CUSUMPoint is the CUSUM after one case with a recorded outcome.
+// CUSUMPoint is the CUSUM after one case with a recorded outcome. InPeriod
+// is false for a case before the period asked for (the curve starts at the
+// trainee's first case).
 type CUSUMPoint struct {
 	ProcedureID string  `json:"procedure_id"`
 	Date        string  `json:"date"`
 	Success     bool    `json:"success"`
 	Value       float64 `json:"value"`
+	InPeriod    bool    `json:"in_period"`
 }
 
 // CUSUMResult is a trainee's learning curve over unassisted caecal
@@ -162,33 +200,39 @@ type CUSUMResult struct {
 	Note           string       `json:"note"`
 }
 
-// TraineeResult is one trainee's progress: cases per month, the trainee's
-// own indicators (unassisted_caecal_intubation, then adr,
-// withdrawal_negative, comfort_discomfort and comfort_recorded over the
-// trainee's cases) and the CUSUM.
+// TraineeResult is one trainee's progress: cases per month from the first
+// case to the period's end, the trainee's own indicators over the period's
+// cases (unassisted_caecal_intubation, then adr, withdrawal_negative,
+// comfort_discomfort and comfort_recorded) and the CUSUM from the first
+// case. CasesBefore and CasesInPeriod split the trainee's cases at the
+// period's start.
 type TraineeResult struct {
-	TraineeID  string       `json:"trainee_id"`
-	Months     []MonthCount `json:"months"`
-	Indicators []Indicator  `json:"indicators"`
-	CUSUM      CUSUMResult  `json:"cusum"`
+	TraineeID     string       `json:"trainee_id"`
+	Months        []MonthCount `json:"months"`
+	Indicators    []Indicator  `json:"indicators"`
+	CUSUM         CUSUMResult  `json:"cusum"`
+	CasesBefore   int          `json:"cases_before"`
+	CasesInPeriod int          `json:"cases_in_period"`
 }
 
 // cusumNote says where the CUSUM parameters come from.
 const cusumNote = "Bolsin and Colson CUSUM (Int J Qual Health Care 2000;12:433–438). p0, p1, α and β are a local choice; crossing below −h0 suggests acceptable performance, above +h1 unacceptable. For the trainer to interpret."
 
-// Result returns every trainee's progress, sorted by trainee id. Months run
-// from the trainee's first to last month with a case, empty months
-// included.
+// Result returns the progress of every trainee with a case in the period,
+// sorted by trainee id. Months run from the trainee's first to last month
+// with a case, empty months included.
 func (t *TraineeProgress) Result() []TraineeResult {
 	ids := make([]string, 0, len(t.trainees))
-	for id := range t.trainees {
-		ids = append(ids, id)
+	for id, st := range t.trainees {
+		if st.inPeriod > 0 {
+			ids = append(ids, id)
+		}
 	}
 	sort.Strings(ids)
 	out := make([]TraineeResult, 0, len(ids))
 	for _, id := range ids {
 		st := t.trainees[id]
-		r := TraineeResult{TraineeID: id, Months: []MonthCount{}}
+		r := TraineeResult{TraineeID: id, Months: []MonthCount{}, CasesBefore: st.before, CasesInPeriod: st.inPeriod}
 		first, last := math.MaxInt, math.MinInt
 		for k := range st.months {
 			first, last = min(first, k), max(last, k)
@@ -233,7 +277,7 @@ func (t *TraineeProgress) cusum(outcomes []cusumCase) CUSUMResult {
 		} else {
 			v += 1 - t.s
 		}
-		r.Points = append(r.Points, CUSUMPoint{ProcedureID: o.id, Date: logbook.FormatDate(o.date), Success: o.success, Value: v})
+		r.Points = append(r.Points, CUSUMPoint{ProcedureID: o.id, Date: logbook.FormatDate(o.date), Success: o.success, Value: v, InPeriod: o.inPeriod})
 		if r.AcceptableAt == 0 && v <= -t.h0 {
 			r.AcceptableAt = i + 1
 		}

@@ -125,3 +125,51 @@ func TestTraineeProgress(t *testing.T) {
 		}
 	}
 }
+
+// TestLearningCurveRunsFromTheFirstCase feeds cases before the period: they
+// count in the months, the running total and the CUSUM (a learning curve
+// runs from the trainee's first case), but not in the trainee's indicators
+// for the period. A case after the period and a trainee with earlier cases
+// only are left out.
+func TestLearningCurveRunsFromTheFirstCase(t *testing.T) {
+	from, to := mkDate(t, "2026-03-01"), mkDate(t, "2026-03-31")
+	tp, err := NewTraineeProgress(shipped(t, "bsg-jag-2016"), DefaultCUSUM(), MetricsOptions{From: from, To: to})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var cases []logbook.Case
+	// 15 successes in January and February, then 5 in March: 19 successes
+	// reach −h0 (s = 0.1452, h0 = 2.7095, clinical-reference §5), so the
+	// curve crosses at the 19th case, counted from the first.
+	for i := 1; i <= 15; i++ {
+		cases = append(cases, traineeCase(t, fmt.Sprintf("P%02d", i), fmt.Sprintf("2026-0%d-%02d", 1+i/8, 1+i%8), logbook.Independent, logbook.Yes))
+	}
+	for i := 16; i <= 20; i++ {
+		cases = append(cases, traineeCase(t, fmt.Sprintf("P%02d", i), fmt.Sprintf("2026-03-%02d", i), logbook.Independent, logbook.Yes))
+	}
+	cases = append(cases,
+		traineeCase(t, "LATE", "2026-04-02", logbook.Independent, logbook.No),
+		mkCase(eID("OTHER"), eOn(t, "2026-01-05"), func(c *logbook.Case) { c.TraineeID = "T9" }))
+	for i := range cases {
+		tp.Add(&cases[i])
+	}
+	res := tp.Result()
+	if len(res) != 1 || res[0].TraineeID != "T1" {
+		t.Fatalf("trainees %+v", res)
+	}
+	r := res[0]
+	if r.CasesBefore != 15 || r.CasesInPeriod != 5 {
+		t.Errorf("cases before %d, in period %d; want 15 and 5", r.CasesBefore, r.CasesInPeriod)
+	}
+	last := r.Months[len(r.Months)-1]
+	if r.Months[0].Month != "2026-01" || last.Month != "2026-03" || last.Cumulative != 20 {
+		t.Errorf("months %+v, want January to March with a running total of 20", r.Months)
+	}
+	c := r.CUSUM
+	if len(c.Points) != 20 || c.AcceptableAt != 19 || c.Points[14].InPeriod || !c.Points[15].InPeriod {
+		t.Errorf("CUSUM of %d points, acceptable at %d, in period from %v", len(c.Points), c.AcceptableAt, c.Points[15].InPeriod)
+	}
+	if ind := mustFind(t, r.Indicators, "unassisted_caecal_intubation"); ind.Numerator != 5 || ind.Denominator != 5 {
+		t.Errorf("unassisted caecal intubation over %v/%d, want the period's 5/5", ind.Numerator, ind.Denominator)
+	}
+}

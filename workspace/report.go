@@ -41,12 +41,12 @@ func (a *Audit) ReportInput(ctx context.Context, req ReportRequest, figs Figures
 	}, nil
 }
 
-// WriteReportFile computes the period's figures in one pass and writes the
-// PDF to path as an Output that may replace a file there (the app's save
-// dialog has asked) but never a database, so that a failed or cancelled
-// report leaves no partial file. progress is passed to ComputeFigures.
-func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequest, progress func(cases int)) error {
-	figs, err := a.ComputeFigures(ctx, req.From, req.To, req.Guideline, progress)
+// WriteReport computes the report's figures in one pass (ReportFigures)
+// and writes the PDF to w. The command line and the app both make their
+// reports here, so that the same request gives the same report. progress
+// is passed to ReportFigures; cancelling ctx stops the work.
+func (a *Audit) WriteReport(ctx context.Context, w io.Writer, req ReportRequest, progress func(cases int)) error {
+	figs, err := a.ReportFigures(ctx, req, progress)
 	if err != nil {
 		return err
 	}
@@ -54,10 +54,17 @@ func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequ
 	if err != nil {
 		return err
 	}
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+	return report.WritePDF(w, in)
+}
+
+// WriteReportFile writes the report (WriteReport) to path as an Output that
+// may replace a file there (the app's save dialog has asked) but never a
+// database, so that a failed or cancelled report leaves no partial file.
+func (a *Audit) WriteReportFile(ctx context.Context, path string, req ReportRequest, progress func(cases int)) error {
 	return Output{Path: path, Replace: true, Database: a.Store.Path()}.Write(func(w io.Writer) error {
-		if err := ctx.Err(); err != nil {
-			return err
-		}
-		return report.WritePDF(w, in)
+		return a.WriteReport(ctx, w, req, progress)
 	})
 }

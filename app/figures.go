@@ -1,0 +1,420 @@
+package app
+
+import (
+	"context"
+	"fmt"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/widget"
+
+	"polypledger/logbook"
+	"polypledger/report"
+	"polypledger/workspace"
+)
+
+// figuresScreen is the "Audit figures" screen: choose a period, a
+// standard and whose figures (the unit, an endoscopist or a trainee), and
+// see each indicator as a row (figureRow) grouped as the report groups
+// them, the charts the PDF report draws, the optical diagnosis and
+// eligibility figures and the interval figures, each with its caution.
+type figuresScreen struct {
+	u     *ui
+	stale bool
+
+	period   *periodPicker
+	standard *keySelect
+	whose    *keySelect
+	whoIDs   []workspace.Population
+	show     *button
+	message  *widget.Label
+	status   *widget.Label
+	body     *fyne.Container
+	scroll   *container.Scroll
+	content  fyne.CanvasObject
+
+	// shownFor is what the figures on screen were computed for.
+	shownFor string
+	// last holds the figures of the last pass, for every population, so
+	// that choosing whose figures redraws without reading the cases again.
+	last    workspace.Figures
+	lastFor string
+	// busy is set while figures are being worked out; again asks for
+	// another run once they are, when the choices changed meanwhile.
+	busy, again bool
+	// rows holds the rows on screen by indicator id (tests read them).
+	rows map[string]*figureRow
+}
+
+func newFiguresScreen(u *ui) *figuresScreen {
+	s := &figuresScreen{u: u, stale: true, rows: map[string]*figureRow{}}
+	s.period = newPeriodPicker(u)
+	s.standard = newKeySelect(nil, nil)
+	// Another population is drawn from the figures already worked out.
+	s.whose = newKeySelect(nil, func(string) {
+		if s.lastFor != "" {
+			s.compute()
+		}
+	})
+	s.show = newButton("Show the figures", s.compute)
+	s.show.Importance = widget.HighImportance
+	s.message = widget.NewLabel("")
+	s.message.Wrapping = fyne.TextWrapWord
+	s.status = widget.NewLabel("")
+	s.status.Wrapping = fyne.TextWrapWord
+	s.status.TextStyle.Bold = true
+	s.status.Hide()
+	s.body = container.NewVBox()
+	s.refreshChoices()
+	u.name(s.standard, "Standard")
+	u.name(s.whose, "Whose figures")
+	controls := container.NewVBox(
+		container.NewHBox(widget.NewLabel("Period"), s.period.content),
+		container.NewBorder(nil, nil, widget.NewLabel("Standard"), nil, s.standard),
+		container.NewBorder(nil, nil, widget.NewLabel("Whose figures"), s.show, s.whose))
+	s.scroll = container.NewVScroll(container.NewPadded(s.body))
+	s.content = container.NewBorder(container.NewVBox(controls, s.message, s.status), nil, nil, nil, s.scroll)
+	return s
+}
+
+// refreshChoices offers the profiles and the roster.
+func (s *figuresScreen) refreshChoices() {
+	s.u.offerStandards(s.standard)
+
+	opts := []string{"The whole unit"}
+	s.whoIDs = []workspace.Population{{}}
+	for _, r := range s.u.roster {
+		if r.Role == logbook.RoleEndoscopist {
+			opts = append(opts, s.u.rosterLabel(r.ID))
+			s.whoIDs = append(s.whoIDs, workspace.Population{OperatorID: r.ID})
+		}
+	}
+	for _, r := range s.u.roster {
+		if r.Role == logbook.RoleTrainee {
+			opts = append(opts, "Trainee "+s.u.rosterLabel(r.ID))
+			s.whoIDs = append(s.whoIDs, workspace.Population{TraineeID: r.ID})
+		}
+	}
+	who := s.whose.SelectedIndex()
+	changed := s.whose.OnChanged
+	s.whose.OnChanged = nil
+	s.whose.SetOptions(opts)
+	if who < 0 || who >= len(opts) {
+		who = 0
+	}
+	s.whose.SetSelectedIndex(who)
+	s.whose.OnChanged = changed
+}
+
+// shown computes the figures the first time the screen is opened, and again
+// when records changed since.
+func (s *figuresScreen) shown() {
+	if s.stale {
+		s.compute()
+	}
+}
+
+// population returns whose figures are chosen.
+func (s *figuresScreen) population() workspace.Population {
+	if i := s.whose.SelectedIndex(); i >= 0 && i < len(s.whoIDs) {
+		return s.whoIDs[i]
+	}
+	return workspace.Population{}
+}
+
+// compute reads the period once off the UI thread and shows the result.
+// Asked again while it runs, it runs once more afterwards.
+func (s *figuresScreen) compute() {
+	if s.busy {
+		s.again = true
+		return
+	}
+	from, to, err := s.period.read()
+	if err != nil {
+		s.message.SetText(err.Error())
+		return
+	}
+	i := s.standard.SelectedIndex()
+	if i < 0 || i >= len(s.u.profiles) {
+		s.message.SetText("Choose a standard.")
+		return
+	}
+	prof := s.u.profiles[i]
+	pop := s.population()
+	audit := &workspace.Audit{Store: s.u.st, Settings: s.u.settings, Profile: prof}
+	g, _ := audit.Guideline("")
+	today := s.u.today()
+	key := logbook.FormatDate(from) + " " + logbook.FormatDate(to) + " " + prof.ID + " " + string(g)
+	reuse := !s.stale && key == s.lastFor
+	cached := s.last
+	s.stale = false
+	s.busy = true
+	s.show.Disable()
+	var figs workspace.Figures
+	var charts []chartImage
+	s.u.jobs.run("Working out the figures", func(ctx context.Context, progress progressFunc) error {
+		if reuse {
+			figs = cached
+		} else {
+			var err error
+			figs, err = audit.ComputeFigures(ctx, from, to, g, func(n int) {
+				progress(-1, fmt.Sprintf("%d cases read", n))
+			})
+			if err != nil {
+				return err
+			}
+		}
+		progress(-1, "Drawing the charts")
+		charts = figureCharts(figs, prof, pop, today)
+		return ctx.Err()
+	}, func(err error) {
+		s.busy = false
+		s.show.Enable()
+		if s.again {
+			s.again = false
+			defer s.compute()
+		}
+		if err != nil {
+			s.stale = true
+			if cancelled(err) {
+				s.message.SetText("Stopped before the figures were ready.")
+			} else {
+				s.message.SetText("The figures could not be worked out: " + err.Error())
+			}
+			return
+		}
+		s.last, s.lastFor = figs, key
+		s.display(figs, prof, pop, charts)
+	})
+}
+
+// indicatorsOf returns the indicators of a population from the figures.
+func indicatorsOf(figs workspace.Figures, pop workspace.Population) ([]report.Indicator, bool) {
+	m := figs.Data.Metrics
+	switch {
+	case pop.TraineeID != "":
+		for _, t := range figs.Data.Trainees {
+			if t.TraineeID == pop.TraineeID {
+				return t.Indicators, true
+			}
+		}
+		return nil, false
+	case pop.OperatorID != "":
+		for _, o := range m.Operators {
+			if o.OperatorID == pop.OperatorID {
+				return o.Indicators, true
+			}
+		}
+		return nil, false
+	}
+	return m.Unit.Indicators, true
+}
+
+// isOpticalID reports whether an indicator belongs to the optical
+// diagnosis panel rather than to the main rows.
+func isOpticalID(id string) bool {
+	return strings.HasPrefix(id, "pivi") || strings.HasPrefix(id, "optical_") || strings.HasPrefix(id, "aid_") ||
+		id == "high_confidence_rate" || strings.HasPrefix(id, "esge2022_")
+}
+
+// display lays out the rows, charts and panels, from the top.
+func (s *figuresScreen) display(figs workspace.Figures, prof *report.Profile, pop workspace.Population, charts []chartImage) {
+	s.body.RemoveAll()
+	s.rows = map[string]*figureRow{}
+	s.scroll.ScrollToTop()
+	who := s.whose.Selected
+	period := figs.Data.Metrics.From + " to " + figs.Data.Metrics.To
+	s.shownFor = fmt.Sprintf("%s, %s, %s", who, period, prof.Title)
+	from, to, _ := s.period.read()
+	unfinished := report.PeriodUnfinished(to, s.u.today())
+	s.status.Hide()
+	if unfinished {
+		s.status.SetText(fmt.Sprintf("This period ends on %s, after today: cases are still being added, so every figure may change and every verdict is provisional. "+
+			"Choose %q for a period that is over.", logbook.FormatDate(to), quickQuarter))
+		s.status.Show()
+	}
+	inds, ok := indicatorsOf(figs, pop)
+	if !ok || figs.Cases == 0 {
+		what := "no procedures"
+		if pop.TraineeID != "" {
+			what = "no procedures with this trainee holding the scope"
+		}
+		s.message.SetText(fmt.Sprintf("%s: %s between %s and %s.", who, what, logbook.FormatDate(from), logbook.FormatDate(to)))
+		hint := widget.NewLabel(fmt.Sprintf("Choose %q to take in every case recorded, or enter cases under Enter a case (Alt+2) "+
+			"or import a file of procedures (File ▸ Import records, Ctrl+I).", quickAllCases))
+		hint.Wrapping = fyne.TextWrapWord
+		s.body.Add(hint)
+		return
+	}
+	s.message.SetText(fmt.Sprintf("%s  ·  %s procedures of the unit in the period", s.shownFor, groupedCount(figs.Cases)))
+	s.body.Add(cautionBox(report.AuditCaution()))
+	s.body.Add(legend())
+
+	var main, optical []report.Indicator
+	var adherence []report.Indicator
+	for _, ind := range inds {
+		switch {
+		case ind.ID == "interval_adherence":
+			adherence = append(adherence, ind)
+		case isOpticalID(ind.ID):
+			optical = append(optical, ind)
+		default:
+			main = append(main, ind)
+		}
+	}
+	s.addGroups(main, unfinished)
+	if len(charts) > 0 {
+		s.body.Add(heading("Charts"))
+		var imgs []fyne.CanvasObject
+		for _, c := range charts {
+			imgs = append(imgs, c.object())
+		}
+		s.body.Add(container.NewGridWrap(fyne.NewSize(620, 350), imgs...))
+	}
+	if pop.TraineeID == "" {
+		s.body.Add(heading("Optical diagnosis and resect-and-discard eligibility"))
+		s.addRows(optical, unfinished)
+		detail := figs.Data.Detail(pop.OperatorID)
+		if detail.Optical != nil {
+			s.body.Add(eligibilityPanel(detail.Optical.Eligibility))
+		}
+		s.body.Add(cautionBox(report.EligibilityCaution()))
+		s.body.Add(heading("Surveillance intervals under " + figs.Guideline.Title()))
+		s.addRows(adherence, unfinished)
+		s.body.Add(cautionBox(report.IntervalCaution(figs.Guideline)))
+	}
+}
+
+// addGroups adds the indicators under the report's group headings.
+func (s *figuresScreen) addGroups(inds []report.Indicator, unfinished bool) {
+	used := map[string]bool{}
+	for _, g := range report.IndicatorGroups() {
+		var group []report.Indicator
+		for _, id := range g.IDs {
+			if ind, ok := report.Find(inds, id); ok {
+				group = append(group, ind)
+				used[id] = true
+			}
+		}
+		if len(group) > 0 {
+			s.body.Add(heading(g.Title))
+			s.addRows(group, unfinished)
+		}
+	}
+	var rest []report.Indicator
+	for _, ind := range inds {
+		if !used[ind.ID] {
+			rest = append(rest, ind)
+		}
+	}
+	if len(rest) > 0 {
+		s.body.Add(heading("Other figures"))
+		s.addRows(rest, unfinished)
+	}
+}
+
+// addRows adds one row per indicator with a line between rows.
+func (s *figuresScreen) addRows(inds []report.Indicator, unfinished bool) {
+	for i, ind := range inds {
+		if i > 0 {
+			s.body.Add(widget.NewSeparator())
+		}
+		r := newFigureRow(ind, unfinished)
+		s.rows[ind.ID] = r
+		s.body.Add(r.content)
+	}
+}
+
+// legend explains the rows' marks in words.
+func legend() fyne.CanvasObject {
+	l := widget.NewLabel("Each row: the value with its 95% interval; on the bar, the dot is the value, the shaded span the " +
+		"interval and the upright tick the target (a short tick the aim). Verdict shapes: filled circle meets the target, " +
+		"downward triangle below it, open circle too few cases to judge, square reported without a target.")
+	l.Wrapping = fyne.TextWrapWord
+	return l
+}
+
+func heading(text string) fyne.CanvasObject {
+	return widget.NewLabelWithStyle(text, fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
+}
+
+// groupedCount prints a count with thousands separated.
+func groupedCount(n int) string {
+	return report.FormatCases(report.Indicator{Kind: "count", Denominator: n})
+}
+
+// eligibilityPanel lists each eligibility threshold in words.
+func eligibilityPanel(e report.EligibilityFigures) fyne.CanvasObject {
+	box := container.NewVBox()
+	box.Add(para(fmt.Sprintf("Rule set: %s. Local minimum: %d cases behind a figure.", e.RuleSet, e.MinCases)))
+	for _, c := range e.Checks {
+		verdict := "not met"
+		switch {
+		case !c.EnoughCases:
+			verdict = fmt.Sprintf("too few cases to judge (%d of the %d needed)", c.Cases, c.MinCases)
+		case c.MetOnLowerLimit:
+			verdict = "met, and the lower 95% limit clears it too"
+		case c.MetOnValue:
+			verdict = "met on the figure, but the lower 95% limit falls short"
+		}
+		strategy := strings.ReplaceAll(c.Strategy, "_", " ")
+		line := para(fmt.Sprintf("%s – %s: %s %s from %s – %s",
+			strategy, c.Rule, report.FormatValue(c.Figure), report.FormatInterval(c.Figure), report.FormatCount(c.Figure), verdict))
+		if !c.EnoughCases {
+			line.Importance = widget.LowImportance
+		}
+		box.Add(line)
+	}
+	box.Add(para(fmt.Sprintf("Diminutive polyps that could have been discarded: %d; left in place: %d; pathology specimens that would have been saved: %d.",
+		e.DiscardEligible, e.LeaveEligible, e.SpecimensSaved)))
+	box.Add(para(fmt.Sprintf("Patients whose interval would change under optical diagnosis: %d compared, %d shorter, %d longer (the unsafe direction), %d outside the guideline.",
+		e.IntervalsCompared, e.IntervalShorter, e.IntervalLonger, e.IntervalOutside)))
+	return box
+}
+
+// para is a paragraph of text that wraps to its width.
+func para(text string) *widget.Label {
+	l := widget.NewLabel(text)
+	l.Wrapping = fyne.TextWrapWord
+	return l
+}
+
+// chartImage is one chart drawn as PNG.
+type chartImage struct {
+	name string
+	png  []byte
+	err  error
+}
+
+func (c chartImage) object() fyne.CanvasObject {
+	if c.err != nil {
+		l := widget.NewLabel(c.name + ": the chart could not be drawn: " + c.err.Error())
+		l.Wrapping = fyne.TextWrapWord
+		return l
+	}
+	img := canvas.NewImageFromResource(fyne.NewStaticResource(c.name+".png", c.png))
+	img.FillMode = canvas.ImageFillContain
+	img.SetMinSize(fyne.NewSize(600, 340))
+	return img
+}
+
+// offerStandards fills a picker with the standard profiles' titles, keeping
+// the current choice and starting from the unit's default standard.
+func (u *ui) offerStandards(pick *keySelect) {
+	var titles []string
+	def := 0
+	for i, p := range u.profiles {
+		titles = append(titles, p.Title)
+		if p.ID == u.settings.DefaultStandard {
+			def = i
+		}
+	}
+	sel := pick.SelectedIndex()
+	pick.SetOptions(titles)
+	if sel < 0 {
+		sel = def
+	}
+	pick.SetSelectedIndex(sel)
+}
