@@ -40,6 +40,7 @@ import (
 // with the first-run choices (a demo unit or an empty one).
 func Run(dbPath string) error {
 	a := fyneapp.NewWithID("org.polypledger.logbook")
+	useLazyFileWriters()
 	a.SetIcon(fyne.NewStaticResource("polypledger.png", assets.IconPNG()))
 	w := a.NewWindow("polypledger")
 	u := newUI(a, w, time.Now)
@@ -266,8 +267,9 @@ func (u *ui) openFile(exts []string, then func(path string)) {
 }
 
 // saveFile asks where to save a file, suggesting name in the database's
-// folder, and calls then with the path chosen. The dialog has made an
-// empty file there; then writes over it.
+// folder, and calls then with the path chosen. Nothing is written to the
+// chosen file here (see useLazyFileWriters): then writes it through
+// workspace.Output or store.Backup, which never replace a database.
 func (u *ui) saveFile(name string, then func(path string)) {
 	d := dialog.NewFileSave(func(w fyne.URIWriteCloser, err error) {
 		if err != nil || w == nil {

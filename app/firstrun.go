@@ -2,6 +2,7 @@ package app
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -41,7 +42,6 @@ func (u *ui) showFirstRun(path, problem string) {
 	fr.path.SetText(path)
 	choose := newButton("Choose another place…", func() {
 		u.saveFile(filepath.Base(path), func(p string) {
-			os.Remove(p) // the dialog creates the file; the store creates its own
 			fr.path.SetText(p)
 		})
 	})
@@ -174,20 +174,12 @@ func (fr *firstRun) makeDemo() {
 		return
 	}
 	fr.u.jobs.run("Making the demo unit", func(ctx context.Context, report progressFunc) error {
-		st, err := workspace.OpenStore(ctx, p, true)
-		if err != nil {
+		return createUnit(ctx, p, func(st *store.Store) error {
+			_, err := workspace.CreateDemo(ctx, st, n, 1, func(done int) {
+				report(float64(done)/float64(n), fmt.Sprintf("%d of %d invented cases", done, n))
+			})
 			return err
-		}
-		_, err = workspace.CreateDemo(ctx, st, n, 1, func(done int) {
-			report(float64(done)/float64(n), fmt.Sprintf("%d of %d invented cases", done, n))
 		})
-		if cerr := st.Close(); err == nil {
-			err = cerr
-		}
-		if err != nil {
-			removeDatabase(p)
-		}
-		return err
 	}, func(err error) {
 		switch {
 		case cancelled(err):
@@ -213,25 +205,19 @@ func (fr *firstRun) makeEmpty() {
 	}
 	roster := append([]logbook.RosterEntry(nil), fr.roster...)
 	fr.u.jobs.run("Creating the unit", func(ctx context.Context, progress progressFunc) error {
-		st, err := workspace.OpenStore(ctx, p, true)
-		if err != nil {
-			return err
-		}
-		s := store.DefaultSettings
-		s.UnitName = name
-		err = st.SaveSettings(ctx, s)
-		for _, r := range roster {
-			if err == nil {
-				err = st.SaveRosterEntry(ctx, r)
+		return createUnit(ctx, p, func(st *store.Store) error {
+			s := store.DefaultSettings
+			s.UnitName = name
+			if err := st.SaveSettings(ctx, s); err != nil {
+				return err
 			}
-		}
-		if cerr := st.Close(); err == nil {
-			err = cerr
-		}
-		if err != nil {
-			removeDatabase(p)
-		}
-		return err
+			for _, r := range roster {
+				if err := st.SaveRosterEntry(ctx, r); err != nil {
+					return err
+				}
+			}
+			return nil
+		})
 	}, func(err error) {
 		if err != nil {
 			showText(fr.problem, "The unit could not be created: "+err.Error())
@@ -241,10 +227,18 @@ func (fr *firstRun) makeEmpty() {
 	})
 }
 
-// removeDatabase deletes a database file this screen created and its
-// journals.
-func removeDatabase(path string) {
-	for _, suffix := range []string{"", "-wal", "-shm"} {
-		os.Remove(path + suffix)
+// createUnit makes a new database at path and fills it before it appears
+// there (store.Create): a failure or a cancel leaves no file, and nothing
+// at path is ever deleted or replaced — if a file appeared there meanwhile,
+// the unit is not made and the message says so.
+func createUnit(ctx context.Context, path string, fill func(*store.Store) error) error {
+	opt, err := workspace.StoreOptions(true)
+	if err != nil {
+		return err
 	}
+	err = store.Create(ctx, path, opt, fill)
+	if errors.Is(err, store.ErrExists) {
+		return fmt.Errorf("%s appeared while the unit was being made (another program?); it was left as it is, and nothing was made", path)
+	}
+	return err
 }

@@ -231,10 +231,9 @@ func (s *unitScreen) backup() {
 
 // backupTo writes the backup off the UI thread with a progress window.
 func (s *unitScreen) backupTo(path string) {
-	removeDatabase(path) // the save dialog created an empty file; Backup wants a new name
 	s.u.jobs.run("Backing up the database", func(ctx context.Context, progress progressFunc) error {
 		progress(-1, "Copying to "+path)
-		return s.u.st.Backup(ctx, path, false)
+		return s.u.st.Backup(ctx, path, true)
 	}, func(err error) {
 		if err != nil {
 			s.message.SetText("Backup failed: " + err.Error())
