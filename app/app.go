@@ -217,6 +217,15 @@ func (u *ui) showMain() {
 	}
 	u.tabs.SelectIndex(start)
 	u.tabShown(start)
+	u.warnAboutKey()
+}
+
+// warnAboutKey says so, with the command that fixes it, when the unit key
+// or its folder can be read by other users of this computer.
+func (u *ui) warnAboutKey() {
+	if w := workspace.KeyWarnings(); len(w) > 0 {
+		dialog.ShowInformation("The unit key is open to others", strings.Join(w, "\n\n"), u.win)
+	}
 }
 
 // mainMenu is the window's menu: File (open another database, import a

@@ -10,8 +10,10 @@ import (
 	"strings"
 	"testing"
 
+	"fyne.io/fyne/v2/canvas"
 	"fyne.io/fyne/v2/storage"
 	"fyne.io/fyne/v2/test"
+	"fyne.io/fyne/v2/widget"
 
 	"polypledger/store"
 )
@@ -116,5 +118,32 @@ func TestNewUnitNeverDeletesAFile(t *testing.T) {
 	}
 	if b, _ := os.ReadFile(other); string(b) != "another program's file" {
 		t.Errorf("the existing file now holds %q", b)
+	}
+}
+
+// TestKeyOpenToOthersIsShown opens the app with a configuration folder any
+// user may read: a window says so, naming the fix.
+func TestKeyOpenToOthersIsShown(t *testing.T) {
+	u := newTestUI(t, 0)
+	dir := os.Getenv("POLYPLEDGER_HOME")
+	if err := os.Chmod(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	u.showMain()
+	top := u.win.Canvas().Overlays().Top()
+	if top == nil {
+		t.Fatal("no warning shown for a key folder open to others")
+	}
+	var text []string
+	for _, o := range test.LaidOutObjects(top) {
+		switch x := o.(type) {
+		case *widget.Label:
+			text = append(text, x.Text)
+		case *canvas.Text:
+			text = append(text, x.Text)
+		}
+	}
+	if joined := strings.Join(text, " "); !strings.Contains(joined, "chmod") {
+		t.Errorf("the warning does not say how to fix it: %q", joined)
 	}
 }
