@@ -2,6 +2,7 @@ package app
 
 import (
 	"context"
+	"os"
 	"path/filepath"
 	"testing"
 	"time"
@@ -21,6 +22,11 @@ func fixedNow() time.Time { return time.Date(2026, 11, 15, 10, 0, 0, 0, time.UTC
 func newTestUI(t *testing.T, demoCases int) *ui {
 	t.Helper()
 	dir := t.TempDir()
+	// Owner-only, as the program makes its configuration folder; a folder
+	// open to others brings up a warning window (TestKeyOpenToOthersIsShown).
+	if err := os.Chmod(dir, 0o700); err != nil {
+		t.Fatal(err)
+	}
 	t.Setenv("POLYPLEDGER_HOME", dir)
 	a := test.NewTempApp(t)
 	w := a.NewWindow("test")

@@ -41,10 +41,10 @@ func useLazyFileWriters() {
 
 var errNotSupported = errors.New("the file repository does not support this")
 
-func (l *lazyFiles) Exists(u fyne.URI) (bool, error)              { return l.inner.Exists(u) }
+func (l *lazyFiles) Exists(u fyne.URI) (bool, error)               { return l.inner.Exists(u) }
 func (l *lazyFiles) Reader(u fyne.URI) (fyne.URIReadCloser, error) { return l.inner.Reader(u) }
-func (l *lazyFiles) CanRead(u fyne.URI) (bool, error)             { return l.inner.CanRead(u) }
-func (l *lazyFiles) Destroy(scheme string)                        { l.inner.Destroy(scheme) }
+func (l *lazyFiles) CanRead(u fyne.URI) (bool, error)              { return l.inner.CanRead(u) }
+func (l *lazyFiles) Destroy(scheme string)                         { l.inner.Destroy(scheme) }
 
 // Writer returns a writer that opens (creates or empties) u only when
 // first written to.
