@@ -9,22 +9,23 @@ import (
 	"strings"
 	"time"
 
+	"polypledger/audit"
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/store"
+	"polypledger/surveillance"
 	"polypledger/workspace"
 )
 
 // loadProfiles reads the shipped standard profiles and the user's own copies
 // from the config folder's "standards" subfolder.
-func loadProfiles() ([]*report.Profile, error) { return workspace.LoadProfiles() }
+func loadProfiles() ([]*audit.Profile, error) { return workspace.LoadProfiles() }
 
 // auditSetup is what the metrics, report and interval commands share: the
 // open database (read-only), its settings and the chosen profile.
 type auditSetup struct {
 	st       *store.Store
 	settings store.Settings
-	profile  *report.Profile
+	profile  *audit.Profile
 }
 
 func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
@@ -56,7 +57,7 @@ func (a *auditSetup) shared() *workspace.Audit {
 	return &workspace.Audit{Store: a.st, Settings: a.settings, Profile: a.profile}
 }
 
-func (a *auditSetup) guideline(flagValue string) (report.Guideline, error) {
+func (a *auditSetup) guideline(flagValue string) (surveillance.Guideline, error) {
 	gl, err := a.shared().Guideline(flagValue)
 	if errors.Is(err, workspace.ErrUnknownGuideline) {
 		return "", usagef("--guideline: %v", err)
@@ -97,7 +98,7 @@ func cmdInterval(ctx context.Context, e *env, args []string) error {
 	}
 	var rows []row
 	add := func(c *logbook.Case) error {
-		s := report.Suggest(g, c)
+		s := surveillance.Suggest(g, c)
 		rows = append(rows, row{ProcedureID: c.ID, Guideline: string(s.Guideline), Interval: s.Interval, Reasons: s.Reasons, Caution: s.Caution})
 		return nil
 	}
@@ -121,7 +122,7 @@ func cmdInterval(ctx context.Context, e *env, args []string) error {
 	return writeIntervalText(e.stdout, g, rows, func(r row) (string, logbook.Interval, []string) { return r.ProcedureID, r.Interval, r.Reasons })
 }
 
-func writeIntervalText[T any](w io.Writer, g report.Guideline, rows []T, fields func(T) (string, logbook.Interval, []string)) error {
+func writeIntervalText[T any](w io.Writer, g surveillance.Guideline, rows []T, fields func(T) (string, logbook.Interval, []string)) error {
 	fmt.Fprintf(w, "Suggested surveillance intervals under %s (%s)\n\n", g, g.Title())
 	for _, r := range rows {
 		id, iv, reasons := fields(r)
@@ -130,13 +131,13 @@ func writeIntervalText[T any](w io.Writer, g report.Guideline, rows []T, fields 
 			fmt.Fprintf(w, "    - %s\n", why)
 		}
 	}
-	fmt.Fprintf(w, "\n%s\n", strings.TrimSpace(report.IntervalCaution(g)))
+	fmt.Fprintf(w, "\n%s\n", strings.TrimSpace(surveillance.IntervalCaution(g)))
 	return nil
 }
 
 // computeMetrics streams the period's cases once through the indicator
 // engine.
-func (a *auditSetup) computeMetrics(ctx context.Context, from, to time.Time, g report.Guideline) (report.MetricsResult, error) {
+func (a *auditSetup) computeMetrics(ctx context.Context, from, to time.Time, g surveillance.Guideline) (audit.MetricsResult, error) {
 	return a.shared().ComputeMetrics(ctx, from, to, g)
 }
 
@@ -175,7 +176,7 @@ func cmdMetrics(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	if *operator != "" {
-		var keep []report.OperatorResult
+		var keep []audit.OperatorResult
 		for _, op := range res.Operators {
 			if op.OperatorID == *operator {
 				keep = append(keep, op)
@@ -191,5 +192,5 @@ func cmdMetrics(ctx context.Context, e *env, args []string) error {
 		enc.SetIndent("", "  ")
 		return enc.Encode(res)
 	}
-	return report.WriteTable(e.stdout, res)
+	return audit.WriteTable(e.stdout, res)
 }

@@ -10,8 +10,10 @@ import (
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/widget"
 
+	"polypledger/audit"
 	"polypledger/logbook"
 	"polypledger/report"
+	"polypledger/surveillance"
 	"polypledger/workspace"
 )
 
@@ -191,7 +193,7 @@ func (s *figuresScreen) compute() {
 }
 
 // indicatorsOf returns the indicators of a population from the figures.
-func indicatorsOf(figs workspace.Figures, pop workspace.Population) ([]report.Indicator, bool) {
+func indicatorsOf(figs workspace.Figures, pop workspace.Population) ([]audit.Indicator, bool) {
 	m := figs.Data.Metrics
 	switch {
 	case pop.TraineeID != "":
@@ -220,7 +222,7 @@ func isOpticalID(id string) bool {
 }
 
 // display lays out the rows, charts and panels, from the top.
-func (s *figuresScreen) display(figs workspace.Figures, prof *report.Profile, pop workspace.Population, charts []chartImage) {
+func (s *figuresScreen) display(figs workspace.Figures, prof *audit.Profile, pop workspace.Population, charts []chartImage) {
 	s.body.RemoveAll()
 	s.rows = map[string]*figureRow{}
 	s.scroll.ScrollToTop()
@@ -228,7 +230,7 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *report.Profile, po
 	period := figs.Data.Metrics.From + " to " + figs.Data.Metrics.To
 	s.shownFor = fmt.Sprintf("%s, %s, %s", who, period, prof.Title)
 	from, to, _ := s.period.read()
-	unfinished := report.PeriodUnfinished(to, s.u.today())
+	unfinished := audit.PeriodUnfinished(to, s.u.today())
 	s.status.Hide()
 	if unfinished {
 		s.status.SetText(fmt.Sprintf("This period ends on %s, after today: cases are still being added, so every figure may change and every verdict is provisional. "+
@@ -249,11 +251,11 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *report.Profile, po
 		return
 	}
 	s.message.SetText(fmt.Sprintf("%s  ·  %s procedures of the unit in the period", s.shownFor, groupedCount(figs.Cases)))
-	s.body.Add(cautionBox(report.AuditCaution()))
+	s.body.Add(cautionBox(audit.AuditCaution()))
 	s.body.Add(legend())
 
-	var main, optical []report.Indicator
-	var adherence []report.Indicator
+	var main, optical []audit.Indicator
+	var adherence []audit.Indicator
 	for _, ind := range inds {
 		switch {
 		case ind.ID == "interval_adherence":
@@ -280,20 +282,20 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *report.Profile, po
 		if detail.Optical != nil {
 			s.body.Add(eligibilityPanel(detail.Optical.Eligibility))
 		}
-		s.body.Add(cautionBox(report.EligibilityCaution()))
+		s.body.Add(cautionBox(audit.EligibilityCaution()))
 		s.body.Add(heading("Surveillance intervals under " + figs.Guideline.Title()))
 		s.addRows(adherence, unfinished)
-		s.body.Add(cautionBox(report.IntervalCaution(figs.Guideline)))
+		s.body.Add(cautionBox(surveillance.IntervalCaution(figs.Guideline)))
 	}
 }
 
 // addGroups adds the indicators under the report's group headings.
-func (s *figuresScreen) addGroups(inds []report.Indicator, unfinished bool) {
+func (s *figuresScreen) addGroups(inds []audit.Indicator, unfinished bool) {
 	used := map[string]bool{}
 	for _, g := range report.IndicatorGroups() {
-		var group []report.Indicator
+		var group []audit.Indicator
 		for _, id := range g.IDs {
-			if ind, ok := report.Find(inds, id); ok {
+			if ind, ok := audit.Find(inds, id); ok {
 				group = append(group, ind)
 				used[id] = true
 			}
@@ -303,7 +305,7 @@ func (s *figuresScreen) addGroups(inds []report.Indicator, unfinished bool) {
 			s.addRows(group, unfinished)
 		}
 	}
-	var rest []report.Indicator
+	var rest []audit.Indicator
 	for _, ind := range inds {
 		if !used[ind.ID] {
 			rest = append(rest, ind)
@@ -316,7 +318,7 @@ func (s *figuresScreen) addGroups(inds []report.Indicator, unfinished bool) {
 }
 
 // addRows adds one row per indicator with a line between rows.
-func (s *figuresScreen) addRows(inds []report.Indicator, unfinished bool) {
+func (s *figuresScreen) addRows(inds []audit.Indicator, unfinished bool) {
 	for i, ind := range inds {
 		if i > 0 {
 			s.body.Add(widget.NewSeparator())
@@ -342,11 +344,11 @@ func heading(text string) fyne.CanvasObject {
 
 // groupedCount prints a count with thousands separated.
 func groupedCount(n int) string {
-	return report.FormatCases(report.Indicator{Kind: "count", Denominator: n})
+	return audit.FormatCases(audit.Indicator{Kind: "count", Denominator: n})
 }
 
 // eligibilityPanel lists each eligibility threshold in words.
-func eligibilityPanel(e report.EligibilityFigures) fyne.CanvasObject {
+func eligibilityPanel(e audit.EligibilityFigures) fyne.CanvasObject {
 	box := container.NewVBox()
 	box.Add(para(fmt.Sprintf("Rule set: %s. Local minimum: %d cases behind a figure.", e.RuleSet, e.MinCases)))
 	for _, c := range e.Checks {
@@ -361,7 +363,7 @@ func eligibilityPanel(e report.EligibilityFigures) fyne.CanvasObject {
 		}
 		strategy := strings.ReplaceAll(c.Strategy, "_", " ")
 		line := para(fmt.Sprintf("%s – %s: %s %s from %s – %s",
-			strategy, c.Rule, report.FormatValue(c.Figure), report.FormatInterval(c.Figure), report.FormatCount(c.Figure), verdict))
+			strategy, c.Rule, audit.FormatValue(c.Figure), audit.FormatInterval(c.Figure), audit.FormatCount(c.Figure), verdict))
 		if !c.EnoughCases {
 			line.Importance = widget.LowImportance
 		}

@@ -11,6 +11,7 @@ import (
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/widget"
 
+	"polypledger/audit"
 	"polypledger/logbook"
 	"polypledger/report"
 	"polypledger/workspace"
@@ -72,7 +73,7 @@ func newReportScreen(u *ui) *reportScreen {
 		"from the trainee's first case. Reports of a period not yet over say that their verdicts are provisional.")
 	note.Wrapping = fyne.TextWrapWord
 	body := container.NewVBox(heading("Make a PDF report"), form, container.NewHBox(r.make), r.result,
-		container.NewHBox(r.openBtn), note, cautionBox(report.AuditCaution()))
+		container.NewHBox(r.openBtn), note, cautionBox(audit.AuditCaution()))
 	r.content = container.NewVScroll(container.NewPadded(body))
 	return r
 }
@@ -127,7 +128,7 @@ func (r *reportScreen) refreshPeople() {
 }
 
 // request reads the screen's choices.
-func (r *reportScreen) request() (workspace.ReportRequest, *report.Profile, error) {
+func (r *reportScreen) request() (workspace.ReportRequest, *audit.Profile, error) {
 	from, to, err := r.period.read()
 	if err != nil {
 		return workspace.ReportRequest{}, nil, err

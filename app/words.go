@@ -1,8 +1,8 @@
 package app
 
 import (
+	"polypledger/audit"
 	"polypledger/logbook"
-	"polypledger/report"
 )
 
 // The plain words the screens use for each stored code. The codes stay as
@@ -48,9 +48,9 @@ var incompleteWords = map[logbook.IncompleteReason]string{
 // supervisionWords are the report's own words for the supervision levels,
 // so that screens and reports say the same.
 var supervisionWords = map[logbook.Supervision]string{
-	logbook.Independent:        report.SupervisionWords(logbook.Independent),
-	logbook.SupervisedHandsOn:  report.SupervisionWords(logbook.SupervisedHandsOn),
-	logbook.SupervisedObserved: report.SupervisionWords(logbook.SupervisedObserved),
+	logbook.Independent:        audit.SupervisionWords(logbook.Independent),
+	logbook.SupervisedHandsOn:  audit.SupervisionWords(logbook.SupervisedHandsOn),
+	logbook.SupervisedObserved: audit.SupervisionWords(logbook.SupervisedObserved),
 }
 
 var adverseWords = map[logbook.AdverseEvent]string{

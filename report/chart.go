@@ -6,6 +6,7 @@ import (
 	"image/color"
 	"image/png"
 	"math"
+	"polypledger/audit"
 
 	xfont "golang.org/x/image/font"
 	"gonum.org/v1/plot"
@@ -168,16 +169,16 @@ type mark struct {
 // verdictMark is the mark of a verdict: a filled circle meets the target, a
 // downward triangle is below it, an open circle has too few cases to judge
 // and a filled square is reported without a target.
-func verdictMark(s Status) mark {
+func verdictMark(s audit.Status) mark {
 	switch s {
-	case Meets:
+	case audit.Meets:
 		return mark{draw.CircleGlyph{}, shadeBlue, s.Words()}
-	case Below:
+	case audit.Below:
 		return mark{downTriangle{}, shadeVermilion, s.Words()}
-	case TooFew:
+	case audit.TooFew:
 		return mark{thickRing{}, shadeGrey, s.Words()}
 	}
-	return mark{draw.BoxGlyph{}, shadeBlack, Reported.Words()}
+	return mark{draw.BoxGlyph{}, shadeBlack, audit.Reported.Words()}
 }
 
 // chartFont is the chart typeface (Liberation Sans, shipped with the
@@ -459,7 +460,7 @@ func (countTicks) Ticks(lo, hi float64) []plot.Tick {
 			continue
 		}
 		if t.Label != "" {
-			t.Label = groupThousands(int64(t.Value))
+			t.Label = audit.GroupThousands(int64(t.Value))
 		}
 		out = append(out, t)
 	}
@@ -487,17 +488,17 @@ func (cv curve) Plot(c draw.Canvas, p *plot.Plot) {
 
 // axisScale is how an indicator's values are drawn: the factor from the
 // stored value to the axis and the axis unit.
-func axisScale(ind Indicator) (factor float64, unit string) {
+func axisScale(ind audit.Indicator) (factor float64, unit string) {
 	switch ind.Kind {
-	case KindMean:
+	case audit.KindMean:
 		return 1, "minutes"
-	case KindRatio, "kappa":
+	case audit.KindRatio, "kappa":
 		return 1, ""
-	case KindMedian:
-		return 1, doseUnit(ind.ID)
-	case KindPerYear:
+	case audit.KindMedian:
+		return 1, audit.DoseUnit(ind.ID)
+	case audit.KindPerYear:
 		return 1, "per year"
-	case KindDifference:
+	case audit.KindDifference:
 		return 100, "percentage points"
 	}
 	if ind.Scale > 0 {
@@ -510,7 +511,7 @@ func axisScale(ind Indicator) (factor float64, unit string) {
 // values ("per cent", "minutes"), for a vertical axis whose chart title
 // already names the indicator: a long rotated label would squeeze the
 // data area of a short chart.
-func axisUnit(ind Indicator) string {
+func axisUnit(ind audit.Indicator) string {
 	_, unit := axisScale(ind)
 	switch unit {
 	case "%":
@@ -522,12 +523,12 @@ func axisUnit(ind Indicator) string {
 }
 
 // axisTitle is an indicator's axis label with its unit.
-func axisTitle(id string, ind Indicator) string {
+func axisTitle(id string, ind audit.Indicator) string {
 	_, unit := axisScale(ind)
 	if unit == "" {
-		return IndicatorTitle(id)
+		return audit.IndicatorTitle(id)
 	}
-	return IndicatorTitle(id) + " (" + unit + ")"
+	return audit.IndicatorTitle(id) + " (" + unit + ")"
 }
 
 // span tracks the range of values a chart must show.

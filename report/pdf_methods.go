@@ -2,8 +2,9 @@ package report
 
 import (
 	"fmt"
+	"polypledger/audit"
+	"polypledger/surveillance"
 	"sort"
-	"strings"
 )
 
 // indicatorDefinitions state how each figure is counted, in the words of
@@ -67,7 +68,7 @@ func (d *doc) methods() {
 	}
 	d.para(fmt.Sprintf("Detection-eligible procedures: %s; indication %s; exclusion %s. Stool-test-positive population: "+
 		"indication stool_test_positive, age %d or over, exclusion %s. Minimum cases for a verdict: %d.",
-		age, codeList(e.Indications), codeList(e.Exclusions), p.StoolTest.MinAge, codeList(p.StoolTest.Exclusions), p.MinCases))
+		age, audit.CodeList(e.Indications), audit.CodeList(e.Exclusions), p.StoolTest.MinAge, audit.CodeList(p.StoolTest.Exclusions), p.MinCases))
 	ids := make([]string, 0, len(p.Targets))
 	for id := range p.Targets {
 		ids = append(ids, id)
@@ -76,8 +77,8 @@ func (d *doc) methods() {
 	var rows [][]string
 	for _, id := range ids {
 		t := p.Targets[id]
-		ind := Indicator{ID: id}
-		ind.Kind, _ = indicatorKind(id)
+		ind := audit.Indicator{ID: id}
+		ind.Kind, _ = audit.IndicatorKind(id)
 		if ind.Kind == "proportion" {
 			ind.Kind = ""
 		}
@@ -89,18 +90,18 @@ func (d *doc) methods() {
 		ask := ""
 		switch {
 		case t.Minimum != nil:
-			ask = targetSign(false, t.Strict) + " " + valueText(ind, t.Minimum)
+			ask = audit.TargetSign(false, t.Strict) + " " + audit.ValueText(ind, t.Minimum)
 		case t.Maximum != nil:
-			ask = targetSign(true, t.Strict) + " " + valueText(ind, t.Maximum)
+			ask = audit.TargetSign(true, t.Strict) + " " + audit.ValueText(ind, t.Maximum)
 		}
-		if u := doseUnit(id); u != "" && ask != "" {
+		if u := audit.DoseUnit(id); u != "" && ask != "" {
 			ask += " " + u
 		}
 		aim := ""
 		if t.Aspirational != nil {
-			aim = valueText(ind, t.Aspirational)
+			aim = audit.ValueText(ind, t.Aspirational)
 		}
-		rows = append(rows, []string{IndicatorTitle(id), ask, aim, t.Source})
+		rows = append(rows, []string{audit.IndicatorTitle(id), ask, aim, t.Source})
 	}
 	if len(rows) > 0 {
 		d.subheading("Targets this profile sets", 20)
@@ -140,14 +141,14 @@ func (d *doc) methods() {
 	}
 
 	d.subheading("Optical diagnosis and surveillance sources", 30)
-	d.definition("PIVI", PIVISource)
+	d.definition("PIVI", audit.PIVISource)
 	d.definition("ESGE 2019", "Bisschops R et al., Endoscopy 2019;51:1155–1179, recommendation 4: optical diagnosis may replace histology for diminutive polyps only under strictly controlled conditions; it sets no numeric threshold.")
-	if in.Eligibility.withDefaults().RuleSet == RuleSetESGE2022 {
+	if in.Eligibility.WithDefaults().RuleSet == audit.RuleSetESGE2022 {
 		d.definition("ESGE 2022", "Sensitivity and specificity for adenoma of high-confidence calls: for diagnose-and-leave over "+
 			"diminutive rectosigmoid polyps only (at least 80% and 90%), for resect-and-discard over diminutive polyps anywhere "+
-			"(at least 80% and 80%). "+ESGE2022Source)
+			"(at least 80% and 80%). "+audit.ESGE2022Source)
 	}
-	for _, g := range Guidelines {
+	for _, g := range surveillance.Guidelines {
 		mark := ""
 		if g == in.Guideline {
 			mark = " (used in this report)"
@@ -171,7 +172,7 @@ func (d *doc) methods() {
 
 	d.subheading("Privacy and cautions", 20)
 	d.para("The report carries procedure ids and patient short codes (derived from a keyed pseudonym) only; no patient name " +
-		"or hospital number is stored or printed. " + AuditCaution() + " " + EligibilityCaution())
+		"or hospital number is stored or printed. " + audit.AuditCaution() + " " + audit.EligibilityCaution())
 	if in.Kind == PersonalReport {
 		d.para("In this personal report every other endoscopist is shown only as an anonymous peer, numbered by procedure volume.")
 	}
@@ -187,10 +188,7 @@ func (d *doc) definition(term, text string) {
 	if w > 70 {
 		w = 70
 	}
-	label := strings.ReplaceAll(term, "_", " ")
-	if t, ok := indicatorTitles[term]; ok {
-		label = t
-	}
+	label := audit.IndicatorTitle(term)
 	d.pdf.SetFont("go", "B", 8)
 	d.pdf.MultiCell(contentW, 3.7, label, "", "L", false)
 	d.pdf.SetFont("go", "", 8)

@@ -4,19 +4,21 @@ import (
 	"context"
 	"time"
 
+	"polypledger/audit"
 	"polypledger/logbook"
 	"polypledger/report"
 	"polypledger/store"
+	"polypledger/surveillance"
 )
 
 // Figures is everything a screen of figures or a report shows for one
-// period, computed in one streaming pass (report.ReportPass): the
+// period, computed in one streaming pass (audit.ReportPass): the
 // indicators of the unit and every operator with the optical-diagnosis and
 // interval figures, the quarterly trends, every trainee's progress and the
 // data completeness.
 type Figures struct {
-	Guideline report.Guideline
-	Data      report.ReportData
+	Guideline surveillance.Guideline
+	Data      audit.ReportData
 	// Cases is how many procedures of the period were read.
 	Cases int
 }
@@ -30,7 +32,7 @@ const progressEvery = 5000
 // curve runs from the trainee's first case. progress, when set, is called
 // with the number of cases read so far every few thousand cases;
 // cancelling ctx stops the pass.
-func (a *Audit) ComputeFigures(ctx context.Context, from, to time.Time, g report.Guideline, progress func(cases int)) (Figures, error) {
+func (a *Audit) ComputeFigures(ctx context.Context, from, to time.Time, g surveillance.Guideline, progress func(cases int)) (Figures, error) {
 	roster, err := a.Store.Roster(ctx)
 	if err != nil {
 		return Figures{}, err
@@ -59,9 +61,9 @@ func (a *Audit) ReportFigures(ctx context.Context, req ReportRequest, progress f
 
 // figures feeds the cases selected by f to a report pass over from–to, and
 // then the cases of each of trainees before from.
-func (a *Audit) figures(ctx context.Context, f store.CaseFilter, from, to time.Time, g report.Guideline, trainees []string,
+func (a *Audit) figures(ctx context.Context, f store.CaseFilter, from, to time.Time, g surveillance.Guideline, trainees []string,
 	progress func(cases int)) (Figures, error) {
-	pass, err := report.NewReportPass(a.Profile, report.ReportPassOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
+	pass, err := audit.NewReportPass(a.Profile, audit.ReportPassOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
 	if err != nil {
 		return Figures{}, err
 	}

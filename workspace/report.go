@@ -7,6 +7,7 @@ import (
 
 	"polypledger/assets"
 	"polypledger/report"
+	"polypledger/surveillance"
 )
 
 // ReportRequest is what a PDF report is made for.
@@ -16,7 +17,7 @@ type ReportRequest struct {
 	// trainee logbook ("" for the unit audit).
 	SubjectID string
 	From, To  time.Time
-	Guideline report.Guideline
+	Guideline surveillance.Guideline
 	// Now is the generation time printed on the cover.
 	Now time.Time
 }
