@@ -3,6 +3,7 @@ package audit
 import (
 	"testing"
 
+	"polypledger/internal/fx"
 	"polypledger/logbook"
 	"polypledger/surveillance"
 )
@@ -20,17 +21,17 @@ func TestAdherence(t *testing.T) {
 		p.Extent, p.IncompleteReason, p.RecommendedInterval = logbook.ExtentIncomplete, logbook.ReasonPoorPrep, logbook.IntervalRepeat
 	}
 	cases := []*logbook.Case{
-		fxTweak(fxCase("A1"), recommended("10y")),                                     // computed 10y (USMSTF) / screening (ESGE)
-		fxTweak(fxCase("A2", fxLesion(1, hTA, 4)), recommended("5-10y")),              // computed 7-10y (USMSTF) / screening (ESGE)
-		fxTweak(fxCase("A3"), incomplete),                                             // computed repeat under both
-		fxCase("A4", fxLesion(1, hTA, 12)),                                            // no recommendation: not counted
-		fxTweak(fxCase("A5", fxLesion(1, hTA, 12)), recommended("3y")),                // computed 3y under both
-		fxTweak(fxCase("A6", fxLesion(1, "", 7, fxAwaiting)), recommended("3y")),      // computed pending: left out
-		fxTweak(fxCase("A7", fxLesion(1, "", 9, fxAwaiting)), recommended("pending")), // computed pending: left out, even recorded so
+		fx.Tweak(fx.Case("A1"), recommended("10y")),                                       // computed 10y (USMSTF) / screening (ESGE)
+		fx.Tweak(fx.Case("A2", fx.Lesion(1, fx.TA, 4)), recommended("5-10y")),             // computed 7-10y (USMSTF) / screening (ESGE)
+		fx.Tweak(fx.Case("A3"), incomplete),                                               // computed repeat under both
+		fx.Case("A4", fx.Lesion(1, fx.TA, 12)),                                            // no recommendation: not counted
+		fx.Tweak(fx.Case("A5", fx.Lesion(1, fx.TA, 12)), recommended("3y")),               // computed 3y under both
+		fx.Tweak(fx.Case("A6", fx.Lesion(1, "", 7, fx.Awaiting)), recommended("3y")),      // computed pending: left out
+		fx.Tweak(fx.Case("A7", fx.Lesion(1, "", 9, fx.Awaiting)), recommended("pending")), // computed pending: left out, even recorded so
 		// A cancer beside a pending lesion is outside, not pending: counted.
-		fxTweak(fxCase("A8", fxLesion(1, hCA, 20), fxLesion(2, "", 5, fxAwaiting)), recommended("outside")),
+		fx.Tweak(fx.Case("A8", fx.Lesion(1, fx.CA, 20), fx.Lesion(2, "", 5, fx.Awaiting)), recommended("outside")),
 		// No specimen: read as a 4 mm tubular adenoma, so counted.
-		fxTweak(fxCase("A9", fxLesion(1, "", 4, notRetrieved)), recommended("7-10y")), // 7-10y (USMSTF) / screening (ESGE)
+		fx.Tweak(fx.Case("A9", fx.Lesion(1, "", 4, fx.NotRetrieved)), recommended("7-10y")), // 7-10y (USMSTF) / screening (ESGE)
 	}
 	tests := []struct {
 		g          surveillance.Guideline
@@ -47,7 +48,7 @@ func TestAdherence(t *testing.T) {
 	for _, tc := range tests {
 		a := NewAdherenceJudged(tc.g, nil, 0)
 		for _, c := range cases {
-			checkValid(t, c)
+			fx.Valid(t, c)
 			a.Add(c)
 		}
 		inds := a.Indicators()

@@ -6,6 +6,7 @@ import (
 	"testing"
 	"time"
 
+	"polypledger/internal/fx"
 	"polypledger/logbook"
 	"polypledger/surveillance"
 )
@@ -79,22 +80,11 @@ func BenchmarkMetrics(b *testing.B) {
 // BenchmarkOpticalAuditAdd measures the optical accumulator per case
 // (lesion tables, PIVI 2 and both PIVI 1 intervals).
 func BenchmarkOpticalAuditAdd(b *testing.B) {
-	c := benchCase()
-	c.Lesions[3].SentToPathology, c.Lesions[3].Histology, c.Lesions[3].Dysplasia = logbook.Yes, hTA, logbook.DysplasiaLow
+	c := fx.Typical()
+	c.Lesions[3].SentToPathology, c.Lesions[3].Histology, c.Lesions[3].Dysplasia = logbook.Yes, fx.TA, logbook.DysplasiaLow
 	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
 	b.ReportAllocs()
 	for b.Loop() {
 		a.Add(c)
 	}
-}
-
-// benchCase is a typical polyp-bearing procedure: four lesions, one read by
-// its optical call.
-func benchCase() *logbook.Case {
-	return fxCase("BENCH",
-		fxLesion(1, hTA, 4, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence), fxImaging(logbook.NBI)),
-		fxLesion(2, hHP, 3, fxAt(logbook.Rectum), fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence), fxImaging(logbook.NBI)),
-		fxLesion(3, hSSL, 12, fxAt(logbook.Transverse), fxCall(logbook.OpticalSSL, logbook.LowConfidence), fxImaging(logbook.WhiteLight)),
-		fxLesion(4, "", 2, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence), fxDiscarded),
-	)
 }

@@ -4,6 +4,7 @@ import (
 	"strings"
 	"testing"
 
+	"polypledger/internal/fx"
 	"polypledger/logbook"
 	"polypledger/stats"
 	"polypledger/surveillance"
@@ -35,8 +36,8 @@ func TestEligibilitySettings(t *testing.T) {
 func diminutiveHP(prefix string, n int, h logbook.Histology) []*logbook.Case {
 	out := make([]*logbook.Case, n)
 	for i := range out {
-		out[i] = fxCase(prefix+string(rune('A'+i%26))+string(rune('a'+i/26)),
-			fxLesion(1, h, 3, fxAt(logbook.Rectum), fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence)))
+		out[i] = fx.Case(prefix+string(rune('A'+i%26))+string(rune('a'+i/26)),
+			fx.Lesion(1, h, 3, fx.At(logbook.Rectum), fx.Call(logbook.OpticalHyperplastic, logbook.HighConfidence)))
 	}
 	return out
 }
@@ -55,7 +56,7 @@ func TestEligibilityPIVI(t *testing.T) {
 	}
 	for _, tc := range tests {
 		a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
-		for _, c := range diminutiveHP("H", tc.n, hHP) {
+		for _, c := range diminutiveHP("H", tc.n, fx.HP) {
 			a.Add(c)
 		}
 		e := a.Detail().Eligibility
@@ -90,7 +91,7 @@ func TestEligibilityPIVI(t *testing.T) {
 	// 36 of 40 not adenoma: NPV 0.90 exactly meets on value; Wilson lower
 	// limit of 36/40 is 0.7695, below.
 	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
-	for _, c := range append(diminutiveHP("N", 36, hHP), diminutiveHP("Y", 4, hTA)...) {
+	for _, c := range append(diminutiveHP("N", 36, fx.HP), diminutiveHP("Y", 4, fx.TA)...) {
 		a.Add(c)
 	}
 	c := a.Detail().Eligibility.Checks[1]
@@ -174,19 +175,19 @@ func TestCautions(t *testing.T) {
 // TestDiscardAndLeaveCounts: discard needs a polypectomy; leave does not;
 // a specimen is saved only where one was sent.
 func TestDiscardAndLeaveCounts(t *testing.T) {
-	hiAd := fxCall(logbook.OpticalAdenoma, logbook.HighConfidence)
-	c := fxCase("D1",
-		fxLesion(1, hTA, 4, hiAd, fxRes(logbook.BiopsyOnly)),           // biopsy only: not a discard
-		fxLesion(2, hTA, 4, hiAd, fxRes(logbook.ColdForceps)),          // discard, sent: saved
-		fxLesion(3, "", 4, hiAd, fxRes(logbook.HotSnare), fxDiscarded), // discard, not sent
-		fxLesion(4, "", 3, fxAt(logbook.Sigmoid), fxRes(logbook.ResectionNone), fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence),
+	hiAd := fx.Call(logbook.OpticalAdenoma, logbook.HighConfidence)
+	c := fx.Case("D1",
+		fx.Lesion(1, fx.TA, 4, hiAd, fx.Res(logbook.BiopsyOnly)),          // biopsy only: not a discard
+		fx.Lesion(2, fx.TA, 4, hiAd, fx.Res(logbook.ColdForceps)),         // discard, sent: saved
+		fx.Lesion(3, "", 4, hiAd, fx.Res(logbook.HotSnare), fx.Discarded), // discard, not sent
+		fx.Lesion(4, "", 3, fx.At(logbook.Sigmoid), fx.Res(logbook.ResectionNone), fx.Call(logbook.OpticalHyperplastic, logbook.HighConfidence),
 			func(l *logbook.Lesion) {
 				l.Retrieved, l.SentToPathology, l.Histology, l.Dysplasia = logbook.No, logbook.No, "", ""
 			}), // leave, not sent
-		fxLesion(5, hHP, 3, fxAt(logbook.Descending), fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence)), // not rectosigmoid: discard, saved
-		fxLesion(6, hTA, 6, hiAd), // 6 mm: neither
+		fx.Lesion(5, fx.HP, 3, fx.At(logbook.Descending), fx.Call(logbook.OpticalHyperplastic, logbook.HighConfidence)), // not rectosigmoid: discard, saved
+		fx.Lesion(6, fx.TA, 6, hiAd), // 6 mm: neither
 	)
-	checkValid(t, c)
+	fx.Valid(t, c)
 	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
 	a.Add(c)
 	e := a.Detail().Eligibility

@@ -1,6 +1,7 @@
 package audit
 
 import (
+	"math"
 	"testing"
 	"time"
 
@@ -209,3 +210,5 @@ func lTattoo(y logbook.YesNo) func(*logbook.Lesion) {
 func lOptical(o logbook.OpticalClass) func(*logbook.Lesion) {
 	return func(l *logbook.Lesion) { l.OpticalClass, l.Confidence = o, logbook.HighConfidence }
 }
+
+func near(a, b, tol float64) bool { return math.Abs(a-b) <= tol }

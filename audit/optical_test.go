@@ -6,6 +6,7 @@ import (
 	"strings"
 	"testing"
 
+	"polypledger/internal/fx"
 	"polypledger/logbook"
 	"polypledger/stats"
 	"polypledger/surveillance"
@@ -80,23 +81,23 @@ func TestCohenKappa(t *testing.T) {
 // TestOpticalAudit. O1 is seen with NBI, O2 with white light.
 func opticalFixture() []*logbook.Case {
 	hi, lo := logbook.HighConfidence, logbook.LowConfidence
-	nbi, wl := fxImaging(logbook.NBI), fxImaging(logbook.WhiteLight)
-	o1 := fxCase("O1",
-		fxLesion(1, hTA, 4, nbi, fxCall(logbook.OpticalAdenoma, hi), fxAid(logbook.OpticalAdenoma)),                                 // TP; aid TP; pair adenoma/adenoma
-		fxLesion(2, hHP, 3, nbi, fxCall(logbook.OpticalAdenoma, hi), fxAid(logbook.OpticalHyperplastic)),                            // FP; aid TN; pair adenoma/not
-		fxLesion(3, hHP, 3, nbi, fxAt(logbook.Rectum), fxCall(logbook.OpticalHyperplastic, hi), fxAid(logbook.OpticalHyperplastic)), // TN; aid TN; pair not/not; PIVI 2
-		fxLesion(4, hSSL, 8, nbi, fxCall(logbook.OpticalSSL, lo)),                                                                   // TN (serrated/serrated)
-		fxLesion(5, hTA, 4, nbi, fxCall(logbook.OpticalUncertain, lo)),                                                              // uncertain: not in the tables, in the high-confidence denominator
-		fxLesion(6, hCA, 25, nbi, fxRes(logbook.EMREnBloc), fxDys(logbook.DysplasiaHigh), fxCall(logbook.OpticalDeepInvasive, hi)),  // TP
-		fxLesion(7, hTA, 4, nbi), // no call: nothing
+	nbi, wl := fx.Imaging(logbook.NBI), fx.Imaging(logbook.WhiteLight)
+	o1 := fx.Case("O1",
+		fx.Lesion(1, fx.TA, 4, nbi, fx.Call(logbook.OpticalAdenoma, hi), fx.Aid(logbook.OpticalAdenoma)),                                  // TP; aid TP; pair adenoma/adenoma
+		fx.Lesion(2, fx.HP, 3, nbi, fx.Call(logbook.OpticalAdenoma, hi), fx.Aid(logbook.OpticalHyperplastic)),                             // FP; aid TN; pair adenoma/not
+		fx.Lesion(3, fx.HP, 3, nbi, fx.At(logbook.Rectum), fx.Call(logbook.OpticalHyperplastic, hi), fx.Aid(logbook.OpticalHyperplastic)), // TN; aid TN; pair not/not; PIVI 2
+		fx.Lesion(4, fx.SSL, 8, nbi, fx.Call(logbook.OpticalSSL, lo)),                                                                     // TN (serrated/serrated)
+		fx.Lesion(5, fx.TA, 4, nbi, fx.Call(logbook.OpticalUncertain, lo)),                                                                // uncertain: not in the tables, in the high-confidence denominator
+		fx.Lesion(6, fx.CA, 25, nbi, fx.Res(logbook.EMREnBloc), fx.Dys(logbook.DysplasiaHigh), fx.Call(logbook.OpticalDeepInvasive, hi)),  // TP
+		fx.Lesion(7, fx.TA, 4, nbi), // no call: nothing
 	)
-	o2 := fxCase("O2",
-		fxLesion(1, hTA, 4, wl, fxAt(logbook.Sigmoid), fxCall(logbook.OpticalHyperplastic, hi), fxAid(logbook.OpticalAdenoma)),   // FN; aid TP; pair not/adenoma; PIVI 2 adenoma
-		fxLesion(2, hSSL, 2, wl, fxAt(logbook.Rectum), fxCall(logbook.OpticalHyperplastic, hi), fxAid(logbook.OpticalUncertain)), // TN; PIVI 2 not adenoma but neoplastic
-		fxLesion(3, hTSA, 5, wl, fxAt(logbook.Rectum), fxCall(logbook.OpticalHyperplastic, hi)),                                  // TN; PIVI 2 not adenoma but neoplastic
-		fxLesion(4, hTA, 6, wl, fxCall(logbook.OpticalAdenoma, lo)),                                                              // TP
-		fxLesion(5, "", 3, wl, fxAt(logbook.Rectum), fxCall(logbook.OpticalHyperplastic, hi), fxAwaiting),                        // pending: only the high-confidence rate
-		fxLesion(6, "", 4, wl, fxCall(logbook.OpticalAdenoma, hi), fxAid(logbook.OpticalAdenoma), fxDiscarded),                   // no histology; pair adenoma/adenoma
+	o2 := fx.Case("O2",
+		fx.Lesion(1, fx.TA, 4, wl, fx.At(logbook.Sigmoid), fx.Call(logbook.OpticalHyperplastic, hi), fx.Aid(logbook.OpticalAdenoma)),   // FN; aid TP; pair not/adenoma; PIVI 2 adenoma
+		fx.Lesion(2, fx.SSL, 2, wl, fx.At(logbook.Rectum), fx.Call(logbook.OpticalHyperplastic, hi), fx.Aid(logbook.OpticalUncertain)), // TN; PIVI 2 not adenoma but neoplastic
+		fx.Lesion(3, fx.TSA, 5, wl, fx.At(logbook.Rectum), fx.Call(logbook.OpticalHyperplastic, hi)),                                   // TN; PIVI 2 not adenoma but neoplastic
+		fx.Lesion(4, fx.TA, 6, wl, fx.Call(logbook.OpticalAdenoma, lo)),                                                                // TP
+		fx.Lesion(5, "", 3, wl, fx.At(logbook.Rectum), fx.Call(logbook.OpticalHyperplastic, hi), fx.Awaiting),                          // pending: only the high-confidence rate
+		fx.Lesion(6, "", 4, wl, fx.Call(logbook.OpticalAdenoma, hi), fx.Aid(logbook.OpticalAdenoma), fx.Discarded),                     // no histology; pair adenoma/adenoma
 	)
 	return []*logbook.Case{o1, o2}
 }
@@ -120,7 +121,7 @@ func wantProportion(t *testing.T, ind Indicator, id string, k, n int) {
 func TestOpticalAudit(t *testing.T) {
 	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
 	for _, c := range opticalFixture() {
-		checkValid(t, c)
+		fx.Valid(t, c)
 		a.Add(c)
 	}
 	d := a.Detail()

@@ -3,6 +3,7 @@ package audit
 import (
 	"testing"
 
+	"polypledger/internal/fx"
 	"polypledger/logbook"
 	"polypledger/surveillance"
 )
@@ -12,29 +13,29 @@ import (
 // as defined in clinical-reference §3: SSL and TSA are "not adenoma" for
 // pivi2_npv and positive for pivi2_npv_neoplasia).
 func TestPIVI2Lesion(t *testing.T) {
-	hcHP := fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence)
-	rectum := fxAt(logbook.Rectum)
+	hcHP := fx.Call(logbook.OpticalHyperplastic, logbook.HighConfidence)
+	rectum := fx.At(logbook.Rectum)
 	tests := []struct {
 		name                              string
 		l                                 logbook.Lesion
 		counts, notAdenoma, notNeoplastic bool
 	}{
-		{"hyperplastic", fxLesion(1, hHP, 3, rectum, hcHP), true, true, true},
-		{"sigmoid counts", fxLesion(1, hHP, 5, fxAt(logbook.Sigmoid), hcHP), true, true, true},
-		{"tubular adenoma", fxLesion(1, hTA, 3, rectum, hcHP), true, false, false},
-		{"adenocarcinoma", fxLesion(1, hCA, 4, rectum, hcHP), true, false, false},
-		{"SSL", fxLesion(1, hSSL, 3, rectum, hcHP), true, true, false},
-		{"SSL with dysplasia", fxLesion(1, hSSLD, 3, rectum, hcHP), true, true, false},
-		{"TSA", fxLesion(1, hTSA, 3, rectum, hcHP), true, true, false},
-		{"normal", fxLesion(1, logbook.HistNormal, 3, rectum, hcHP), true, true, true},
-		{"inflammatory", fxLesion(1, logbook.HistInflammatory, 3, rectum, hcHP), true, true, true},
-		{"other", fxLesion(1, logbook.HistOther, 3, rectum, hcHP), true, true, true},
-		{"6 mm", fxLesion(1, hHP, 6, rectum, hcHP), false, false, false},
-		{"descending", fxLesion(1, hHP, 3, fxAt(logbook.Descending), hcHP), false, false, false},
-		{"low confidence", fxLesion(1, hHP, 3, rectum, fxCall(logbook.OpticalHyperplastic, logbook.LowConfidence)), false, false, false},
-		{"called adenoma", fxLesion(1, hHP, 3, rectum, fxCall(logbook.OpticalAdenoma, logbook.HighConfidence)), false, false, false},
-		{"pending", fxLesion(1, "", 3, rectum, hcHP, fxAwaiting), false, false, false},
-		{"left in place", fxLesion(1, "", 3, rectum, hcHP, fxDiscarded), false, false, false},
+		{"hyperplastic", fx.Lesion(1, fx.HP, 3, rectum, hcHP), true, true, true},
+		{"sigmoid counts", fx.Lesion(1, fx.HP, 5, fx.At(logbook.Sigmoid), hcHP), true, true, true},
+		{"tubular adenoma", fx.Lesion(1, fx.TA, 3, rectum, hcHP), true, false, false},
+		{"adenocarcinoma", fx.Lesion(1, fx.CA, 4, rectum, hcHP), true, false, false},
+		{"SSL", fx.Lesion(1, fx.SSL, 3, rectum, hcHP), true, true, false},
+		{"SSL with dysplasia", fx.Lesion(1, fx.SSLD, 3, rectum, hcHP), true, true, false},
+		{"TSA", fx.Lesion(1, fx.TSA, 3, rectum, hcHP), true, true, false},
+		{"normal", fx.Lesion(1, logbook.HistNormal, 3, rectum, hcHP), true, true, true},
+		{"inflammatory", fx.Lesion(1, logbook.HistInflammatory, 3, rectum, hcHP), true, true, true},
+		{"other", fx.Lesion(1, logbook.HistOther, 3, rectum, hcHP), true, true, true},
+		{"6 mm", fx.Lesion(1, fx.HP, 6, rectum, hcHP), false, false, false},
+		{"descending", fx.Lesion(1, fx.HP, 3, fx.At(logbook.Descending), hcHP), false, false, false},
+		{"low confidence", fx.Lesion(1, fx.HP, 3, rectum, fx.Call(logbook.OpticalHyperplastic, logbook.LowConfidence)), false, false, false},
+		{"called adenoma", fx.Lesion(1, fx.HP, 3, rectum, fx.Call(logbook.OpticalAdenoma, logbook.HighConfidence)), false, false, false},
+		{"pending", fx.Lesion(1, "", 3, rectum, hcHP, fx.Awaiting), false, false, false},
+		{"left in place", fx.Lesion(1, "", 3, rectum, hcHP, fx.Discarded), false, false, false},
 	}
 	for _, tc := range tests {
 		c, a, n := PIVI2Lesion(&tc.l)
@@ -53,10 +54,10 @@ func pivi1Fixture() []struct {
 	optical, histology logbook.Interval
 	kind               PIVI1Kind
 } {
-	hiAd := fxCall(logbook.OpticalAdenoma, logbook.HighConfidence)
-	hiHP := fxCall(logbook.OpticalHyperplastic, logbook.HighConfidence)
-	hiSSL := fxCall(logbook.OpticalSSL, logbook.HighConfidence)
-	rect := fxAt(logbook.Rectum)
+	hiAd := fx.Call(logbook.OpticalAdenoma, logbook.HighConfidence)
+	hiHP := fx.Call(logbook.OpticalHyperplastic, logbook.HighConfidence)
+	hiSSL := fx.Call(logbook.OpticalSSL, logbook.HighConfidence)
+	rect := fx.At(logbook.Rectum)
 	type row = struct {
 		c                  *logbook.Case
 		included           bool
@@ -66,34 +67,34 @@ func pivi1Fixture() []struct {
 	}
 	return []row{
 		// Called adenoma, histology adenoma: 1 adenoma both ways, 7–10 y.
-		{fxCase("Q1", fxLesion(1, hTA, 4, hiAd)), true, "", "7-10y", "7-10y", PIVI1Agree},
+		{fx.Case("Q1", fx.Lesion(1, fx.TA, 4, hiAd)), true, "", "7-10y", "7-10y", PIVI1Agree},
 		// A shorter: called adenoma, histology hyperplastic. A: 1 adenoma
 		// (7–10 y); B: only a small hyperplastic polyp (10 y).
-		{fxCase("Q2", fxLesion(1, hHP, 4, hiAd)), true, "", "7-10y", "10y", PIVI1OpticalShorter},
+		{fx.Case("Q2", fx.Lesion(1, fx.HP, 4, hiAd)), true, "", "7-10y", "10y", PIVI1OpticalShorter},
 		// A longer: called hyperplastic, histology adenoma. A 10 y, B 7–10 y.
-		{fxCase("Q3", fxLesion(1, hTA, 4, hiHP)), true, "", "10y", "7-10y", PIVI1OpticalLonger},
+		{fx.Case("Q3", fx.Lesion(1, fx.TA, 4, hiHP)), true, "", "10y", "7-10y", PIVI1OpticalLonger},
 		// A longer: three hyperplastic calls that were adenomas, and a 7 mm
 		// adenoma read by histology both ways. A: 1 adenoma (7–10 y);
 		// B: 4 adenomas (3–5 y).
-		{fxCase("Q4", fxJoin(fxLesions(1, 3, hTA, 3, hiHP), []logbook.Lesion{fxLesion(4, hTA, 7)})...), true, "", "7-10y", "3-5y", PIVI1OpticalLonger},
+		{fx.Case("Q4", fx.Join(fx.Lesions(1, 3, fx.TA, 3, hiHP), []logbook.Lesion{fx.Lesion(4, fx.TA, 7)})...), true, "", "7-10y", "3-5y", PIVI1OpticalLonger},
 		// A outside: 11 rectal SSL calls, histology 9 SSL and 2 hyperplastic.
 		// A: 11 SSL (outside); B: 9 SSL (3 y).
-		{fxCase("Q5", fxJoin(fxLesions(1, 9, hSSL, 3, rect, hiSSL), fxLesions(10, 2, hHP, 3, rect, hiSSL))...), true, "", "outside", "3y", PIVI1OpticalOutside},
+		{fx.Case("Q5", fx.Join(fx.Lesions(1, 9, fx.SSL, 3, rect, hiSSL), fx.Lesions(10, 2, fx.HP, 3, rect, hiSSL))...), true, "", "outside", "3y", PIVI1OpticalOutside},
 		// A tubulovillous adenoma called adenoma reads as tubular under A:
 		// A 7–10 y, B 3 y — longer.
-		{fxCase("Q6", fxLesion(1, hTVA, 5, hiAd)), true, "", "7-10y", "3y", PIVI1OpticalLonger},
+		{fx.Case("Q6", fx.Lesion(1, fx.TVA, 5, hiAd)), true, "", "7-10y", "3y", PIVI1OpticalLonger},
 		// Excluded: no eligible call (6 mm), low confidence only.
-		{fxCase("X1", fxLesion(1, hTA, 6, hiAd), fxLesion(2, hTA, 4, fxCall(logbook.OpticalAdenoma, logbook.LowConfidence))), false, PIVI1NoEligibleLesion, "", "", ""},
+		{fx.Case("X1", fx.Lesion(1, fx.TA, 6, hiAd), fx.Lesion(2, fx.TA, 4, fx.Call(logbook.OpticalAdenoma, logbook.LowConfidence))), false, PIVI1NoEligibleLesion, "", "", ""},
 		// Excluded: a lesion without histology (discarded), another pending.
-		{fxCase("X2", fxLesion(1, hTA, 4, hiAd), fxLesion(2, "", 3, hiAd, fxDiscarded)), false, PIVI1MissingHistology, "", "", ""},
-		{fxCase("X3", fxLesion(1, hTA, 4, hiAd), fxLesion(2, "", 8, fxAwaiting)), false, PIVI1MissingHistology, "", "", ""},
+		{fx.Case("X2", fx.Lesion(1, fx.TA, 4, hiAd), fx.Lesion(2, "", 3, hiAd, fx.Discarded)), false, PIVI1MissingHistology, "", "", ""},
+		{fx.Case("X3", fx.Lesion(1, fx.TA, 4, hiAd), fx.Lesion(2, "", 8, fx.Awaiting)), false, PIVI1MissingHistology, "", "", ""},
 		// Excluded: histology interval outside (cancer; IBD).
-		{fxCase("X4", fxLesion(1, hTA, 4, hiAd), fxLesion(2, hCA, 30)), false, PIVI1HistologyOutside, "", "", ""},
-		{fxTweak(fxCase("X5", fxLesion(1, hTA, 4, hiAd)), func(p *logbook.Procedure) { p.Exclusion = logbook.IBD }), false, PIVI1HistologyOutside, "", "", ""},
+		{fx.Case("X4", fx.Lesion(1, fx.TA, 4, hiAd), fx.Lesion(2, fx.CA, 30)), false, PIVI1HistologyOutside, "", "", ""},
+		{fx.Tweak(fx.Case("X5", fx.Lesion(1, fx.TA, 4, hiAd)), func(p *logbook.Procedure) { p.Exclusion = logbook.IBD }), false, PIVI1HistologyOutside, "", "", ""},
 		// Excluded: exam gate (a Boston segment of 1).
-		{fxTweak(fxCase("X6", fxLesion(1, hTA, 4, hiAd)), func(p *logbook.Procedure) { p.BBPSLeft = 1 }), false, PIVI1ExamGate, "", "", ""},
+		{fx.Tweak(fx.Case("X6", fx.Lesion(1, fx.TA, 4, hiAd)), func(p *logbook.Procedure) { p.BBPSLeft = 1 }), false, PIVI1ExamGate, "", "", ""},
 		// Missing Boston scores pass the gate, and any indication counts.
-		{fxTweak(fxCase("Q7", fxLesion(1, hTA, 4, hiAd)), func(p *logbook.Procedure) {
+		{fx.Tweak(fx.Case("Q7", fx.Lesion(1, fx.TA, 4, hiAd)), func(p *logbook.Procedure) {
 			p.BBPSRight, p.BBPSTransverse, p.BBPSLeft = logbook.NotRecorded, logbook.NotRecorded, logbook.NotRecorded
 			p.Indication, p.Exclusion = logbook.Therapeutic, logbook.KnownNeoplasm
 		}), true, "", "7-10y", "7-10y", PIVI1Agree},
@@ -104,7 +105,7 @@ func pivi1Fixture() []struct {
 func TestEvaluatePIVI1(t *testing.T) {
 	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{MinCases: 5})
 	for _, tc := range pivi1Fixture() {
-		checkValid(t, tc.c)
+		fx.Valid(t, tc.c)
 		r := EvaluatePIVI1(surveillance.USMSTF2020, tc.c)
 		if r.Included != tc.included || r.Excluded != tc.excluded || r.Kind != tc.kind ||
 			r.Optical.Interval != tc.optical || r.Histology.Interval != tc.histology {
@@ -137,7 +138,7 @@ func TestEvaluatePIVI1(t *testing.T) {
 	for i, w := range want {
 		g := p.Disagreements[i]
 		if g.ProcedureID != w.ProcedureID || g.Optical != w.Optical || g.Histology != w.Histology || g.Kind != w.Kind ||
-			g.Patient != logbook.ShortCode(fxCase("x").PatientKey) || g.OperatorID != "E01" || g.PerformedOn != "2026-03-02" {
+			g.Patient != logbook.ShortCode(fx.Case("x").PatientKey) || g.OperatorID != "E01" || g.PerformedOn != "2026-03-02" {
 			t.Errorf("disagreement %d: %+v, want %+v", i, g, w)
 		}
 	}
