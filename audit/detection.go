@@ -3,7 +3,6 @@ package audit
 import (
 	"fmt"
 	"math"
-	"slices"
 
 	"polypledger/logbook"
 	"polypledger/stats"
@@ -494,36 +493,10 @@ func (s *counts) median(drug, band int, p *Profile) Indicator {
 	n := s.sedationN[drug][band]
 	ind := Indicator{ID: sedationID(drug, band), Numerator: s.sedationSum[drug][band], Denominator: n, Kind: KindMedian}
 	if n > 0 {
-		ind.Value = ptr(medianOfCounts(s.sedation[drug][band].all(), n))
+		ind.Value = ptr(stats.MedianOfCounts(s.sedation[drug][band].all(), n))
 	}
 	ind.Judge(p.Target(ind.ID), p.MinCases)
 	return ind
-}
-
-// medianOfCounts returns the median of n values held as value → count; with
-// an even n, the mean of the two middle values.
-func medianOfCounts(m map[float64]int, n int) float64 {
-	vals := make([]float64, 0, len(m))
-	for v := range m {
-		vals = append(vals, v)
-	}
-	slices.Sort(vals)
-	// 0-based ranks of the middle value(s).
-	lo, hi := (n-1)/2, n/2
-	var atLo, atHi float64
-	seen := 0
-	for _, v := range vals {
-		next := seen + m[v]
-		if lo >= seen && lo < next {
-			atLo = v
-		}
-		if hi >= seen && hi < next {
-			atHi = v
-			break
-		}
-		seen = next
-	}
-	return (atLo + atHi) / 2
 }
 
 // volume is procedures per 365 days over the period: numerator the

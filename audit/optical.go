@@ -1,9 +1,6 @@
 package audit
 
 import (
-	"encoding/json"
-	"math"
-
 	"polypledger/logbook"
 	"polypledger/stats"
 )
@@ -43,125 +40,15 @@ func (t *BinaryTable) Add(calledPositive, histologyPositive bool) {
 }
 
 // Matrix returns the table as rows of calls (positive first) by columns of
-// histology (positive first), the form CohenKappa reads.
+// histology (positive first), the form stats.CohenKappa reads.
 func (t BinaryTable) Matrix() [][]int {
 	return [][]int{{t.TruePositive, t.FalsePositive}, {t.FalseNegative, t.TrueNegative}}
 }
 
-// Kappa is Cohen's kappa for two ratings of the same items (Cohen J, "A
-// coefficient of agreement for nominal scales", Educ Psychol Meas
-// 1960;20:37–46): κ = (po − pe)/(1 − pe), with po the observed and pe the
-// chance agreement from the margins. SE is the large-sample standard error
-// of Fleiss JL, Cohen J, Everitt BS, "Large sample standard errors of kappa
-// and weighted kappa", Psychol Bull 1969;72:323–327 — the one
-// general-purpose statistics libraries report (see kappaSE) — and CI is
-// κ ± z·SE with z the 97.5% normal quantile (1.959964), clamped to [−1, 1],
-// the range of kappa (clinical-reference §6). Kappa, SE and CI are NaN when
-// n is 0 or pe is 1 (every item in one category for both ratings, where
-// kappa is undefined).
-type Kappa struct {
-	Agreements int            `json:"agreements"`
-	N          int            `json:"n"`
-	Po         float64        `json:"po"`
-	Pe         float64        `json:"pe"`
-	Kappa      float64        `json:"kappa"`
-	SE         float64        `json:"se"`
-	CI         stats.Interval `json:"-"`
-}
-
-// MarshalJSON writes the kappa with null for every undefined number, since
-// JSON has no NaN; the interval is written as ci_low and ci_high.
-func (k Kappa) MarshalJSON() ([]byte, error) {
-	return json.Marshal(struct {
-		Agreements int      `json:"agreements"`
-		N          int      `json:"n"`
-		Po         *float64 `json:"po"`
-		Pe         *float64 `json:"pe"`
-		Kappa      *float64 `json:"kappa"`
-		SE         *float64 `json:"se"`
-		CILow      *float64 `json:"ci_low"`
-		CIHigh     *float64 `json:"ci_high"`
-	}{k.Agreements, k.N, ptr(k.Po), ptr(k.Pe), ptr(k.Kappa), ptr(k.SE), ptr(k.CI.Low), ptr(k.CI.High)})
-}
-
-// CohenKappa returns Cohen's kappa for a square table of counts, rows the
-// first rating and columns the second, categories in the same order.
-func CohenKappa(table [][]int) Kappa {
-	k := Kappa{Po: math.NaN(), Pe: math.NaN(), Kappa: math.NaN(), SE: math.NaN(), CI: stats.Interval{Low: math.NaN(), High: math.NaN()}}
-	rows := make([]float64, len(table)) // counts, then proportions
-	cols := make([]float64, len(table))
-	for i, row := range table {
-		for j, v := range row {
-			if j >= len(cols) {
-				return k // not square
-			}
-			k.N += v
-			rows[i] += float64(v)
-			cols[j] += float64(v)
-			if i == j {
-				k.Agreements += v
-			}
-		}
-	}
-	if k.N == 0 {
-		return k
-	}
-	n := float64(k.N)
-	k.Po = float64(k.Agreements) / n
-	pe := 0.0
-	for i := range rows {
-		pe += rows[i] * cols[i]
-	}
-	k.Pe = pe / (n * n)
-	if k.Pe >= 1 {
-		return k
-	}
-	k.Kappa = (k.Po - k.Pe) / (1 - k.Pe)
-	for i := range rows {
-		rows[i] /= n
-		cols[i] /= n
-	}
-	k.SE = kappaSE(table, rows, cols, n, k.Pe, k.Kappa)
-	half := stats.Z(0.95) * k.SE
-	k.CI = stats.Interval{Low: math.Max(-1, k.Kappa-half), High: math.Min(1, k.Kappa+half)}
-	return k
-}
-
-// kappaSE is the Fleiss–Cohen–Everitt (1969) large-sample standard error of
-// kappa for a square table of counts with row and column proportions rows
-// and cols, n items, chance agreement pe and kappa kappa. With p_ij the
-// cell proportions, p_i. the rows and p_.j the columns:
-//
-//	A = Σ_i p_ii [1 − (p_i. + p_.i)(1 − κ)]²
-//	B = (1 − κ)² Σ_{i≠j} p_ij (p_.i + p_j.)²
-//	C = [κ − pe(1 − κ)]²
-//	SE = √((A + B − C) / (n (1 − pe)²))
-//
-// A rounding error that makes A + B − C a little below zero (perfect
-// agreement) gives 0.
-func kappaSE(table [][]int, rows, cols []float64, n, pe, kappa float64) float64 {
-	var a, b float64
-	for i, row := range table {
-		for j, v := range row {
-			p := float64(v) / n
-			if i == j {
-				d := 1 - (rows[i]+cols[i])*(1-kappa)
-				a += p * d * d
-			} else {
-				s := cols[i] + rows[j]
-				b += p * s * s
-			}
-		}
-	}
-	b *= (1 - kappa) * (1 - kappa)
-	c := kappa - pe*(1-kappa)
-	return math.Sqrt(math.Max(0, (a+b-c*c)/(n*(1-pe)*(1-pe))))
-}
-
-// Indicator returns the kappa as an indicator of kind "kappa": numerator the
-// agreements, denominator the items, value κ and interval κ ± 1.96·SE
-// clamped to [−1, 1].
-func (k Kappa) Indicator(id string) Indicator {
+// kappaIndicator returns the kappa k as an indicator of kind "kappa":
+// numerator the agreements, denominator the items, value κ and interval
+// κ ± 1.96·SE clamped to [−1, 1].
+func kappaIndicator(id string, k stats.Kappa) Indicator {
 	ind := Indicator{ID: id, Numerator: float64(k.Agreements), Denominator: k.N, Kind: "kappa"}
 	ind.Value, ind.CILow, ind.CIHigh = ptr(k.Kappa), ptr(k.CI.Low), ptr(k.CI.High)
 	return ind
@@ -196,12 +83,12 @@ func newClassTable(counts [3][4]int) ClassTable {
 
 // Kappa returns Cohen's kappa over the lesions whose histology falls in one
 // of the three classes (the fourth column left out).
-func (t ClassTable) Kappa() Kappa {
+func (t ClassTable) Kappa() stats.Kappa {
 	m := make([][]int, 3)
 	for i := range m {
 		m[i] = t.Counts[i][:3]
 	}
-	return CohenKappa(m)
+	return stats.CohenKappa(m)
 }
 
 // callClass returns the row of an optical call, or −1 when the call does not
@@ -236,7 +123,7 @@ func histClass(h logbook.Histology) int {
 type OpticalFigures struct {
 	Table        BinaryTable `json:"table"`
 	Classes      ClassTable  `json:"classes"`
-	ClassesKappa Kappa       `json:"classes_kappa"`
+	ClassesKappa stats.Kappa `json:"classes_kappa"`
 	Sensitivity  Indicator   `json:"sensitivity"`
 	Specificity  Indicator   `json:"specificity"`
 	PPV          Indicator   `json:"ppv"`
@@ -255,7 +142,7 @@ func newOpticalFigures(prefix string, t BinaryTable, classes [3][4]int, minCases
 	f.PPV = Proportion(prefix+"_ppv", t.TruePositive, t.TruePositive+t.FalsePositive)
 	f.NPV = Proportion(prefix+"_npv", t.TrueNegative, t.TrueNegative+t.FalseNegative)
 	f.Accuracy = Proportion(prefix+"_accuracy", t.TruePositive+t.TrueNegative, t.N())
-	f.Kappa = CohenKappa(t.Matrix()).Indicator(prefix + "_kappa")
+	f.Kappa = kappaIndicator(prefix+"_kappa", stats.CohenKappa(t.Matrix()))
 	for _, ind := range f.indicators() {
 		ind.Judge(nil, minCases)
 	}
@@ -369,7 +256,7 @@ func (o *opticalCounts) figures(imaging string, minCases int) ImagingFigures {
 	}
 	f.HighConfidence.Judge(nil, minCases)
 	f.EndoscopistVsAid.Table = o.pair
-	f.EndoscopistVsAid.Kappa = CohenKappa([][]int{o.pair[0][:], o.pair[1][:]}).Indicator("optical_aid_kappa")
+	f.EndoscopistVsAid.Kappa = kappaIndicator("optical_aid_kappa", stats.CohenKappa([][]int{o.pair[0][:], o.pair[1][:]}))
 	f.EndoscopistVsAid.Kappa.Judge(nil, minCases)
 	return f
 }

@@ -5,6 +5,7 @@ import (
 	"time"
 
 	"polypledger/logbook"
+	"polypledger/stats"
 )
 
 // ReportPassOptions sets what a ReportPass counts.
@@ -18,7 +19,7 @@ type ReportPassOptions struct {
 	Extra []AccumulatorFactory
 	// CUSUM are the learning-curve parameters of the trainee figures; the
 	// zero value means DefaultCUSUM.
-	CUSUM CUSUMParams
+	CUSUM stats.CUSUMParams
 }
 
 // ReportPass gathers everything a PDF report shows in one streaming pass
@@ -38,8 +39,8 @@ type ReportPass struct {
 // NewReportPass starts a report pass under profile p; it fails when the
 // CUSUM parameters are out of range.
 func NewReportPass(p *Profile, o ReportPassOptions) (*ReportPass, error) {
-	if o.CUSUM == (CUSUMParams{}) {
-		o.CUSUM = DefaultCUSUM()
+	if o.CUSUM == (stats.CUSUMParams{}) {
+		o.CUSUM = stats.DefaultCUSUM()
 	}
 	period := MetricsOptions{From: o.From, To: o.To}
 	tp, err := NewTraineeProgress(p, o.CUSUM, period)

@@ -2,7 +2,6 @@ package audit
 
 import (
 	"cmp"
-	"fmt"
 	"math"
 	"slices"
 	"sort"
@@ -10,42 +9,8 @@ import (
 	"time"
 
 	"polypledger/logbook"
+	"polypledger/stats"
 )
-
-// CUSUMParams are the learning-curve parameters (Bolsin S, Colson M, Int J
-// Qual Health Care 2000;12:433–438): the acceptable and unacceptable failure
-// rates p0 and p1 and the error rates α and β. No colonoscopy paper fixes α
-// and β, so they are a local choice and every result prints them.
-type CUSUMParams struct {
-	P0    float64 `json:"p0"`
-	P1    float64 `json:"p1"`
-	Alpha float64 `json:"alpha"`
-	Beta  float64 `json:"beta"`
-}
-
-// DefaultCUSUM returns the defaults for unassisted caecal intubation used in
-// published endoscopy CUSUM work: p0 0.10, p1 0.20, α = β = 0.10
-// (clinical-reference §5).
-func DefaultCUSUM() CUSUMParams { return CUSUMParams{P0: 0.10, P1: 0.20, Alpha: 0.10, Beta: 0.10} }
-
-// Limits returns the CUSUM's step s and decision limits h0 and h1:
-// P = ln(p1/p0), Q = ln((1−p0)/(1−p1)), s = Q/(P+Q),
-// h0 = ln((1−α)/β)/(P+Q), h1 = ln((1−β)/α)/(P+Q). It needs 0 < p0 < p1 < 1
-// and α, β in (0, 1).
-func (c CUSUMParams) Limits() (s, h0, h1 float64, err error) {
-	if !(c.P0 > 0 && c.P0 < c.P1 && c.P1 < 1) {
-		return 0, 0, 0, fmt.Errorf("CUSUM failure rates p0 %v and p1 %v must satisfy 0 < p0 < p1 < 1", c.P0, c.P1)
-	}
-	if !(c.Alpha > 0 && c.Alpha < 1 && c.Beta > 0 && c.Beta < 1) {
-		return 0, 0, 0, fmt.Errorf("CUSUM error rates α %v and β %v must lie between 0 and 1", c.Alpha, c.Beta)
-	}
-	p := math.Log(c.P1 / c.P0)
-	q := math.Log((1 - c.P0) / (1 - c.P1))
-	s = q / (p + q)
-	h0 = math.Log((1-c.Alpha)/c.Beta) / (p + q)
-	h1 = math.Log((1-c.Beta)/c.Alpha) / (p + q)
-	return s, h0, h1, nil
-}
 
 // TraineeProgress follows each trainee's learning curve over the cases where
 // the trainee held the scope (trainee_id), in one pass. A learning curve
@@ -57,7 +22,7 @@ func (c CUSUMParams) Limits() (s, h0, h1 float64, err error) {
 // concurrent use.
 type TraineeProgress struct {
 	prof      *Profile
-	params    CUSUMParams
+	params    stats.CUSUMParams
 	s, h0, h1 float64
 	opt       MetricsOptions
 	trainees  map[string]*traineeState
@@ -83,7 +48,7 @@ type cusumCase struct {
 // NewTraineeProgress starts a trainee pass under profile p (its detection
 // eligibility decides the trainee's ADR) with CUSUM parameters c; it fails
 // when the parameters are out of range.
-func NewTraineeProgress(p *Profile, c CUSUMParams, opt MetricsOptions) (*TraineeProgress, error) {
+func NewTraineeProgress(p *Profile, c stats.CUSUMParams, opt MetricsOptions) (*TraineeProgress, error) {
 	s, h0, h1, err := c.Limits()
 	if err != nil {
 		return nil, err
@@ -190,14 +155,14 @@ type CUSUMPoint struct {
 // position of the first case at which the curve reached −H0 or +H1 (0 when
 // it has not).
 type CUSUMResult struct {
-	Params         CUSUMParams  `json:"params"`
-	S              float64      `json:"s"`
-	H0             float64      `json:"h0"`
-	H1             float64      `json:"h1"`
-	Points         []CUSUMPoint `json:"points"`
-	AcceptableAt   int          `json:"acceptable_at"`
-	UnacceptableAt int          `json:"unacceptable_at"`
-	Note           string       `json:"note"`
+	Params         stats.CUSUMParams `json:"params"`
+	S              float64           `json:"s"`
+	H0             float64           `json:"h0"`
+	H1             float64           `json:"h1"`
+	Points         []CUSUMPoint      `json:"points"`
+	AcceptableAt   int               `json:"acceptable_at"`
+	UnacceptableAt int               `json:"unacceptable_at"`
+	Note           string            `json:"note"`
 }
 
 // TraineeResult is one trainee's progress: cases per month from the first

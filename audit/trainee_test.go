@@ -5,20 +5,13 @@ import (
 	"testing"
 
 	"polypledger/logbook"
+	"polypledger/stats"
 )
 
-func TestCUSUMCheckValues(t *testing.T) {
-	// clinical-reference §5, computed from Bolsin & Colson's formulas
-	// (Int J Qual Health Care 2000;12:433–438) with p0 0.10, p1 0.20,
-	// α = β = 0.10: s = 0.1452, h0 = h1 = 2.7095.
-	s, h0, h1, err := DefaultCUSUM().Limits()
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !near(s, 0.1452, 5e-5) || !near(h0, 2.7095, 5e-5) || !near(h1, 2.7095, 5e-5) {
-		t.Errorf("s %.4f h0 %.4f h1 %.4f", s, h0, h1)
-	}
-	for _, bad := range []CUSUMParams{{0.2, 0.1, 0.1, 0.1}, {0, 0.2, 0.1, 0.1}, {0.1, 0.2, 0, 0.1}, {0.1, 1, 0.1, 0.1}} {
+// TestTraineeProgressRefusesBadCUSUM checks that a trainee pass refuses
+// CUSUM parameters out of range (0 < p0 < p1 < 1, α and β in (0, 1)).
+func TestTraineeProgressRefusesBadCUSUM(t *testing.T) {
+	for _, bad := range []stats.CUSUMParams{{P0: 0.2, P1: 0.1, Alpha: 0.1, Beta: 0.1}, {P0: 0.1, P1: 0.2, Alpha: 0, Beta: 0.1}} {
 		if _, err := NewTraineeProgress(shipped(t, "bsg-jag-2016"), bad, MetricsOptions{}); err == nil {
 			t.Errorf("params %+v accepted", bad)
 		}
@@ -36,7 +29,7 @@ func TestCUSUMSeries(t *testing.T) {
 	// 19 successes: 18·0.1452 = 2.61 has not reached h0 = 2.7095, 19·0.1452
 	// = 2.76 has → acceptable at the 19th case. Cases are added out of order
 	// and sorted by date, then id.
-	tp, err := NewTraineeProgress(shipped(t, "bsg-jag-2016"), DefaultCUSUM(), MetricsOptions{})
+	tp, err := NewTraineeProgress(shipped(t, "bsg-jag-2016"), stats.DefaultCUSUM(), MetricsOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -51,13 +44,13 @@ func TestCUSUMSeries(t *testing.T) {
 	if cus.AcceptableAt != 19 || cus.UnacceptableAt != 0 || !near(cus.Points[18].Value, -19*cus.S, 1e-12) {
 		t.Errorf("acceptable at %d, value %v", cus.AcceptableAt, cus.Points[18].Value)
 	}
-	if cus.Params != DefaultCUSUM() || cus.Note == "" {
+	if cus.Params != stats.DefaultCUSUM() || cus.Note == "" {
 		t.Errorf("params %+v note %q", cus.Params, cus.Note)
 	}
 
 	// Failures add 1 − s = 0.8548: 3 give 2.56, 4 give 3.42 ≥ h1 → unacceptable
 	// at the 4th. Unrecorded outcomes are left out of the series.
-	tp, _ = NewTraineeProgress(shipped(t, "bsg-jag-2016"), DefaultCUSUM(), MetricsOptions{})
+	tp, _ = NewTraineeProgress(shipped(t, "bsg-jag-2016"), stats.DefaultCUSUM(), MetricsOptions{})
 	for i, d := range []string{"2026-01-05", "2026-01-06", "2026-01-07", "2026-01-08"} {
 		c := traineeCase(t, fmt.Sprintf("F%d", i), d, logbook.SupervisedHandsOn, logbook.No, eIncomplete(logbook.ReasonLooping))
 		tp.Add(&c)
@@ -74,7 +67,7 @@ func TestTraineeProgress(t *testing.T) {
 	// T1: January 2 cases (independent, hands-on), February none, March 1
 	// observed; reached caecum yes, yes, no → 2/3. ADR over T1's eligible
 	// cases: 1 of 3. Another trainee T2 and a case with no trainee.
-	tp, err := NewTraineeProgress(shipped(t, "bsg-jag-2016"), DefaultCUSUM(), MetricsOptions{})
+	tp, err := NewTraineeProgress(shipped(t, "bsg-jag-2016"), stats.DefaultCUSUM(), MetricsOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -133,7 +126,7 @@ func TestTraineeProgress(t *testing.T) {
 // only are left out.
 func TestLearningCurveRunsFromTheFirstCase(t *testing.T) {
 	from, to := mkDate(t, "2026-03-01"), mkDate(t, "2026-03-31")
-	tp, err := NewTraineeProgress(shipped(t, "bsg-jag-2016"), DefaultCUSUM(), MetricsOptions{From: from, To: to})
+	tp, err := NewTraineeProgress(shipped(t, "bsg-jag-2016"), stats.DefaultCUSUM(), MetricsOptions{From: from, To: to})
 	if err != nil {
 		t.Fatal(err)
 	}

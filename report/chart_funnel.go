@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"polypledger/audit"
+	"polypledger/stats"
 
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
@@ -23,11 +24,11 @@ type FunnelData struct {
 // funnel point marks: a circle within the 95% limits, an upward triangle
 // above them and a downward triangle below; a point beyond the 99.8% limit
 // is ringed as well.
-func funnelMark(s audit.Side) mark {
+func funnelMark(s stats.Side) mark {
 	switch s {
-	case audit.SideAbove:
+	case stats.SideAbove:
 		return mark{upTriangle{}, shadeGreen, "above the 95% limit"}
-	case audit.SideBelow:
+	case stats.SideBelow:
 		return mark{downTriangle{}, shadeVermilion, "below the 95% limit"}
 	}
 	return mark{thickRing{}, shadeBlue, "within the 95% limits"}
@@ -80,7 +81,7 @@ func FunnelChart(f FunnelData, opt ChartOptions) ([]byte, error) {
 	for _, pt := range fn.Points {
 		m := funnelMark(pt.Outside95)
 		cp := chartPoint{X: float64(pt.N), Y: 100 * pt.Rate, Lo: math.NaN(), Hi: math.NaN(), Mark: m,
-			Ring: pt.Outside998 != audit.SideWithin, Label: pt.OperatorID}
+			Ring: pt.Outside998 != stats.SideWithin, Label: pt.OperatorID}
 		if opt.Highlight != "" && pt.OperatorID == opt.Highlight {
 			cp.Radius, cp.Bold = vg.Points(4.5), true
 		}
@@ -113,7 +114,7 @@ func FunnelChart(f FunnelData, opt ChartOptions) ([]byte, error) {
 		legend = append(legend, lineItem(fmt.Sprintf("standard's target %.1f%%", 100**f.Target), target))
 	}
 	legend = append(legend,
-		markItem(funnelMark(audit.SideWithin), ""), markItem(funnelMark(audit.SideAbove), ""), markItem(funnelMark(audit.SideBelow), ""),
+		markItem(funnelMark(stats.SideWithin), ""), markItem(funnelMark(stats.SideAbove), ""), markItem(funnelMark(stats.SideBelow), ""),
 		legendItem{"ringed: beyond the 99.8% limit", glyphThumb{ringStyle()}},
 	)
 	return render(p, legend, opt)

@@ -12,6 +12,7 @@ import (
 
 	"polypledger/audit"
 	"polypledger/logbook"
+	"polypledger/stats"
 )
 
 // decodePNG decodes chart bytes and checks the pixel size the options ask
@@ -86,7 +87,7 @@ func chartFixtures() map[string]func(ChartOptions) ([]byte, error) {
 		panic(err)
 	}
 	target := 0.35
-	tp := audit.CUSUMParams{P0: 0.1, P1: 0.2, Alpha: 0.1, Beta: 0.1}
+	tp := stats.CUSUMParams{P0: 0.1, P1: 0.2, Alpha: 0.1, Beta: 0.1}
 	prog, err := audit.NewTraineeProgress(&audit.Profile{ID: "t", MinCases: 30}, tp, audit.MetricsOptions{})
 	if err != nil {
 		panic(err)
@@ -169,8 +170,8 @@ func TestFunnelMarksBySide(t *testing.T) {
 	if !hasColour(img, shadeVermilion.rgba()) {
 		t.Error("no vermilion mark for the point below the limit")
 	}
-	marks := map[audit.Side]mark{audit.SideWithin: funnelMark(audit.SideWithin), audit.SideAbove: funnelMark(audit.SideAbove), audit.SideBelow: funnelMark(audit.SideBelow)}
-	seen := map[string]audit.Side{}
+	marks := map[stats.Side]mark{stats.SideWithin: funnelMark(stats.SideWithin), stats.SideAbove: funnelMark(stats.SideAbove), stats.SideBelow: funnelMark(stats.SideBelow)}
+	seen := map[string]stats.Side{}
 	for s, m := range marks {
 		key := typeName(m.glyph)
 		if other, dup := seen[key]; dup {

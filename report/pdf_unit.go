@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"polypledger/audit"
+	"polypledger/stats"
 	"polypledger/surveillance"
 	"slices"
 	"strconv"
@@ -303,9 +304,9 @@ func (d *doc) funnels(highlight string) {
 		d.chart(92, func(o ChartOptions) ([]byte, error) { return FunnelChart(fd, o) }, ChartOptions{Highlight: highlight})
 		var out []string
 		for _, p := range fd.Funnel.Points {
-			if p.Outside95 != audit.SideWithin {
+			if p.Outside95 != stats.SideWithin {
 				s := fmt.Sprintf("%s %s the 95%% limit (%d/%d, %.1f%%", p.OperatorID, p.Outside95, p.K, p.N, 100*p.Rate)
-				if p.Outside998 != audit.SideWithin {
+				if p.Outside998 != stats.SideWithin {
 					s += fmt.Sprintf("; also %s the 99.8%% limit", p.Outside998)
 				}
 				out = append(out, s+")")
@@ -556,7 +557,7 @@ func withInterval(ind audit.Indicator) string {
 	return audit.FormatValue(ind)
 }
 
-func kappaText(k audit.Kappa) string {
+func kappaText(k stats.Kappa) string {
 	if k.N == 0 || k.Kappa != k.Kappa {
 		return "not defined"
 	}

@@ -6,9 +6,10 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
-// Interval is a two-sided confidence interval. Both ends are NaN when it is
+// CI is a two-sided confidence interval (not a surveillance interval,
+// which is logbook.Interval). Both ends are NaN when it is
 // undefined (no observations).
-type Interval struct{ Low, High float64 }
+type CI struct{ Low, High float64 }
 
 // z95 is the standard normal 97.5% quantile, 1.959963985… (clinical-reference §6).
 var z95 = distuv.UnitNormal.Quantile(0.975)
@@ -17,15 +18,15 @@ var z95 = distuv.UnitNormal.Quantile(0.975)
 // conf (0.95 gives 1.959963985).
 func Z(conf float64) float64 { return distuv.UnitNormal.Quantile(1 - (1-conf)/2) }
 
-func undefined() Interval { return Interval{math.NaN(), math.NaN()} }
+func undefined() CI { return CI{math.NaN(), math.NaN()} }
 
 // Wilson returns the 95% Wilson score interval for k successes of n (Wilson
 // EB, J Am Stat Assoc 1927;22:209–212): centre (k + z²/2)/(n + z²),
 // half-width z·√(k(n−k)/n + z²/4)/(n + z²).
-func Wilson(k, n int) Interval { return WilsonZ(k, n, z95) }
+func Wilson(k, n int) CI { return WilsonZ(k, n, z95) }
 
 // WilsonZ is Wilson with a chosen critical value z.
-func WilsonZ(k, n int, z float64) Interval {
+func WilsonZ(k, n int, z float64) CI {
 	if n <= 0 || k < 0 || k > n {
 		return undefined()
 	}
@@ -40,13 +41,13 @@ func WilsonZ(k, n int, z float64) Interval {
 	if k == n {
 		hi = 1
 	}
-	return Interval{math.Max(0, lo), math.Min(1, hi)}
+	return CI{math.Max(0, lo), math.Min(1, hi)}
 }
 
 // ClopperPearson returns the exact binomial interval at confidence conf: the
 // α/2 quantile of Beta(k, n−k+1) to the 1−α/2 quantile of Beta(k+1, n−k),
 // with 0 and 1 at the ends where k is 0 or n.
-func ClopperPearson(k, n int, conf float64) Interval {
+func ClopperPearson(k, n int, conf float64) CI {
 	if n <= 0 || k < 0 || k > n {
 		return undefined()
 	}
@@ -58,12 +59,12 @@ func ClopperPearson(k, n int, conf float64) Interval {
 	if k < n {
 		hi = distuv.Beta{Alpha: float64(k + 1), Beta: float64(n - k)}.Quantile(1 - a)
 	}
-	return Interval{lo, hi}
+	return CI{lo, hi}
 }
 
 // PoissonExact returns the exact (Garwood 1936) interval at confidence conf
 // for an observed count k: lower χ²(2k, α/2)/2, upper χ²(2k+2, 1−α/2)/2.
-func PoissonExact(k int, conf float64) Interval {
+func PoissonExact(k int, conf float64) CI {
 	if k < 0 {
 		return undefined()
 	}
@@ -73,13 +74,13 @@ func PoissonExact(k int, conf float64) Interval {
 		lo = distuv.ChiSquared{K: float64(2 * k)}.Quantile(a) / 2
 	}
 	hi := distuv.ChiSquared{K: float64(2*k + 2)}.Quantile(1-a) / 2
-	return Interval{lo, hi}
+	return CI{lo, hi}
 }
 
 // NewcombeDiff returns the difference k1/n1 − k2/n2 with Newcombe's hybrid
 // score 95% interval (method 10 of Newcombe RG, Stat Med 1998;17:873–890),
 // built from the two Wilson intervals.
-func NewcombeDiff(k1, n1, k2, n2 int) (diff float64, ci Interval) {
+func NewcombeDiff(k1, n1, k2, n2 int) (diff float64, ci CI) {
 	if n1 <= 0 || n2 <= 0 {
 		return math.NaN(), undefined()
 	}
@@ -88,13 +89,13 @@ func NewcombeDiff(k1, n1, k2, n2 int) (diff float64, ci Interval) {
 	d := p1 - p2
 	lo := d - math.Sqrt((p1-w1.Low)*(p1-w1.Low)+(w2.High-p2)*(w2.High-p2))
 	hi := d + math.Sqrt((w1.High-p1)*(w1.High-p1)+(p2-w2.Low)*(p2-w2.Low))
-	return d, Interval{lo, hi}
+	return d, CI{lo, hi}
 }
 
 // MeanT returns the mean of values summed as sum and sumSq over n
 // observations with its 95% Student t interval. One observation gives a mean
 // with an undefined interval.
-func MeanT(sum, sumSq float64, n int) (mean float64, ci Interval) {
+func MeanT(sum, sumSq float64, n int) (mean float64, ci CI) {
 	if n <= 0 {
 		return math.NaN(), undefined()
 	}
@@ -109,5 +110,5 @@ func MeanT(sum, sumSq float64, n int) (mean float64, ci Interval) {
 	}
 	se := math.Sqrt(v / fn)
 	t := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: fn - 1}.Quantile(0.975)
-	return mean, Interval{mean - t*se, mean + t*se}
+	return mean, CI{mean - t*se, mean + t*se}
 }
