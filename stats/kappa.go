@@ -17,13 +17,13 @@ import (
 // n is 0 or pe is 1 (every item in one category for both ratings, where
 // kappa is undefined).
 type Kappa struct {
-	Agreements int      `json:"agreements"`
-	N          int      `json:"n"`
-	Po         float64  `json:"po"`
-	Pe         float64  `json:"pe"`
-	Kappa      float64  `json:"kappa"`
-	SE         float64  `json:"se"`
-	CI         CI `json:"-"`
+	Agreements int     `json:"agreements"`
+	N          int     `json:"n"`
+	Po         float64 `json:"po"`
+	Pe         float64 `json:"pe"`
+	Kappa      float64 `json:"kappa"`
+	SE         float64 `json:"se"`
+	CI         CI      `json:"-"`
 }
 
 // MarshalJSON writes the kappa with null for every undefined number, since
