@@ -61,6 +61,17 @@ func lowerFirst(w string) string {
 	return string(r)
 }
 
+// upperFirst capitalises the first letter of words, for a choice or a
+// heading.
+func upperFirst(w string) string {
+	r := []rune(w)
+	if len(r) == 0 {
+		return w
+	}
+	r[0] = unicode.ToUpper(r[0])
+	return string(r)
+}
+
 func wordOr(w, fallback string) string {
 	if w == "" {
 		return fallback

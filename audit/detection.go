@@ -6,7 +6,6 @@ import (
 
 	"polypledger/logbook"
 	"polypledger/stats"
-	"polypledger/surveillance"
 )
 
 // Indicator kinds used in Indicator.Kind beyond the default proportion.
@@ -67,7 +66,7 @@ type caseFacts struct {
 	aid             logbook.YesNo
 
 	adenoma, ssl, polypectomy, advanced, proxSerrated bool // ≥1 such lesion
-	awaiting                                          bool // ≥1 lesion awaiting histology (AwaitsHistology)
+	awaiting                                          bool // ≥1 lesion awaiting histology (logbook.Lesion.AwaitsHistology)
 	negative                                          bool // no polypectomy and no biopsy
 	adenomas                                          int
 
@@ -108,10 +107,10 @@ func (f *caseFacts) read(p *Profile, c *logbook.Case) {
 		if l.IsAdvancedAdenoma() {
 			f.advanced = true
 		}
-		if l.Segment.IsProximal() && (h.IsSSL() || h == logbook.HistTSA || (h == logbook.HistHyperplastic && l.SizeMM >= 10)) {
+		if l.Segment.IsProximal() && (h.IsSSLOrTSA() || (h == logbook.HistHyperplastic && l.SizeMM >= 10)) {
 			f.proxSerrated = true
 		}
-		if surveillance.AwaitsHistology(l) {
+		if l.AwaitsHistology() {
 			f.awaiting = true
 		}
 		poly := l.Resection.IsPolypectomy()

@@ -110,7 +110,7 @@ func histClass(h logbook.Histology) int {
 	switch {
 	case h.IsAdenoma():
 		return classAdenoma
-	case h.IsSSL() || h == logbook.HistTSA:
+	case h.IsSSLOrTSA():
 		return classSerrated
 	case h == logbook.HistHyperplastic:
 		return classHyperplastic

@@ -31,7 +31,7 @@ func PIVI2Lesion(l *logbook.Lesion) (counts, notAdenoma, notNeoplastic bool) {
 		return false, false, false
 	}
 	notAdenoma = !l.Histology.IsAdenoma()
-	notNeoplastic = notAdenoma && !l.Histology.IsSSL() && l.Histology != logbook.HistTSA
+	notNeoplastic = notAdenoma && !l.Histology.IsSSLOrTSA()
 	return true, notAdenoma, notNeoplastic
 }
 

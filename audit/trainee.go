@@ -108,24 +108,6 @@ func (t *TraineeProgress) Add(c *logbook.Case) {
 	}
 }
 
-// supervisionWords are the plain words every output uses for the
-// supervision levels of a trainee's case.
-var supervisionWords = map[logbook.Supervision]string{
-	logbook.Independent:        "On their own",
-	logbook.SupervisedHandsOn:  "Trainer helped",
-	logbook.SupervisedObserved: "Trainer watched",
-}
-
-// SupervisionWords returns the plain words for a supervision level ("On
-// their own", "Trainer helped", "Trainer watched"), "Not recorded" for
-// none.
-func SupervisionWords(s logbook.Supervision) string {
-	if w, ok := supervisionWords[s]; ok {
-		return w
-	}
-	return "Not recorded"
-}
-
 // MonthCount is a trainee's cases in one calendar month ("2026-01") by
 // supervision level, and the running total to the end of that month.
 type MonthCount struct {

@@ -187,9 +187,9 @@ func TraineeCasesChart(months []audit.MonthCount, opt ChartOptions) ([]byte, err
 	}
 	all := []series{
 		{"all cases", func(m audit.MonthCount) int { return m.Total }, lineStyle(shadeBlack, 1.4, nil), draw.CircleGlyph{}, shadeBlack},
-		{audit.SupervisionWords(logbook.Independent), func(m audit.MonthCount) int { return m.Independent }, lineStyle(shadeBlue, 1.1, dashed()), draw.BoxGlyph{}, shadeBlue},
-		{audit.SupervisionWords(logbook.SupervisedHandsOn), func(m audit.MonthCount) int { return m.SupervisedHandsOn }, lineStyle(shadeVermilion, 1.1, dotted()), upTriangle{}, shadeVermilion},
-		{audit.SupervisionWords(logbook.SupervisedObserved), func(m audit.MonthCount) int { return m.SupervisedObserved }, lineStyle(shadeGreen, 1.1, dashDot()), downTriangle{}, shadeGreen},
+		{logbook.Independent.Words(), func(m audit.MonthCount) int { return m.Independent }, lineStyle(shadeBlue, 1.1, dashed()), draw.BoxGlyph{}, shadeBlue},
+		{logbook.SupervisedHandsOn.Words(), func(m audit.MonthCount) int { return m.SupervisedHandsOn }, lineStyle(shadeVermilion, 1.1, dotted()), upTriangle{}, shadeVermilion},
+		{logbook.SupervisedObserved.Words(), func(m audit.MonthCount) int { return m.SupervisedObserved }, lineStyle(shadeGreen, 1.1, dashDot()), downTriangle{}, shadeGreen},
 		{"supervision not recorded", func(m audit.MonthCount) int { return m.Unrecorded }, lineStyle(shadeGrey, 1, dashed()), thickRing{}, shadeGrey},
 	}
 	ys := newSpan()

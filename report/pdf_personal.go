@@ -194,8 +194,8 @@ func (d *doc) traineeReport() {
 		rows = append(rows, []string{m.Month, strconv.Itoa(m.Independent), strconv.Itoa(m.SupervisedHandsOn),
 			strconv.Itoa(m.SupervisedObserved), strconv.Itoa(m.Unrecorded), strconv.Itoa(m.Total), audit.GroupThousands(int64(m.Cumulative))})
 	}
-	d.table([]column{{"Month", 30, "L"}, {audit.SupervisionWords(logbook.Independent), 25, "R"}, {audit.SupervisionWords(logbook.SupervisedHandsOn), 28, "R"},
-		{audit.SupervisionWords(logbook.SupervisedObserved), 28, "R"}, {audit.SupervisionWords(""), 25, "R"}, {"Total", 20, "R"}, {"Running total", 24, "R"}}, rows)
+	d.table([]column{{"Month", 30, "L"}, {logbook.Independent.Words(), 25, "R"}, {logbook.SupervisedHandsOn.Words(), 28, "R"},
+		{logbook.SupervisedObserved.Words(), 28, "R"}, {logbook.Supervision("").Words(), 25, "R"}, {"Total", 20, "R"}, {"Running total", 24, "R"}}, rows)
 	d.chart(80, func(o ChartOptions) ([]byte, error) { return TraineeCasesChart(tr.Months, o) }, ChartOptions{})
 
 	d.newPage("Learning curve: unassisted caecal intubation (CUSUM)", true)

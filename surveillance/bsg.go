@@ -8,17 +8,17 @@ func bsgPremalignant(l ReadLesion) bool {
 	if l.Histology == logbook.HistHyperplastic && l.Segment == logbook.Rectum && l.SizeMM >= 1 && l.SizeMM <= 5 {
 		return false
 	}
-	return isAdenomaNoCancer(l.Histology) || isSerrated(l.Histology)
+	return l.Histology.IsAdenomaNotCancer() || l.Histology.IsSerrated()
 }
 
 // bsgAdvanced reports an advanced polyp in the BSG 2020 sense: an adenoma of
 // 10 mm or more or with high-grade dysplasia, or a serrated polyp of 10 mm
 // or more or with any dysplasia.
 func bsgAdvanced(l ReadLesion) bool {
-	if isAdenomaNoCancer(l.Histology) {
+	if l.Histology.IsAdenomaNotCancer() {
 		return l.SizeMM >= 10 || l.Dysplasia == logbook.DysplasiaHigh
 	}
-	return isSerrated(l.Histology) && (l.SizeMM >= 10 || serratedDysplasia(l))
+	return l.Histology.IsSerrated() && (l.SizeMM >= 10 || serratedDysplasia(l))
 }
 
 // bsgCandidates applies the BSG 2020 table (Rutter 2020;

@@ -10,7 +10,7 @@ import "polypledger/logbook"
 // low or high.
 func serratedDysplasia(l ReadLesion) bool {
 	return l.Histology == logbook.HistSSLDysplasia || l.Histology == logbook.HistTSA ||
-		(isSerrated(l.Histology) && (l.Dysplasia == logbook.DysplasiaLow || l.Dysplasia == logbook.DysplasiaHigh))
+		(l.Histology.IsSerrated() && (l.Dysplasia == logbook.DysplasiaLow || l.Dysplasia == logbook.DysplasiaHigh))
 }
 
 // esgeCandidates applies the ESGE 2020 table (Hassan 2020;
@@ -24,12 +24,12 @@ func esgeCandidates(ls []ReadLesion) candidates {
 	var cs candidates
 	var nA, nSer int
 	for _, l := range ls {
-		adenoma, serrated := isAdenomaNoCancer(l.Histology), isSerrated(l.Histology)
+		adenoma, serrated := l.Histology.IsAdenomaNotCancer(), l.Histology.IsSerrated()
 		if !adenoma && !serrated {
 			continue
 		}
 		if l.SizeMM >= 20 && l.Resection == logbook.EMRPiecemeal {
-			cs.add(logbook.Interval3to6m, "lesion %d: %s of %d mm removed piecemeal (early check of the site)", l.LesionNo, histWord(l.Histology), l.SizeMM)
+			cs.add(logbook.Interval3to6m, "lesion %d: %s of %d mm removed piecemeal (early check of the site)", l.LesionNo, l.Histology.Words(), l.SizeMM)
 		}
 		if adenoma {
 			nA++
@@ -43,10 +43,10 @@ func esgeCandidates(ls []ReadLesion) candidates {
 		}
 		nSer++
 		if l.SizeMM >= 10 {
-			cs.add(logbook.Interval3y, "lesion %d: %s of %d mm (serrated polyp of 10 mm or more)", l.LesionNo, histWord(l.Histology), l.SizeMM)
+			cs.add(logbook.Interval3y, "lesion %d: %s of %d mm (serrated polyp of 10 mm or more)", l.LesionNo, l.Histology.Words(), l.SizeMM)
 		}
 		if serratedDysplasia(l) {
-			cs.add(logbook.Interval3y, "lesion %d: serrated polyp with dysplasia (%s)", l.LesionNo, histWord(l.Histology))
+			cs.add(logbook.Interval3y, "lesion %d: serrated polyp with dysplasia (%s)", l.LesionNo, l.Histology.Words())
 		}
 	}
 	if nA >= 5 {

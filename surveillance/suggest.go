@@ -147,7 +147,7 @@ type ReadLesion struct {
 	// optical call rather than from pathology.
 	FromOptical bool
 	// NoSpecimen is true when the lesion will never have histology (see
-	// HasNoSpecimen) and no optical call may stand in for it, so that it is
+	// logbook.Lesion.HasNoSpecimen) and no optical call may stand in for it, so that it is
 	// read as a tubular adenoma with low-grade dysplasia of its recorded
 	// size: the conservative reading (common practice; no guideline table
 	// covers a polyp without histology; clinical-reference §4 step 1).
@@ -164,23 +164,6 @@ type Reading struct {
 	// interval pending, unless a finding among the lesions already read, or
 	// a large lesion not removed, puts the procedure outside the guideline.
 	Awaiting []ReadLesion
-}
-
-// HasNoSpecimen reports a lesion that will never have histology: not
-// retrieved, not sent to pathology, or left in place (resection none)
-// without being sent. Such a lesion is never "awaiting histology", whatever
-// its histology field says (clinical-reference §4 step 1).
-func HasNoSpecimen(l *logbook.Lesion) bool {
-	return l.Retrieved == logbook.No || l.SentToPathology == logbook.No ||
-		(l.Resection == logbook.ResectionNone && l.SentToPathology != logbook.Yes)
-}
-
-// AwaitsHistology reports a lesion whose histology is still to come: no
-// final histology, and a specimen that was sent (or, where sending is not
-// recorded, may have been). Every figure that counts lesions awaiting
-// histology uses this one rule.
-func AwaitsHistology(l *logbook.Lesion) bool {
-	return !l.Histology.IsFinal() && !HasNoSpecimen(l)
 }
 
 // OpticalStandIn returns the histology and dysplasia an optical call stands
@@ -221,7 +204,7 @@ func ReadLesions(c *logbook.Case, mode LesionReading) Reading {
 			rl.Histology, rl.Dysplasia, rl.FromOptical = h, d, true
 		case l.Histology.IsFinal():
 			rl.Histology, rl.Dysplasia = l.Histology, l.Dysplasia
-		case HasNoSpecimen(l):
+		case l.HasNoSpecimen():
 			rl.Histology, rl.Dysplasia, rl.NoSpecimen = logbook.TubularAdenoma, logbook.DysplasiaLow, true
 		default:
 			r.Awaiting = append(r.Awaiting, rl)
@@ -377,18 +360,6 @@ func examGate(p *logbook.Procedure) []string {
 	return rs
 }
 
-// isAdenomaNoCancer reports the adenomas the tables count (tubular,
-// tubulovillous, villous); cancer has already taken the case outside.
-func isAdenomaNoCancer(h logbook.Histology) bool {
-	return h == logbook.TubularAdenoma || h == logbook.TubulovillousAdeno || h == logbook.VillousAdenoma
-}
-
-// isSerrated reports a serrated lesion in the umbrella sense: SSL (with or
-// without dysplasia), TSA or hyperplastic polyp.
-func isSerrated(h logbook.Histology) bool {
-	return h.IsSSL() || h == logbook.HistTSA || h == logbook.HistHyperplastic
-}
-
 // outsideFindings returns the findings that put the procedure outside every
 // guideline's table (clinical-reference §4 step 2), checked before any
 // lesion awaiting histology can make the interval pending: adenocarcinoma;
@@ -420,7 +391,7 @@ func outsideFindings(rd Reading) []string {
 		if l.Histology == logbook.HistHyperplastic {
 			nHP++
 		}
-		if isSerrated(l.Histology) {
+		if l.Histology.IsSerrated() {
 			nSerrated++
 			if l.Segment != logbook.Rectum {
 				nSerratedProx++
@@ -505,25 +476,4 @@ func opticalWord(h logbook.Histology) string {
 		return "SSL"
 	}
 	return "hyperplastic"
-}
-
-// histWord names a histology in plain words for reasons.
-func histWord(h logbook.Histology) string {
-	switch h {
-	case logbook.TubularAdenoma:
-		return "tubular adenoma"
-	case logbook.TubulovillousAdeno:
-		return "tubulovillous adenoma"
-	case logbook.VillousAdenoma:
-		return "villous adenoma"
-	case logbook.HistSSL:
-		return "sessile serrated lesion"
-	case logbook.HistSSLDysplasia:
-		return "sessile serrated lesion with dysplasia"
-	case logbook.HistTSA:
-		return "traditional serrated adenoma"
-	case logbook.HistHyperplastic:
-		return "hyperplastic polyp"
-	}
-	return string(h)
 }

@@ -10,7 +10,7 @@ func usmstfCandidates(ls []ReadLesion) candidates {
 	var nA, nS, nHP int
 	for _, l := range ls {
 		switch {
-		case isAdenomaNoCancer(l.Histology):
+		case l.Histology.IsAdenomaNotCancer():
 			nA++
 			if l.SizeMM >= 20 && l.Resection == logbook.EMRPiecemeal {
 				cs.add(logbook.Interval6m, "lesion %d: adenoma of %d mm removed piecemeal", l.LesionNo, l.SizeMM)
@@ -19,7 +19,7 @@ func usmstfCandidates(ls []ReadLesion) candidates {
 				cs.add(logbook.Interval3y, "lesion %d: adenoma of %d mm (10 mm or more)", l.LesionNo, l.SizeMM)
 			}
 			if l.Histology != logbook.TubularAdenoma {
-				cs.add(logbook.Interval3y, "lesion %d: %s", l.LesionNo, histWord(l.Histology))
+				cs.add(logbook.Interval3y, "lesion %d: %s", l.LesionNo, l.Histology.Words())
 			}
 			if l.Dysplasia == logbook.DysplasiaHigh {
 				cs.add(logbook.Interval3y, "lesion %d: adenoma with high-grade dysplasia", l.LesionNo)
