@@ -280,9 +280,9 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *audit.Profile, pop
 		s.addRows(optical, unfinished)
 		detail := figs.Data.Detail(pop.OperatorID)
 		if detail.Optical != nil {
-			s.body.Add(eligibilityPanel(detail.Optical.Eligibility))
+			s.body.Add(discardPanel(detail.Optical.Discard))
 		}
-		s.body.Add(cautionBox(audit.EligibilityCaution()))
+		s.body.Add(cautionBox(audit.DiscardCaution()))
 		s.body.Add(heading("Surveillance intervals under " + figs.Guideline.Title()))
 		s.addRows(adherence, unfinished)
 		s.body.Add(cautionBox(surveillance.IntervalCaution(figs.Guideline)))
@@ -347,8 +347,8 @@ func groupedCount(n int) string {
 	return audit.FormatCases(audit.Indicator{Kind: "count", Denominator: n})
 }
 
-// eligibilityPanel lists each eligibility threshold in words.
-func eligibilityPanel(e audit.EligibilityFigures) fyne.CanvasObject {
+// discardPanel lists each eligibility threshold in words.
+func discardPanel(e audit.DiscardFigures) fyne.CanvasObject {
 	box := container.NewVBox()
 	box.Add(para(fmt.Sprintf("Rule set: %s. Local minimum: %d cases behind a figure.", e.RuleSet, e.MinCases)))
 	for _, c := range e.Checks {

@@ -91,7 +91,7 @@ func TestAdherence(t *testing.T) {
 	if f() == f() {
 		t.Errorf("factory returned a shared accumulator")
 	}
-	var of AccumulatorFactory = OpticalAuditFactory(surveillance.USMSTF2020, EligibilitySettings{})
+	var of AccumulatorFactory = OpticalAuditFactory(surveillance.USMSTF2020, DiscardSettings{})
 	if of() == of() {
 		t.Errorf("factory returned a shared accumulator")
 	}

@@ -82,7 +82,7 @@ func BenchmarkMetrics(b *testing.B) {
 func BenchmarkOpticalAuditAdd(b *testing.B) {
 	c := fx.Typical()
 	c.Lesions[3].SentToPathology, c.Lesions[3].Histology, c.Lesions[3].Dysplasia = logbook.Yes, fx.TA, logbook.DysplasiaLow
-	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
+	a := NewOpticalAudit(surveillance.USMSTF2020, DiscardSettings{})
 	b.ReportAllocs()
 	for b.Loop() {
 		a.Add(c)

@@ -13,11 +13,11 @@ import (
 // (clinical-reference §7). They live in one place so that the command line,
 // the desktop app and the PDF report print the same words.
 
-// EligibilityCaution returns the caution printed beside every
+// DiscardCaution returns the caution printed beside every
 // resect-and-discard or diagnose-and-leave eligibility figure: the figures
 // describe past performance, and whether either strategy may be used is a
 // matter of local policy.
-func EligibilityCaution() string {
+func DiscardCaution() string {
 	return "These figures describe how past optical diagnoses compared with pathology. They do not " +
 		"permit anyone to discard polyps or leave them in place: local policy decides whether " +
 		"resect-and-discard or diagnose-and-leave is allowed, and under what conditions. " + surveillance.NotDevice

@@ -88,7 +88,7 @@ type caseFacts struct {
 // read fills f from the case under the profile's population rules.
 func (f *caseFacts) read(p *Profile, c *logbook.Case) {
 	pr := &c.Procedure
-	f.eligible = p.Eligible.Includes(pr)
+	f.eligible = p.Detection.Includes(pr)
 	f.stool = p.StoolTest.Includes(pr)
 	f.sex = pr.Sex
 	f.aid = pr.DetectionAid

@@ -408,7 +408,7 @@ func TestEveryIndicatorUnderEveryProfile(t *testing.T) {
 	}
 }
 
-func TestEligibilityRules(t *testing.T) {
+func TestDetectionRules(t *testing.T) {
 	// clinical-reference §2. ASGE/ACG 2024: age ≥45; screening, surveillance,
 	// diagnostic; exclusion none. BSG/JAG 2016: any age, all indications,
 	// exclusion none. ESGE 2017: age ≥50, any indication but therapeutic,

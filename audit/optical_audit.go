@@ -18,11 +18,11 @@ import (
 // OpticalAudit is not safe for concurrent use.
 type OpticalAudit struct {
 	guideline surveillance.Guideline
-	settings  EligibilitySettings
+	settings  DiscardSettings
 
 	all       opticalCounts
 	byImaging [5]opticalCounts // logbook.ImagingModes, then not recorded
-	elig      eligibilityCounts
+	elig      discardCounts
 
 	pivi2N, pivi2NotAdenoma, pivi2NotNeoplastic int
 
@@ -32,8 +32,8 @@ type OpticalAudit struct {
 
 // NewOpticalAudit starts an optical-diagnosis audit whose PIVI 1 intervals
 // follow guideline g (an unknown one is read as DefaultGuideline) and whose
-// eligibility figures follow s (see EligibilitySettings for its defaults).
-func NewOpticalAudit(g surveillance.Guideline, s EligibilitySettings) *OpticalAudit {
+// eligibility figures follow s (see DiscardSettings for its defaults).
+func NewOpticalAudit(g surveillance.Guideline, s DiscardSettings) *OpticalAudit {
 	if _, err := surveillance.ParseGuideline(string(g)); err != nil {
 		g = surveillance.DefaultGuideline
 	}
@@ -42,7 +42,7 @@ func NewOpticalAudit(g surveillance.Guideline, s EligibilitySettings) *OpticalAu
 
 // OpticalAuditFactory returns a factory for the metrics engine's Extra list
 // (it converts to AccumulatorFactory).
-func OpticalAuditFactory(g surveillance.Guideline, s EligibilitySettings) func() Accumulator {
+func OpticalAuditFactory(g surveillance.Guideline, s DiscardSettings) func() Accumulator {
 	return func() Accumulator { return NewOpticalAudit(g, s) }
 }
 
@@ -154,7 +154,7 @@ type OpticalDetail struct {
 	ByImaging        []ImagingFigures       `json:"by_imaging"` // modes with at least one lesion counted
 	PIVI1            PIVI1Detail            `json:"pivi1"`
 	PIVI2            PIVI2Detail            `json:"pivi2"`
-	Eligibility      EligibilityFigures     `json:"eligibility"`
+	Discard          DiscardFigures         `json:"eligibility"`
 	Caution          string                 `json:"caution"`
 }
 
@@ -174,6 +174,6 @@ func (a *OpticalAudit) Detail() OpticalDetail {
 			d.ByImaging = append(d.ByImaging, a.byImaging[slot].figures(imagingName(slot), a.settings.MinCases))
 		}
 	}
-	d.Eligibility = a.elig.figures(a.settings, d.PIVI1, d.PIVI2)
+	d.Discard = a.elig.figures(a.settings, d.PIVI1, d.PIVI2)
 	return d
 }

@@ -82,7 +82,7 @@ func wantProportion(t *testing.T, ind Indicator, id string, k, n int) {
 // TestOpticalAudit checks every optical figure against the hand counts of
 // opticalFixture.
 func TestOpticalAudit(t *testing.T) {
-	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
+	a := NewOpticalAudit(surveillance.USMSTF2020, DiscardSettings{})
 	for _, c := range opticalFixture() {
 		fx.Valid(t, c)
 		a.Add(c)
@@ -206,8 +206,8 @@ func TestImagingSlots(t *testing.T) {
 // TestOpticalDetailJSON: the detail the app and PDF read marshals, with
 // undefined figures as null, both empty and filled.
 func TestOpticalDetailJSON(t *testing.T) {
-	empty := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
-	full := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
+	empty := NewOpticalAudit(surveillance.USMSTF2020, DiscardSettings{})
+	full := NewOpticalAudit(surveillance.USMSTF2020, DiscardSettings{})
 	for _, c := range opticalFixture() {
 		full.Add(c)
 	}

@@ -8,8 +8,8 @@ import (
 	"polypledger/stats"
 )
 
-// ReportPassOptions sets what a ReportPass counts.
-type ReportPassOptions struct {
+// PassOptions sets what a Pass counts.
+type PassOptions struct {
 	// From and To bound the period, both days included.
 	From, To time.Time
 	// Extra are the further per-population figures counted beside the
@@ -22,23 +22,23 @@ type ReportPassOptions struct {
 	CUSUM stats.CUSUMParams
 }
 
-// ReportPass gathers everything a PDF report shows in one streaming pass
-// over the period's cases: the indicators per population (with the extra
-// figures), the quarterly trends, the trainees' progress and the data
-// completeness counts. Add each case once, then call Result. A ReportPass
-// is not safe for concurrent use.
-type ReportPass struct {
+// Pass gathers everything the figures screen and a PDF report show in one
+// streaming pass over the period's cases: the indicators per population
+// (with the extra figures), the quarterly trends, the trainees' progress
+// and the data completeness counts. Add each case once, then call Result.
+// A Pass is not safe for concurrent use.
+type Pass struct {
 	metrics    *Metrics
 	trends     *Trends
 	trainees   *TraineeProgress
 	complete   Completeness
 	byOperator map[string]*Completeness
-	opt        ReportPassOptions
+	opt        PassOptions
 }
 
-// NewReportPass starts a report pass under profile p; it fails when the
+// NewPass starts a report pass under profile p; it fails when the
 // CUSUM parameters are out of range.
-func NewReportPass(p *Profile, o ReportPassOptions) (*ReportPass, error) {
+func NewPass(p *Profile, o PassOptions) (*Pass, error) {
 	if o.CUSUM == (stats.CUSUMParams{}) {
 		o.CUSUM = stats.DefaultCUSUM()
 	}
@@ -49,7 +49,7 @@ func NewReportPass(p *Profile, o ReportPassOptions) (*ReportPass, error) {
 	}
 	withExtra := period
 	withExtra.Extra = o.Extra
-	return &ReportPass{
+	return &Pass{
 		metrics:    NewMetrics(p, withExtra),
 		trends:     NewTrends(p, period),
 		trainees:   tp,
@@ -62,7 +62,7 @@ func NewReportPass(p *Profile, o ReportPassOptions) (*ReportPass, error) {
 // counts only in the trainees' learning curves, which run from a trainee's
 // first case (feed such cases for the trainees whose progress is shown);
 // any other case outside the period is ignored. The case is not retained.
-func (r *ReportPass) Add(c *logbook.Case) {
+func (r *Pass) Add(c *logbook.Case) {
 	if !(&MetricsOptions{From: r.opt.From, To: r.opt.To}).includes(c.PerformedOn) {
 		if !r.opt.From.IsZero() && c.PerformedOn.Before(r.opt.From) {
 			r.trainees.Add(c)
@@ -93,8 +93,9 @@ type PopulationDetail struct {
 	Mismatches []AdherenceMismatch
 }
 
-// ReportData is everything a report is drawn from.
-type ReportData struct {
+// Figures is everything a figures screen or a report is drawn from: the
+// result of one Pass.
+type Figures struct {
 	Metrics  MetricsResult
 	Trends   TrendsResult
 	Trainees []TraineeResult
@@ -107,7 +108,7 @@ type ReportData struct {
 }
 
 // Detail returns the detail of an operator ("" for the unit).
-func (d *ReportData) Detail(operatorID string) PopulationDetail {
+func (d *Figures) Detail(operatorID string) PopulationDetail {
 	for _, p := range d.Details {
 		if p.OperatorID == operatorID {
 			return p
@@ -117,8 +118,8 @@ func (d *ReportData) Detail(operatorID string) PopulationDetail {
 }
 
 // Result returns the figures over every case added.
-func (r *ReportPass) Result() ReportData {
-	d := ReportData{
+func (r *Pass) Result() Figures {
+	d := Figures{
 		Metrics:      r.metrics.Result(),
 		Trends:       r.trends.Result(),
 		Trainees:     r.trainees.Result(),
@@ -149,58 +150,4 @@ func (r *ReportPass) Result() ReportData {
 		}
 	}
 	return d
-}
-
-// Completeness counts what the period's records leave out, for the
-// report's cover: an audit figure is only as good as the fields behind it.
-type Completeness struct {
-	Procedures int
-	Lesions    int
-	// Procedure fields not recorded.
-	MissingAge, MissingSex, MissingIndication, MissingExtent int
-	// MissingBBPS counts procedures with any Boston segment not scored.
-	MissingBBPS int
-	// MissingCaecalPhoto counts complete procedures with no photo answer.
-	MissingCaecalPhoto int
-	// MissingWithdrawal counts complete procedures without a withdrawal
-	// time.
-	MissingWithdrawal  int
-	MissingComfort     int
-	MissingAidUse      int
-	MissingRecommended int
-	// Lesion fields not recorded.
-	MissingSize, MissingOpticalClass int
-	// PendingLesions are lesions sent to pathology whose histology is still
-	// pending (or not yet entered); PendingProcedures the procedures with at
-	// least one.
-	PendingLesions, PendingProcedures int
-}
-
-// add counts one case.
-func (s *Completeness) add(c *logbook.Case) {
-	p := &c.Procedure
-	s.Procedures++
-	s.MissingAge += countIf(p.Age == logbook.NotRecorded)
-	s.MissingSex += countIf(p.Sex == "" || p.Sex == logbook.SexUnknown)
-	s.MissingIndication += countIf(p.Indication == "")
-	s.MissingExtent += countIf(p.Extent == "")
-	s.MissingBBPS += countIf(!p.BBPSRecorded())
-	complete := p.Extent.IsComplete()
-	s.MissingCaecalPhoto += countIf(complete && p.CaecalPhoto == logbook.Unrecorded)
-	s.MissingWithdrawal += countIf(complete && p.WithdrawalSeconds == logbook.NotRecorded)
-	s.MissingComfort += countIf(p.Comfort == logbook.NotRecorded)
-	s.MissingAidUse += countIf(p.DetectionAid == logbook.Unrecorded)
-	s.MissingRecommended += countIf(p.RecommendedInterval == "")
-	pending := false
-	for i := range c.Lesions {
-		l := &c.Lesions[i]
-		s.Lesions++
-		s.MissingSize += countIf(l.SizeMM == logbook.NotRecorded)
-		s.MissingOpticalClass += countIf(l.OpticalClass == "")
-		if l.SentToPathology == logbook.Yes && !l.Histology.IsFinal() {
-			s.PendingLesions++
-			pending = true
-		}
-	}
-	s.PendingProcedures += countIf(pending)
 }

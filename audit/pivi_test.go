@@ -103,7 +103,7 @@ func pivi1Fixture() []struct {
 
 // TestEvaluatePIVI1 checks each worked example and the accumulated figure.
 func TestEvaluatePIVI1(t *testing.T) {
-	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{MinCases: 5})
+	a := NewOpticalAudit(surveillance.USMSTF2020, DiscardSettings{MinCases: 5})
 	for _, tc := range pivi1Fixture() {
 		fx.Valid(t, tc.c)
 		r := EvaluatePIVI1(surveillance.USMSTF2020, tc.c)
@@ -143,7 +143,7 @@ func TestEvaluatePIVI1(t *testing.T) {
 		}
 	}
 	// The eligibility figures repeat the split.
-	e := a.Detail().Eligibility
+	e := a.Detail().Discard
 	if e.IntervalsCompared != 7 || e.IntervalShorter != 1 || e.IntervalLonger != 3 || e.IntervalOutside != 1 {
 		t.Errorf("eligibility interval figures %+v", e)
 	}
@@ -159,7 +159,7 @@ func TestPIVI1GuidelineParameter(t *testing.T) {
 			t.Errorf("%s under ESGE 2020: %+v", tc.c.ID, r)
 		}
 	}
-	if NewOpticalAudit("no-such", EligibilitySettings{}).Detail().PIVI1.Guideline != surveillance.DefaultGuideline {
+	if NewOpticalAudit("no-such", DiscardSettings{}).Detail().PIVI1.Guideline != surveillance.DefaultGuideline {
 		t.Errorf("unknown guideline not read as the default")
 	}
 }

@@ -36,9 +36,9 @@ type Profile struct {
 	Notes string `json:"notes,omitempty"`
 	// MinCases is the denominator below which no verdict is given (default 30).
 	MinCases int `json:"min_cases"`
-	// Eligible is the detection-eligible population (ADR family, pdr, aadr,
+	// Detection is the detection-eligible population (ADR family, pdr, aadr,
 	// apc, proximal_sdr, withdrawal_negative).
-	Eligible Eligibility `json:"detection_eligible"`
+	Detection DetectionRule `json:"detection_eligible"`
 	// StoolTest is the population of adr_stool_test_positive: indication
 	// stool_test_positive with this age and these exclusions.
 	StoolTest StoolTestRule `json:"stool_test_positive"`
@@ -55,11 +55,11 @@ type Profile struct {
 	Targets map[string]Target `json:"targets"`
 }
 
-// Eligibility decides which procedures count in the detection indicators:
+// DetectionRule decides which procedures count in the detection indicators:
 // age at least MinAge (0 = any age), an indication in Indications and an
 // exclusion in Exclusions. An unrecorded indication or exclusion is in no
 // list, so such a procedure is not eligible.
-type Eligibility struct {
+type DetectionRule struct {
 	MinAge      int                  `json:"min_age"`
 	Indications []logbook.Indication `json:"indications"`
 	Exclusions  []logbook.Exclusion  `json:"exclusions"`
@@ -74,7 +74,7 @@ type StoolTestRule struct {
 }
 
 // Includes reports whether the procedure belongs to the population.
-func (e *Eligibility) Includes(p *logbook.Procedure) bool {
+func (e *DetectionRule) Includes(p *logbook.Procedure) bool {
 	return p.Age != logbook.NotRecorded && p.Age >= e.MinAge &&
 		logbook.IsOneOf(p.Indication, e.Indications) && logbook.IsOneOf(p.Exclusion, e.Exclusions)
 }
@@ -377,12 +377,12 @@ func (p *Profile) validate(file string) ProfileErrors {
 			bad(field, "%d is outside 0–%d", age, logbook.MaxAge)
 		}
 	}
-	checkAge("detection_eligible.min_age", p.Eligible.MinAge)
+	checkAge("detection_eligible.min_age", p.Detection.MinAge)
 	checkAge("stool_test_positive.min_age", p.StoolTest.MinAge)
-	if len(p.Eligible.Indications) == 0 {
+	if len(p.Detection.Indications) == 0 {
 		bad("detection_eligible.indications", "must list at least one indication")
 	}
-	for i, c := range p.Eligible.Indications {
+	for i, c := range p.Detection.Indications {
 		if !logbook.IsOneOf(c, logbook.Indications) {
 			bad(fmt.Sprintf("detection_eligible.indications[%d]", i), "unknown indication code %q (known: %s)", c, CodeList(logbook.Indications))
 		}
@@ -397,7 +397,7 @@ func (p *Profile) validate(file string) ProfileErrors {
 			}
 		}
 	}
-	checkExclusions("detection_eligible.exclusions", p.Eligible.Exclusions)
+	checkExclusions("detection_eligible.exclusions", p.Detection.Exclusions)
 	checkExclusions("stool_test_positive.exclusions", p.StoolTest.Exclusions)
 
 	ids := make([]string, 0, len(p.Targets))

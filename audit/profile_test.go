@@ -106,9 +106,9 @@ func TestShippedProfiles(t *testing.T) {
 	}
 	for _, e := range elig {
 		p, _ := FindProfile(ps, e.profile)
-		if p.Eligible.MinAge != e.minAge || !slices.Equal(p.Eligible.Indications, e.inds) ||
-			!slices.Equal(p.Eligible.Exclusions, []logbook.Exclusion{logbook.ExclusionNone}) {
-			t.Errorf("%s eligibility %+v", e.profile, p.Eligible)
+		if p.Detection.MinAge != e.minAge || !slices.Equal(p.Detection.Indications, e.inds) ||
+			!slices.Equal(p.Detection.Exclusions, []logbook.Exclusion{logbook.ExclusionNone}) {
+			t.Errorf("%s eligibility %+v", e.profile, p.Detection)
 		}
 	}
 	// Caecal intubation with photo documentation: Rees 2016 counts

@@ -40,11 +40,11 @@ type ReportFonts struct {
 // ReportInput is everything WritePDF prints: the computed figures and the
 // context a reader needs to trust them.
 type ReportInput struct {
-	Kind        ReportKind
-	UnitName    string
-	Profile     *audit.Profile
-	Guideline   surveillance.Guideline
-	Eligibility audit.EligibilitySettings
+	Kind      ReportKind
+	UnitName  string
+	Profile   *audit.Profile
+	Guideline surveillance.Guideline
+	Discard   audit.DiscardSettings
 	// From and To are the period asked for, both days included.
 	From, To time.Time
 	// GeneratedOn is printed on the cover and stored as the PDF's creation
@@ -56,7 +56,7 @@ type ReportInput struct {
 	// SubjectID is the endoscopist of a personal report or the trainee of a
 	// trainee logbook.
 	SubjectID string
-	Data      audit.ReportData
+	Data      audit.Figures
 	Fonts     ReportFonts
 }
 

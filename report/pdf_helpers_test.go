@@ -41,10 +41,10 @@ func demoNames() map[string]string {
 
 // demoReportData runs a report pass over n invented demo cases in the
 // period, filtered by keep when it is set.
-func demoReportData(t testing.TB, p *audit.Profile, n int, from, to time.Time, keep func(*logbook.Case) bool) audit.ReportData {
+func demoReportData(t testing.TB, p *audit.Profile, n int, from, to time.Time, keep func(*logbook.Case) bool) audit.Figures {
 	t.Helper()
-	pass, err := audit.NewReportPass(p, audit.ReportPassOptions{From: from, To: to, Extra: []audit.AccumulatorFactory{
-		audit.OpticalAuditFactory(surveillance.DefaultGuideline, audit.DefaultEligibilitySettings()),
+	pass, err := audit.NewPass(p, audit.PassOptions{From: from, To: to, Extra: []audit.AccumulatorFactory{
+		audit.OpticalAuditFactory(surveillance.DefaultGuideline, audit.DefaultDiscardSettings()),
 		audit.AdherenceFactory(surveillance.DefaultGuideline, p.Target("interval_adherence"), p.MinCases),
 	}})
 	if err != nil {
@@ -66,10 +66,10 @@ func demoReportData(t testing.TB, p *audit.Profile, n int, from, to time.Time, k
 }
 
 // testInput is a report input over data with the test fonts.
-func testInput(kind ReportKind, p *audit.Profile, subject string, from, to time.Time, data audit.ReportData) ReportInput {
+func testInput(kind ReportKind, p *audit.Profile, subject string, from, to time.Time, data audit.Figures) ReportInput {
 	return ReportInput{
 		Kind: kind, UnitName: demo.UnitName, Profile: p, Guideline: surveillance.DefaultGuideline,
-		Eligibility: audit.DefaultEligibilitySettings(), From: from, To: to,
+		Discard: audit.DefaultDiscardSettings(), From: from, To: to,
 		GeneratedOn: time.Date(2026, 11, 2, 0, 0, 0, 0, time.UTC), Names: demoNames(), SubjectID: subject,
 		Data: data, Fonts: ReportFonts{Regular: assets.FontRegular(), Bold: assets.FontBold()},
 	}

@@ -61,7 +61,7 @@ func (d *doc) methods() {
 	if p.Notes != "" {
 		d.para("Notes: " + p.Notes)
 	}
-	e := p.Eligible
+	e := p.Detection
 	age := "any age"
 	if e.MinAge > 0 {
 		age = fmt.Sprintf("age %d or over", e.MinAge)
@@ -143,7 +143,7 @@ func (d *doc) methods() {
 	d.subheading("Optical diagnosis and surveillance sources", 30)
 	d.definition("PIVI", audit.PIVISource)
 	d.definition("ESGE 2019", "Bisschops R et al., Endoscopy 2019;51:1155–1179, recommendation 4: optical diagnosis may replace histology for diminutive polyps only under strictly controlled conditions; it sets no numeric threshold.")
-	if in.Eligibility.WithDefaults().RuleSet == audit.RuleSetESGE2022 {
+	if in.Discard.WithDefaults().RuleSet == audit.RuleSetESGE2022 {
 		d.definition("ESGE 2022", "Sensitivity and specificity for adenoma of high-confidence calls: for diagnose-and-leave over "+
 			"diminutive rectosigmoid polyps only (at least 80% and 90%), for resect-and-discard over diminutive polyps anywhere "+
 			"(at least 80% and 80%). "+audit.ESGE2022Source)
@@ -172,7 +172,7 @@ func (d *doc) methods() {
 
 	d.subheading("Privacy and cautions", 20)
 	d.para("The report carries procedure ids and patient short codes (derived from a keyed pseudonym) only; no patient name " +
-		"or hospital number is stored or printed. " + audit.AuditCaution() + " " + audit.EligibilityCaution())
+		"or hospital number is stored or printed. " + audit.AuditCaution() + " " + audit.DiscardCaution())
 	if in.Kind == PersonalReport {
 		d.para("In this personal report every other endoscopist is shown only as an anonymous peer, numbered by procedure volume.")
 	}

@@ -58,7 +58,7 @@ func anonymise(in ReportInput) ReportInput {
 		return out
 	}
 	src := in.Data
-	var d audit.ReportData
+	var d audit.Figures
 	d.Metrics = src.Metrics
 	d.Metrics.Operators = relabel(src.Metrics.Operators)
 	d.Trends = audit.TrendsResult{Standard: src.Trends.Standard}

@@ -122,7 +122,7 @@ func (d *doc) cover() {
 		[2]string{"Standard", in.Profile.Title + " (" + in.Profile.ID + ")"},
 		[2]string{"Source", in.Profile.Source},
 		[2]string{"Surveillance guideline", in.Guideline.Title() + " (" + string(in.Guideline) + ")"},
-		[2]string{"Optical diagnosis rules", eligibilityText(in.Eligibility)},
+		[2]string{"Optical diagnosis rules", discardRulesText(in.Discard)},
 		[2]string{"Generated on", formatDay(in.GeneratedOn)},
 	)
 	c := in.Data.Completeness
@@ -199,8 +199,8 @@ func (d *doc) cover() {
 	d.boxed(audit.AuditCaution() + " " + surveillance.IntervalCaution(in.Guideline))
 }
 
-// eligibilityText describes the unit's optical-diagnosis settings.
-func eligibilityText(s audit.EligibilitySettings) string {
+// discardRulesText describes the unit's optical-diagnosis settings.
+func discardRulesText(s audit.DiscardSettings) string {
 	s = s.WithDefaults()
 	rules := "PIVI thresholds (ASGE 2011)"
 	if s.RuleSet == audit.RuleSetESGE2022 {
@@ -567,10 +567,10 @@ func kappaText(k stats.Kappa) string {
 // eligibility prints the threshold checks per population.
 func (d *doc) eligibility(pops []audit.PopulationDetail) {
 	d.subheading("Eligibility for resect-and-discard and diagnose-and-leave", 40)
-	s := d.in.Eligibility.WithDefaults()
+	s := d.in.Discard.WithDefaults()
 	d.note(fmt.Sprintf("Rule set: %s. A threshold is met on the value when the point estimate reaches it, and on the lower limit "+
 		"when the lower end of the 95%% interval does too; fewer than %d cases (the unit's local minimum) are not judged.",
-		eligibilityText(s), s.MinCases))
+		discardRulesText(s), s.MinCases))
 	cols := []column{{"Population", 40, "L"}, {"Strategy", 30, "L"}, {"Figure", 30, "R"}, {"Threshold", 16, "R"},
 		{"Met on value", 18, "C"}, {"Met on lower limit", 24, "C"}, {"Enough cases", 22, "C"}}
 	var rows [][]string
@@ -581,7 +581,7 @@ func (d *doc) eligibility(pops []audit.PopulationDetail) {
 		return "no"
 	}
 	for _, p := range pops {
-		for _, c := range p.Optical.Eligibility.Checks {
+		for _, c := range p.Optical.Discard.Checks {
 			rows = append(rows, []string{d.populationLabel(p.OperatorID), strings.ReplaceAll(c.Strategy, "_", " "),
 				audit.FormatCases(c.Figure) + " " + audit.FormatValue(c.Figure), fmt.Sprintf("%.0f%%", 100*c.Threshold),
 				yes(c.MetOnValue), yes(c.MetOnLowerLimit), fmt.Sprintf("%s (%d)", yes(c.EnoughCases), c.Cases)})
@@ -592,12 +592,12 @@ func (d *doc) eligibility(pops []audit.PopulationDetail) {
 		{"Specimens saved", 28, "R"}, {"Interval shorter", 22, "R"}, {"Interval longer", 22, "R"}}
 	rows = nil
 	for _, p := range pops {
-		e := p.Optical.Eligibility
+		e := p.Optical.Discard
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(e.DiscardEligible), strconv.Itoa(e.LeaveEligible),
 			strconv.Itoa(e.SpecimensSaved), strconv.Itoa(e.IntervalShorter), strconv.Itoa(e.IntervalLonger)})
 	}
 	d.table(cols, rows)
-	d.boxed(audit.EligibilityCaution())
+	d.boxed(audit.DiscardCaution())
 }
 
 // disagreements lists the procedures whose optical-based interval would

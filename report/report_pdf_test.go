@@ -175,7 +175,7 @@ func TestTraineeLogbook(t *testing.T) {
 
 func TestWritePDFRefusesBadInput(t *testing.T) {
 	p := testProfile(t, "asge-acg-2024")
-	base := testInput(UnitReport, p, "", period2025From, period2025To, audit.ReportData{})
+	base := testInput(UnitReport, p, "", period2025From, period2025To, audit.Figures{})
 	cases := []struct {
 		name   string
 		change func(*ReportInput)

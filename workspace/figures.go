@@ -12,13 +12,13 @@ import (
 )
 
 // Figures is everything a screen of figures or a report shows for one
-// period, computed in one streaming pass (audit.ReportPass): the
+// period, computed in one streaming pass (audit.Pass): the
 // indicators of the unit and every operator with the optical-diagnosis and
 // interval figures, the quarterly trends, every trainee's progress and the
 // data completeness.
 type Figures struct {
 	Guideline surveillance.Guideline
-	Data      audit.ReportData
+	Data      audit.Figures
 	// Cases is how many procedures of the period were read.
 	Cases int
 }
@@ -63,7 +63,7 @@ func (a *Audit) ReportFigures(ctx context.Context, req ReportRequest, progress f
 // then the cases of each of trainees before from.
 func (a *Audit) figures(ctx context.Context, f store.CaseFilter, from, to time.Time, g surveillance.Guideline, trainees []string,
 	progress func(cases int)) (Figures, error) {
-	pass, err := audit.NewReportPass(a.Profile, audit.ReportPassOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
+	pass, err := audit.NewPass(a.Profile, audit.PassOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
 	if err != nil {
 		return Figures{}, err
 	}

@@ -35,7 +35,7 @@ func (a *Audit) ReportInput(ctx context.Context, req ReportRequest, figs Figures
 	}
 	return report.ReportInput{
 		Kind: req.Kind, UnitName: a.Settings.UnitName, Profile: a.Profile,
-		Guideline: figs.Guideline, Eligibility: a.Eligibility(),
+		Guideline: figs.Guideline, Discard: a.Discard(),
 		From: req.From, To: req.To, GeneratedOn: req.Now, Names: names, SubjectID: req.SubjectID,
 		Data:  figs.Data,
 		Fonts: report.ReportFonts{Regular: assets.FontRegular(), Bold: assets.FontBold()},

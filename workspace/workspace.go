@@ -207,9 +207,9 @@ func (a *Audit) Guideline(choice string) (surveillance.Guideline, error) {
 	return gl, nil
 }
 
-// Eligibility returns the unit's resect-and-discard settings.
-func (a *Audit) Eligibility() audit.EligibilitySettings {
-	return audit.EligibilitySettings{MinCases: a.Settings.DiscardMinCases, RuleSet: a.Settings.EligibilityRules}
+// Discard returns the unit's resect-and-discard settings.
+func (a *Audit) Discard() audit.DiscardSettings {
+	return audit.DiscardSettings{MinCases: a.Settings.DiscardMinCases, RuleSet: a.Settings.EligibilityRules}
 }
 
 // ExtraFigures are the figures counted beside the profile's indicators in
@@ -217,7 +217,7 @@ func (a *Audit) Eligibility() audit.EligibilitySettings {
 // guideline g and the unit's eligibility settings.
 func (a *Audit) ExtraFigures(g surveillance.Guideline) []audit.AccumulatorFactory {
 	return []audit.AccumulatorFactory{
-		audit.OpticalAuditFactory(g, a.Eligibility()),
+		audit.OpticalAuditFactory(g, a.Discard()),
 		audit.AdherenceFactory(g, a.Profile.Target("interval_adherence"), a.Profile.MinCases),
 	}
 }

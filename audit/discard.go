@@ -10,7 +10,7 @@ import (
 // Resect-and-discard and diagnose-and-leave eligibility figures
 // (clinical-reference §3, "Resect-and-discard eligibility figures").
 
-// Eligibility rule sets.
+// Resect-and-discard rule sets.
 const (
 	// RuleSetPIVI judges PIVI 1 and PIVI 2 against 90% (Rex 2011).
 	RuleSetPIVI = "pivi"
@@ -22,32 +22,32 @@ const (
 // RuleSets lists the selectable eligibility rule sets.
 var RuleSets = []string{RuleSetPIVI, RuleSetESGE2022}
 
-// DefaultEligibilityMinCases is the minimum number of cases behind an
+// DefaultDiscardMinCases is the minimum number of cases behind an
 // eligibility figure when the unit has set none. No published number
 // exists; 30 is the program's usual small-numbers minimum (common
 // practice), and every output prints the minimum in force.
-const DefaultEligibilityMinCases = 30
+const DefaultDiscardMinCases = 30
 
 // ESGE2022Source is the printed reference of the ESGE competence standards.
 const ESGE2022Source = "Houwen BBSL et al. Definition of competence standards for optical diagnosis of diminutive colorectal polyps: European Society of Gastrointestinal Endoscopy (ESGE) Position Statement. Endoscopy 2022;54:88–99. Thresholds as given in the program's clinical reference, recalled from memory and not verified against the text."
 
-// EligibilitySettings are the unit's local choices for the eligibility
+// DiscardSettings are the unit's local choices for the eligibility
 // figures: the minimum number of cases behind a figure before it is judged,
 // and the rule set judged. A MinCases of 0 or less means
-// DefaultEligibilityMinCases; an empty RuleSet means RuleSetPIVI.
-type EligibilitySettings struct {
+// DefaultDiscardMinCases; an empty RuleSet means RuleSetPIVI.
+type DiscardSettings struct {
 	MinCases int
 	RuleSet  string
 }
 
-// DefaultEligibilitySettings returns the settings used when the unit has
+// DefaultDiscardSettings returns the settings used when the unit has
 // chosen none.
-func DefaultEligibilitySettings() EligibilitySettings {
-	return EligibilitySettings{MinCases: DefaultEligibilityMinCases, RuleSet: RuleSetPIVI}
+func DefaultDiscardSettings() DiscardSettings {
+	return DiscardSettings{MinCases: DefaultDiscardMinCases, RuleSet: RuleSetPIVI}
 }
 
 // Check reports a rule set the program does not know.
-func (s EligibilitySettings) Check() error {
+func (s DiscardSettings) Check() error {
 	if s.RuleSet == "" {
 		return nil
 	}
@@ -61,9 +61,9 @@ func (s EligibilitySettings) Check() error {
 
 // WithDefaults fills the empty settings; an unknown rule set is read as
 // PIVI (Check reports it to the user first).
-func (s EligibilitySettings) WithDefaults() EligibilitySettings {
+func (s DiscardSettings) WithDefaults() DiscardSettings {
 	if s.MinCases <= 0 {
-		s.MinCases = DefaultEligibilityMinCases
+		s.MinCases = DefaultDiscardMinCases
 	}
 	if s.Check() != nil || s.RuleSet == "" {
 		s.RuleSet = RuleSetPIVI
@@ -101,9 +101,9 @@ func newCheck(strategy, rule, source string, fig Indicator, threshold float64, m
 	return c
 }
 
-// EligibilityFigures are the resect-and-discard and diagnose-and-leave
+// DiscardFigures are the resect-and-discard and diagnose-and-leave
 // figures of one population.
-type EligibilityFigures struct {
+type DiscardFigures struct {
 	RuleSet  string           `json:"rule_set"`
 	MinCases int              `json:"min_cases"`
 	Checks   []ThresholdCheck `json:"checks"`
@@ -129,9 +129,9 @@ type EligibilityFigures struct {
 	Caution           string `json:"caution"`
 }
 
-// eligibilityCounts is the running state of the lesion-level eligibility
+// discardCounts is the running state of the lesion-level eligibility
 // figures.
-type eligibilityCounts struct {
+type discardCounts struct {
 	// hcDiminutive is the 2×2 table of high-confidence calls of diminutive
 	// lesions with final histology (the ESGE 2022 resect-and-discard
 	// figures); hcRectosigmoid the same for diminutive rectosigmoid lesions
@@ -141,7 +141,7 @@ type eligibilityCounts struct {
 	discard, leave, saved        int
 }
 
-func (e *eligibilityCounts) add(l *logbook.Lesion) {
+func (e *discardCounts) add(l *logbook.Lesion) {
 	if !l.IsDiminutive() || l.Confidence != logbook.HighConfidence {
 		return
 	}
@@ -169,13 +169,13 @@ func (e *eligibilityCounts) add(l *logbook.Lesion) {
 }
 
 // figures judges the rule set of s against the population's figures.
-func (e *eligibilityCounts) figures(s EligibilitySettings, pivi1 PIVI1Detail, pivi2 PIVI2Detail) EligibilityFigures {
-	f := EligibilityFigures{
+func (e *discardCounts) figures(s DiscardSettings, pivi1 PIVI1Detail, pivi2 PIVI2Detail) DiscardFigures {
+	f := DiscardFigures{
 		RuleSet: s.RuleSet, MinCases: s.MinCases,
 		DiscardEligible: e.discard, LeaveEligible: e.leave, SpecimensSaved: e.saved,
 		IntervalsCompared: pivi1.Agreement.Denominator, IntervalShorter: pivi1.Shorter,
 		IntervalLonger: pivi1.Longer, IntervalOutside: pivi1.Outside,
-		Caution: EligibilityCaution(),
+		Caution: DiscardCaution(),
 	}
 	switch s.RuleSet {
 	case RuleSetESGE2022:

@@ -10,22 +10,22 @@ import (
 	"polypledger/surveillance"
 )
 
-func TestEligibilitySettings(t *testing.T) {
-	s := EligibilitySettings{}.WithDefaults()
+func TestDiscardSettings(t *testing.T) {
+	s := DiscardSettings{}.WithDefaults()
 	if s.MinCases != 30 || s.RuleSet != RuleSetPIVI {
 		t.Errorf("defaults %+v", s)
 	}
-	if d := DefaultEligibilitySettings(); d != s {
-		t.Errorf("DefaultEligibilitySettings %+v", d)
+	if d := DefaultDiscardSettings(); d != s {
+		t.Errorf("DefaultDiscardSettings %+v", d)
 	}
-	if s := (EligibilitySettings{MinCases: 12, RuleSet: RuleSetESGE2022}).WithDefaults(); s.MinCases != 12 || s.RuleSet != RuleSetESGE2022 {
+	if s := (DiscardSettings{MinCases: 12, RuleSet: RuleSetESGE2022}).WithDefaults(); s.MinCases != 12 || s.RuleSet != RuleSetESGE2022 {
 		t.Errorf("kept %+v", s)
 	}
-	if err := (EligibilitySettings{RuleSet: "nice-2017"}).Check(); err == nil || !strings.Contains(err.Error(), "nice-2017") {
+	if err := (DiscardSettings{RuleSet: "nice-2017"}).Check(); err == nil || !strings.Contains(err.Error(), "nice-2017") {
 		t.Errorf("unknown rule set: %v", err)
 	}
 	for _, r := range RuleSets {
-		if err := (EligibilitySettings{RuleSet: r}).Check(); err != nil {
+		if err := (DiscardSettings{RuleSet: r}).Check(); err != nil {
 			t.Errorf("%s: %v", r, err)
 		}
 	}
@@ -42,11 +42,11 @@ func diminutiveHP(prefix string, n int, h logbook.Histology) []*logbook.Case {
 	return out
 }
 
-// TestEligibilityPIVI judges PIVI on the point value and on the lower 95%
+// TestDiscardPIVI judges PIVI on the point value and on the lower 95%
 // Wilson limit (Rex 2011 threshold 90%). For k = n the Wilson lower limit
 // is n/(n + z²): 10/10 → 0.7225 (met on value, not on the limit); 40/40 →
 // 0.9124 (met on both).
-func TestEligibilityPIVI(t *testing.T) {
+func TestDiscardPIVI(t *testing.T) {
 	tests := []struct {
 		n                        int
 		enough, onValue, onLimit bool
@@ -55,12 +55,12 @@ func TestEligibilityPIVI(t *testing.T) {
 		{40, true, true, true},
 	}
 	for _, tc := range tests {
-		a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
+		a := NewOpticalAudit(surveillance.USMSTF2020, DiscardSettings{})
 		for _, c := range diminutiveHP("H", tc.n, fx.HP) {
 			a.Add(c)
 		}
-		e := a.Detail().Eligibility
-		if e.RuleSet != RuleSetPIVI || e.MinCases != 30 || len(e.Checks) != 2 || e.Caution != EligibilityCaution() {
+		e := a.Detail().Discard
+		if e.RuleSet != RuleSetPIVI || e.MinCases != 30 || len(e.Checks) != 2 || e.Caution != DiscardCaution() {
 			t.Fatalf("figures %+v", e)
 		}
 		// Each case: its one lesion is both a PIVI 1 case (hyperplastic
@@ -90,17 +90,17 @@ func TestEligibilityPIVI(t *testing.T) {
 	}
 	// 36 of 40 not adenoma: NPV 0.90 exactly meets on value; Wilson lower
 	// limit of 36/40 is 0.7695, below.
-	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
+	a := NewOpticalAudit(surveillance.USMSTF2020, DiscardSettings{})
 	for _, c := range append(diminutiveHP("N", 36, fx.HP), diminutiveHP("Y", 4, fx.TA)...) {
 		a.Add(c)
 	}
-	c := a.Detail().Eligibility.Checks[1]
+	c := a.Detail().Discard.Checks[1]
 	if !c.MetOnValue || c.MetOnLowerLimit || !near4(valOf(c.Figure.CILow), stats.Wilson(36, 40).Low) || c.Figure.Status != Meets {
 		t.Errorf("36/40: %+v", c)
 	}
 }
 
-// TestEligibilityESGE2022 uses the optical fixture's high-confidence
+// TestDiscardESGE2022 uses the optical fixture's high-confidence
 // diminutive calls with histology: O1.1 TP, O1.2 FP, O1.3 TN, O2.1 FN,
 // O2.2 TN, O2.3 TN → sensitivity 1/2, specificity 3/4 for resect and
 // discard. Leave in situ concerns diminutive rectosigmoid lesions only
@@ -110,12 +110,12 @@ func TestEligibilityPIVI(t *testing.T) {
 // for Houwen BBSL et al., Endoscopy 2022;54:88–99 (recalled from memory
 // there; not verified against the text here): leave in situ ≥80% / ≥90%,
 // resect and discard ≥80% / ≥80%.
-func TestEligibilityESGE2022(t *testing.T) {
-	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{MinCases: 4, RuleSet: RuleSetESGE2022})
+func TestDiscardESGE2022(t *testing.T) {
+	a := NewOpticalAudit(surveillance.USMSTF2020, DiscardSettings{MinCases: 4, RuleSet: RuleSetESGE2022})
 	for _, c := range opticalFixture() {
 		a.Add(c)
 	}
-	e := a.Detail().Eligibility
+	e := a.Detail().Discard
 	if e.RuleSet != RuleSetESGE2022 || e.MinCases != 4 || len(e.Checks) != 4 {
 		t.Fatalf("figures %+v", e)
 	}
@@ -154,7 +154,7 @@ func TestEligibilityESGE2022(t *testing.T) {
 func TestCautions(t *testing.T) {
 	for name, text := range map[string]string{
 		"interval":    surveillance.IntervalCaution(surveillance.USMSTF2020),
-		"eligibility": EligibilityCaution(),
+		"eligibility": DiscardCaution(),
 		"audit":       AuditCaution(),
 	} {
 		if !strings.Contains(text, "not a medical device") {
@@ -164,8 +164,8 @@ func TestCautions(t *testing.T) {
 	if !strings.Contains(surveillance.IntervalCaution(surveillance.BSG2020), "responsible clinician") || !strings.Contains(surveillance.IntervalCaution(surveillance.BSG2020), "local policy") {
 		t.Errorf("interval caution: %q", surveillance.IntervalCaution(surveillance.BSG2020))
 	}
-	if !strings.Contains(EligibilityCaution(), "local policy decides") {
-		t.Errorf("eligibility caution: %q", EligibilityCaution())
+	if !strings.Contains(DiscardCaution(), "local policy decides") {
+		t.Errorf("eligibility caution: %q", DiscardCaution())
 	}
 	if !strings.Contains(AuditCaution(), "audit and appraisal") {
 		t.Errorf("audit caution: %q", AuditCaution())
@@ -188,9 +188,9 @@ func TestDiscardAndLeaveCounts(t *testing.T) {
 		fx.Lesion(6, fx.TA, 6, hiAd), // 6 mm: neither
 	)
 	fx.Valid(t, c)
-	a := NewOpticalAudit(surveillance.USMSTF2020, EligibilitySettings{})
+	a := NewOpticalAudit(surveillance.USMSTF2020, DiscardSettings{})
 	a.Add(c)
-	e := a.Detail().Eligibility
+	e := a.Detail().Discard
 	if e.DiscardEligible != 3 || e.LeaveEligible != 1 || e.SpecimensSaved != 2 {
 		t.Errorf("discard %d leave %d saved %d, want 3 1 2", e.DiscardEligible, e.LeaveEligible, e.SpecimensSaved)
 	}
