@@ -194,7 +194,7 @@ func newIntervalBar(ind audit.Indicator) *intervalBar {
 // value, interval and target.
 func (b *intervalBar) scale() (lo, hi float64) {
 	ind := b.ind
-	if (ind.Kind == "" || ind.Kind == "proportion") && ind.Scale == 0 {
+	if def, _ := audit.Lookup(ind.ID); def.Percent() {
 		return 0, 1
 	}
 	lo, hi = 0, 0

@@ -12,7 +12,6 @@ import (
 
 	"polypledger/audit"
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/surveillance"
 	"polypledger/workspace"
 )
@@ -214,13 +213,6 @@ func indicatorsOf(figs workspace.Figures, pop workspace.Population) ([]audit.Ind
 	return m.Unit.Indicators, true
 }
 
-// isOpticalID reports whether an indicator belongs to the optical
-// diagnosis panel rather than to the main rows.
-func isOpticalID(id string) bool {
-	return strings.HasPrefix(id, "pivi") || strings.HasPrefix(id, "optical_") || strings.HasPrefix(id, "aid_") ||
-		id == "high_confidence_rate" || strings.HasPrefix(id, "esge2022_")
-}
-
 // display lays out the rows, charts and panels, from the top.
 func (s *figuresScreen) display(figs workspace.Figures, prof *audit.Profile, pop workspace.Population, charts []chartImage) {
 	s.body.RemoveAll()
@@ -254,13 +246,14 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *audit.Profile, pop
 	s.body.Add(cautionBox(audit.AuditCaution()))
 	s.body.Add(legend())
 
-	var main, optical []audit.Indicator
-	var adherence []audit.Indicator
+	// The optical-diagnosis and surveillance figures have panels of their
+	// own, with their cautions; the rest are listed by catalogue group.
+	var main, optical, adherence []audit.Indicator
 	for _, ind := range inds {
-		switch {
-		case ind.ID == "interval_adherence":
+		switch def, _ := audit.Lookup(ind.ID); def.Group {
+		case audit.GroupSurveillance:
 			adherence = append(adherence, ind)
-		case isOpticalID(ind.ID):
+		case audit.GroupOptical:
 			optical = append(optical, ind)
 		default:
 			main = append(main, ind)
@@ -289,31 +282,12 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *audit.Profile, pop
 	}
 }
 
-// addGroups adds the indicators under the report's group headings.
+// addGroups adds the indicators under the catalogue's group headings, as
+// the report lists them.
 func (s *figuresScreen) addGroups(inds []audit.Indicator, unfinished bool) {
-	used := map[string]bool{}
-	for _, g := range report.IndicatorGroups() {
-		var group []audit.Indicator
-		for _, id := range g.IDs {
-			if ind, ok := audit.Find(inds, id); ok {
-				group = append(group, ind)
-				used[id] = true
-			}
-		}
-		if len(group) > 0 {
-			s.body.Add(heading(g.Title))
-			s.addRows(group, unfinished)
-		}
-	}
-	var rest []audit.Indicator
-	for _, ind := range inds {
-		if !used[ind.ID] {
-			rest = append(rest, ind)
-		}
-	}
-	if len(rest) > 0 {
-		s.body.Add(heading("Other figures"))
-		s.addRows(rest, unfinished)
+	for _, g := range audit.Grouped(inds) {
+		s.body.Add(heading(g.Title))
+		s.addRows(g.Indicators, unfinished)
 	}
 }
 
@@ -343,9 +317,7 @@ func heading(text string) fyne.CanvasObject {
 }
 
 // groupedCount prints a count with thousands separated.
-func groupedCount(n int) string {
-	return audit.FormatCases(audit.Indicator{Kind: "count", Denominator: n})
-}
+func groupedCount(n int) string { return audit.GroupThousands(int64(n)) }
 
 // discardPanel lists each eligibility threshold in words.
 func discardPanel(e audit.DiscardFigures) fyne.CanvasObject {

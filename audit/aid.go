@@ -8,13 +8,8 @@ import "polypledger/stats"
 // Numerator and denominator are the two groups' pooled counts; the value and
 // interval are nil unless both groups have procedures.
 func aidDifference(with, without detectionCount, p *Profile) Indicator {
-	ind := Indicator{
-		ID:                "adr_aid_difference",
-		Numerator:         float64(with.k + without.k),
-		Denominator:       with.n + without.n,
-		Kind:              KindDifference,
-		AwaitingHistology: with.awaiting + without.awaiting,
-	}
+	ind := newIndicator("adr_aid_difference", float64(with.k+without.k), with.n+without.n)
+	ind.AwaitingHistology = with.awaiting + without.awaiting
 	if with.n > 0 && without.n > 0 {
 		d, ci := stats.NewcombeDiff(with.k, with.n, without.k, without.n)
 		ind.Value, ind.CILow, ind.CIHigh = ptr(d), ptr(ci.Low), ptr(ci.High)

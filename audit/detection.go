@@ -8,31 +8,6 @@ import (
 	"polypledger/stats"
 )
 
-// Indicator kinds used in Indicator.Kind beyond the default proportion.
-const (
-	KindRatio      = "ratio"      // a mean count per procedure (apc), exact Poisson interval
-	KindMean       = "mean"       // numerator is a sum, denominator a count, Student t interval
-	KindMedian     = "median"     // numerator is the sum of the values, denominator their count; no interval
-	KindPerYear    = "per_year"   // numerator procedures, denominator days; value per 365 days
-	KindDifference = "difference" // a difference of two proportions, Newcombe hybrid interval
-)
-
-// IndicatorIDs returns the ids of the indicators this package computes, in
-// the order they are reported (clinical-reference §2).
-func IndicatorIDs() []string {
-	return []string{
-		"adr", "adr_male", "adr_female", "adr_stool_test_positive", "ssldr", "pdr", "aadr", "apc",
-		"proximal_sdr", "cir", "cir_adjusted", "caecal_photo", "prep_adequate", "prep_recorded",
-		"prep_adequate_total6", "withdrawal_negative", "withdrawal_timed", "withdrawal_6min_share",
-		"retroversion", "retrieval", "tattoo_large", "cold_snare_small", "comfort_discomfort",
-		"comfort_recorded", "perforation", "bleeding",
-		"sedation_midazolam_median_under70", "sedation_midazolam_median_70plus",
-		"sedation_fentanyl_median_under70", "sedation_fentanyl_median_70plus",
-		"sedation_pethidine_median_under70", "sedation_pethidine_median_70plus",
-		"volume", "adr_with_aid", "adr_without_aid", "adr_aid_difference",
-	}
-}
-
 // Sedation drugs and age bands, in the order of the sedation ids.
 const (
 	drugMidazolam = iota
@@ -359,7 +334,9 @@ func detectionRate(id string, d detectionCount, p *Profile) Indicator {
 	return ind
 }
 
-// indicators returns the population's figures in IndicatorIDs order. per is
+// indicators returns the population's figures, the detection indicators
+// first and the detection-aid comparison last (TestEveryIndicatorUnderEveryProfile
+// gives the order). per is
 // the period (for volume); isUnit says the population is the whole unit,
 // whose volume is only reported.
 //
@@ -424,8 +401,8 @@ func (s *counts) indicators(p *Profile, per Period, isUnit bool) []Indicator {
 		judged(Proportion("cold_snare_small", s.coldSnared, s.coldSmall), p),
 		judged(Proportion("comfort_discomfort", s.discomfort, s.comfortRec), p),
 		judged(Proportion("comfort_recorded", s.comfortRec, s.procs), p),
-		scaled(judged(ExactProportion("perforation", s.perforation, s.procs), p), 1000),
-		scaled(judged(ExactProportion("bleeding", s.bleedNum, s.bleedDen), p), 100),
+		judged(ExactProportion("perforation", s.perforation, s.procs), p),
+		judged(ExactProportion("bleeding", s.bleedNum, s.bleedDen), p),
 	)
 	for d := range nDrugs {
 		for b := range nBands {
@@ -455,15 +432,10 @@ func cirNoted(ind Indicator, p *Profile) Indicator {
 	return ind
 }
 
-func scaled(ind Indicator, scale int) Indicator {
-	ind.Scale = scale
-	return ind
-}
-
 // apc is adenomas per detection-eligible procedure with the exact Poisson
 // interval of the adenoma count divided by the number of procedures.
 func (s *counts) apc(p *Profile) Indicator {
-	ind := Indicator{ID: "apc", Numerator: float64(s.adenomas), Denominator: s.adr.n, Kind: KindRatio}
+	ind := newIndicator("apc", float64(s.adenomas), s.adr.n)
 	if s.adr.n > 0 {
 		n := float64(s.adr.n)
 		ci := stats.PoissonExact(s.adenomas, 0.95)
@@ -478,7 +450,7 @@ func (s *counts) apc(p *Profile) Indicator {
 // detection-eligible procedures: numerator the sum of minutes, denominator
 // their count, Student t interval.
 func (s *counts) withdrawal(p *Profile) Indicator {
-	ind := Indicator{ID: "withdrawal_negative", Numerator: float64(s.wdSum) / 60, Denominator: s.wdN, Kind: KindMean}
+	ind := newIndicator("withdrawal_negative", float64(s.wdSum)/60, s.wdN)
 	if s.wdN > 0 {
 		mean, ci := stats.MeanT(float64(s.wdSum)/60, float64(s.wdSumSq)/3600, s.wdN)
 		ind.Value, ind.CILow, ind.CIHigh = ptr(mean), ptr(ci.Low), ptr(ci.High)
@@ -490,7 +462,7 @@ func (s *counts) withdrawal(p *Profile) Indicator {
 // median is a sedation dose median for one drug and age band.
 func (s *counts) median(drug, band int, p *Profile) Indicator {
 	n := s.sedationN[drug][band]
-	ind := Indicator{ID: sedationID(drug, band), Numerator: s.sedationSum[drug][band], Denominator: n, Kind: KindMedian}
+	ind := newIndicator(sedationID(drug, band), s.sedationSum[drug][band], n)
 	if n > 0 {
 		ind.Value = ptr(stats.MedianOfCounts(s.sedation[drug][band].all(), n))
 	}
@@ -506,7 +478,7 @@ func (s *counts) median(drug, band int, p *Profile) Indicator {
 // when the profile has a target.
 func (s *counts) volume(p *Profile, per Period, isUnit bool) Indicator {
 	days := per.Days()
-	ind := Indicator{ID: "volume", Numerator: float64(s.procs), Denominator: days, Kind: KindPerYear}
+	ind := newIndicator("volume", float64(s.procs), days)
 	if days > 0 {
 		ind.Value = ptr(float64(s.procs) * 365 / float64(days))
 	}
@@ -521,7 +493,7 @@ func (s *counts) volume(p *Profile, per Period, isUnit bool) Indicator {
 		ind.Judge(nil, 0)
 		ask := ind
 		ask.Judge(t, 0)
-		ind.Note = fmt.Sprintf(volumeShortNote, targetText(ask))
+		ind.Note = fmt.Sprintf(volumeShortNote, FormatTarget(ask))
 	default:
 		ind.Judge(t, 0)
 	}

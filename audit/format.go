@@ -3,146 +3,184 @@ package audit
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 )
 
-// indicatorTitles are the printed names of the indicators, in plain words.
-var indicatorTitles = map[string]string{
-	"adr":                               "Adenoma detection rate (ADR)",
-	"adr_male":                          "ADR, men",
-	"adr_female":                        "ADR, women",
-	"adr_stool_test_positive":           "ADR after a positive stool test",
-	"ssldr":                             "Sessile serrated lesion detection rate",
-	"pdr":                               "Polyp detection rate (polypectomy)",
-	"aadr":                              "Advanced adenoma detection rate",
-	"apc":                               "Adenomas per colonoscopy",
-	"proximal_sdr":                      "Proximal serrated lesion detection rate",
-	"cir":                               "Caecal intubation rate (CIR)",
-	"cir_adjusted":                      "CIR, adjusted for obstruction, prep, colitis",
-	"caecal_photo":                      "Caecal photo documentation",
-	"prep_adequate":                     "Adequate bowel prep (every segment ≥2)",
-	"prep_recorded":                     "Bowel prep score recorded",
-	"prep_adequate_total6":              "Adequate bowel prep (Boston total ≥6)",
-	"withdrawal_negative":               "Mean withdrawal time, negative procedures",
-	"withdrawal_timed":                  "Withdrawal time recorded",
-	"withdrawal_6min_share":             "Withdrawal of 6 minutes or more",
-	"retroversion":                      "Rectal retroversion",
-	"retrieval":                         "Polyp retrieval",
-	"tattoo_large":                      "Tattoo of large or suspicious lesions",
-	"cold_snare_small":                  "Cold snare for 3–9 mm polypectomy",
-	"comfort_discomfort":                "Moderate or severe discomfort (comfort 4–5)",
-	"comfort_recorded":                  "Comfort score recorded",
-	"perforation":                       "Perforation",
-	"bleeding":                          "Post-polypectomy bleeding",
-	"sedation_midazolam_median_under70": "Median midazolam, age under 70",
-	"sedation_midazolam_median_70plus":  "Median midazolam, age 70 and over",
-	"sedation_fentanyl_median_under70":  "Median fentanyl, age under 70",
-	"sedation_fentanyl_median_70plus":   "Median fentanyl, age 70 and over",
-	"sedation_pethidine_median_under70": "Median pethidine, age under 70",
-	"sedation_pethidine_median_70plus":  "Median pethidine, age 70 and over",
-	"volume":                            "Procedures per year",
-	"adr_with_aid":                      "ADR with computer-aided detection",
-	"adr_without_aid":                   "ADR without computer-aided detection",
-	"adr_aid_difference":                "ADR difference, with minus without aid",
-	"pivi1_agreement":                   "PIVI 1: interval agreement (resect and discard)",
-	"pivi2_npv":                         "PIVI 2: NPV for adenoma (diagnose and leave)",
-	"pivi2_npv_neoplasia":               "PIVI 2: NPV, SSL and TSA counted positive",
-	"high_confidence_rate":              "High-confidence calls, diminutive polyps",
-	"optical_sensitivity":               "Optical diagnosis: sensitivity for adenoma",
-	"optical_specificity":               "Optical diagnosis: specificity",
-	"optical_ppv":                       "Optical diagnosis: positive predictive value",
-	"optical_npv":                       "Optical diagnosis: negative predictive value",
-	"optical_accuracy":                  "Optical diagnosis: accuracy",
-	"optical_kappa":                     "Optical diagnosis: Cohen's kappa",
-	"aid_sensitivity":                   "Computer-aided call: sensitivity",
-	"aid_specificity":                   "Computer-aided call: specificity",
-	"aid_ppv":                           "Computer-aided call: positive predictive value",
-	"aid_npv":                           "Computer-aided call: negative predictive value",
-	"aid_accuracy":                      "Computer-aided call: accuracy",
-	"aid_kappa":                         "Computer-aided call: Cohen's kappa",
-	"optical_aid_kappa":                 "Endoscopist and aid agreement (kappa)",
-	"interval_adherence":                "Surveillance interval adherence",
-	"unassisted_caecal_intubation":      "Unassisted caecal intubation (trainee)",
-	"esge2022_sensitivity":              "High-confidence calls: sensitivity (ESGE 2022)",
-	"esge2022_specificity":              "High-confidence calls: specificity (ESGE 2022)",
-	"esge2022_leave_sensitivity":        "Rectosigmoid high-confidence calls: sensitivity (ESGE 2022)",
-	"esge2022_leave_specificity":        "Rectosigmoid high-confidence calls: specificity (ESGE 2022)",
+// How a figure prints is decided here, once, from its catalogue entry: the
+// metrics table, the desktop app, the charts and the PDF all print through
+// these functions, so that "31.3%", "0.5 per 1000", "7.5 min" and "2.5 mg"
+// read the same everywhere.
+
+// Scaler prints the values of one indicator, as x/perf's benchunit.Scaler
+// does for benchmark values: the stored value times Factor, with Prec
+// decimals, then Suffix. Definition.Scaler gives each indicator's.
+type Scaler struct {
+	// Factor takes the stored value to the printed number: 100 for a
+	// percentage, 1000 for a figure per 1000, 1 otherwise.
+	Factor float64
+	// Prec is the number of decimals at the usual precision; -1 prints as
+	// few as show the value exactly (a median dose: "2.5", "50").
+	Prec int
+	// Signed prints a "+" before a positive number (a difference).
+	Signed bool
+	// Whole prints a whole number with thousands separated (a yearly count).
+	Whole bool
+	// Suffix follows a value: "%", " per 1000", " min", " mg", " points".
+	Suffix string
+	// Axis names the unit on a chart axis: "%", "per 1000", "minutes",
+	// "µg", "percentage points", "per year"; "" for a plain number.
+	Axis string
+}
+
+// Scaler returns how the indicator's values print, from its kind, scale and
+// unit.
+func (d Definition) Scaler() Scaler {
+	switch d.Kind {
+	case KindMean:
+		axis := d.Unit
+		if axis == "min" {
+			axis = "minutes"
+		}
+		return Scaler{Factor: 1, Prec: 1, Suffix: " " + d.Unit, Axis: axis}
+	case KindRatio, KindKappa:
+		return Scaler{Factor: 1, Prec: 2}
+	case KindMedian:
+		return Scaler{Factor: 1, Prec: -1, Suffix: " " + d.Unit, Axis: d.Unit}
+	case KindPerYear:
+		return Scaler{Factor: 1, Whole: true, Suffix: " per year", Axis: "per year"}
+	case KindDifference:
+		return Scaler{Factor: 100, Prec: 1, Signed: true, Suffix: " points", Axis: "percentage points"}
+	}
+	if d.Scale > 0 {
+		per := "per " + strconv.Itoa(d.Scale)
+		return Scaler{Factor: float64(d.Scale), Prec: 1, Suffix: " " + per, Axis: per}
+	}
+	return Scaler{Factor: 100, Prec: 1, Suffix: "%", Axis: "%"}
+}
+
+// Format prints v at the usual precision with its suffix ("31.3%").
+func (s Scaler) Format(v float64) string { return s.format(v, 0) }
+
+// format prints v with extra decimals beyond the usual precision.
+func (s Scaler) format(v float64, extra int) string { return s.number(v, extra) + s.Suffix }
+
+// number prints v scaled, without its suffix.
+func (s Scaler) number(v float64, extra int) string {
+	x := v * s.Factor
+	switch {
+	case s.Whole:
+		return GroupThousands(int64(math.Round(x)))
+	case s.Prec < 0 && extra == 0:
+		return strconv.FormatFloat(x, 'f', -1, 64)
+	}
+	prec := s.Prec
+	if prec < 0 {
+		prec = 1
+	}
+	n := strconv.FormatFloat(x, 'f', prec+extra, 64)
+	if s.Signed && !math.Signbit(x) {
+		n = "+" + n
+	}
+	return n
+}
+
+// FormatInterval prints lo and hi in brackets in the value's unit ("[25.5%
+// to 36.6%]", "[6.9 to 8.1]"): a percentage keeps its sign on both ends,
+// other units are named once, by the value.
+func (s Scaler) FormatInterval(lo, hi float64) string {
+	end := func(v float64) string {
+		n := s.number(v, 0)
+		if s.Suffix == "%" {
+			n += "%"
+		}
+		return n
+	}
+	return "[" + end(lo) + " to " + end(hi) + "]"
 }
 
 // IndicatorTitle returns the printed name of an indicator id, for tables,
-// chart axes and the desktop app; an id it does not know is returned with
-// its underscores turned to spaces.
-func IndicatorTitle(id string) string {
-	if t, ok := indicatorTitles[id]; ok {
-		return t
-	}
-	return strings.ReplaceAll(id, "_", " ")
-}
-
-// DoseUnit returns the unit a sedation median is measured in, or "".
-func DoseUnit(id string) string {
-	switch {
-	case strings.HasPrefix(id, "sedation_fentanyl"):
-		return "µg"
-	case strings.HasPrefix(id, "sedation_"):
-		return "mg"
-	}
-	return ""
-}
-
-// FormatValue prints an indicator's value as the reports do: rates as
-// percentages to one decimal, per-1000 and per-100 figures as such, means in
-// minutes, sedation medians with their unit, counts with thousands
-// separated, and "–" when there are no cases. A value so close to its
-// target that one decimal would hide which side it lies on gets the
-// decimals that show it ("94.97%" against "≥ 95.0%").
-func FormatValue(ind Indicator) string {
-	s := numberText(ind, ind.Value, verdictDigits(ind))
-	if u := DoseUnit(ind.ID); u != "" && ind.Value != nil {
-		s += " " + u
-	}
-	return s
-}
-
-// FormatInterval prints the 95% interval in brackets in the value's unit,
-// or "" when there is none.
-func FormatInterval(ind Indicator) string { return intervalText(ind) }
-
-// FormatTarget prints the target ("≥ 35.0%", "< 10.0%" for a strict
-// maximum, with any aspirational aim and a dose unit), or "" when the
-// profile sets none.
-func FormatTarget(ind Indicator) string {
-	s := targetText(ind)
-	if u := DoseUnit(ind.ID); u != "" && s != "" {
-		s += " " + u
-	}
-	return s
-}
-
-// FormatCases prints the count behind a figure: "k/n" for proportions and n
-// otherwise, thousands separated.
-func FormatCases(ind Indicator) string { return casesText(ind) }
-
-// countNouns names what an indicator's denominator counts where it is not
-// procedures.
-var countNouns = map[string]string{
-	"retrieval": "polypectomies", "tattoo_large": "lesions", "cold_snare_small": "polypectomies",
-	"bleeding": "procedures with a polypectomy", "pivi2_npv": "lesions", "pivi2_npv_neoplasia": "lesions",
-	"high_confidence_rate": "diminutive polyps", "optical_aid_kappa": "lesions",
-	"esge2022_sensitivity": "lesions", "esge2022_specificity": "lesions",
-}
+// chart axes and the desktop app; an id the catalogue does not know is
+// returned with its underscores turned to spaces.
+func IndicatorTitle(id string) string { return define(id).Title }
 
 // CountNoun names what an indicator counts in its denominator:
 // "procedures" for most, "lesions" for the optical-diagnosis figures,
 // "polypectomies" for retrieval.
-func CountNoun(id string) string {
-	if n, ok := countNouns[id]; ok {
-		return n
+func CountNoun(id string) string { return define(id).Counts }
+
+// FormatValue prints an indicator's value as every output does: rates as
+// percentages to one decimal, per-1000 and per-100 figures as such, means in
+// minutes, sedation medians with their unit, yearly counts with thousands
+// separated, and "–" when there are no cases. A value so close to its
+// target that one decimal would hide which side it lies on gets the
+// decimals that show it ("94.97%" against "≥ 95.0%").
+func FormatValue(ind Indicator) string {
+	if ind.Value == nil {
+		return "–"
 	}
-	if strings.HasPrefix(id, "optical_") || strings.HasPrefix(id, "aid_") {
-		return "lesions"
+	return define(ind.ID).Scaler().format(*ind.Value, verdictDigits(ind))
+}
+
+// verdictDigits is how many decimals beyond the usual an indicator's value
+// needs so that its verdict can be read from the printed numbers: a value
+// of 94.97% against a target of 95% prints as "94.97%", not as "95.0%"
+// beside "below target". It is 0 when the usual precision already tells
+// value and target apart (or they are equal), and at most 4.
+func verdictDigits(ind Indicator) int {
+	if ind.Value == nil || ind.Target == nil || *ind.Value == *ind.Target {
+		return 0
 	}
-	return "procedures"
+	s := define(ind.ID).Scaler()
+	target := s.Format(*ind.Target)
+	for extra := 0; extra < 4; extra++ {
+		v := s.format(*ind.Value, extra)
+		if v != target && v != s.format(*ind.Target, extra) {
+			return extra
+		}
+	}
+	return 4
+}
+
+// FormatInterval prints the 95% interval in brackets in the value's unit,
+// or "" when there is none.
+func FormatInterval(ind Indicator) string {
+	if ind.CILow == nil || ind.CIHigh == nil {
+		return ""
+	}
+	return define(ind.ID).Scaler().FormatInterval(*ind.CILow, *ind.CIHigh)
+}
+
+// FormatTarget prints the target ("≥ 35.0%", "< 10.0%" for a strict
+// maximum, "≤ 5 mg", with any aspirational aim), or "" when the profile
+// sets none.
+func FormatTarget(ind Indicator) string {
+	if ind.Target == nil {
+		return ""
+	}
+	s := define(ind.ID).Scaler()
+	t := TargetSign(ind.Maximum, ind.Strict) + " " + s.Format(*ind.Target)
+	if ind.Aspirational != nil {
+		t += " (aim " + s.Format(*ind.Aspirational) + ")"
+	}
+	return t
+}
+
+// FormatCases prints the count behind a figure: "k/n" for proportions,
+// "k in n" for a mean count, "k in n days" for a yearly count and n
+// otherwise, thousands separated ("1,083/1,145").
+func FormatCases(ind Indicator) string {
+	k := GroupThousands(int64(math.Round(ind.Numerator)))
+	n := GroupThousands(int64(ind.Denominator))
+	switch define(ind.ID).Kind {
+	case KindProportion:
+		return k + "/" + n
+	case KindPerYear:
+		return k + " in " + n + " days"
+	case KindRatio:
+		return k + " in " + n
+	}
+	return n
 }
 
 // FormatCount prints the count behind a figure in words, naming what is
@@ -151,18 +189,18 @@ func CountNoun(id string) string {
 func FormatCount(ind Indicator) string {
 	k := GroupThousands(int64(math.Round(ind.Numerator)))
 	n := GroupThousands(int64(ind.Denominator))
-	noun := CountNoun(ind.ID)
-	switch ind.Kind {
-	case "", "proportion":
-		return k + " of " + n + " " + noun
+	d := define(ind.ID)
+	switch d.Kind {
+	case KindProportion:
+		return k + " of " + n + " " + d.Counts
 	case KindPerYear:
 		return k + " procedures in " + n + " days"
 	case KindRatio:
-		return k + " adenomas in " + n + " " + noun
+		return k + " adenomas in " + n + " " + d.Counts
 	case KindDifference:
-		return "over " + n + " " + noun
+		return "over " + n + " " + d.Counts
 	}
-	return n + " " + noun
+	return n + " " + d.Counts
 }
 
 // FormatVerdict prints the verdict in words; a figure whose histology is
@@ -188,4 +226,55 @@ func VerdictShape(s Status) string {
 		return "○"
 	}
 	return "■"
+}
+
+// GroupThousands prints n with a comma between groups of three digits.
+func GroupThousands(n int64) string {
+	s := strconv.FormatInt(n, 10)
+	neg := strings.HasPrefix(s, "-")
+	s = strings.TrimPrefix(s, "-")
+	var b strings.Builder
+	for i, r := range s {
+		if i > 0 && (len(s)-i)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(r)
+	}
+	if neg {
+		return "-" + b.String()
+	}
+	return b.String()
+}
+
+// GroupedIndicators are the figures listed under one heading.
+type GroupedIndicators struct {
+	Title      string
+	Indicators []Indicator
+}
+
+// Grouped sorts figures under their catalogue group's heading, groups and
+// figures in catalogue order, leaving out empty groups; a figure the
+// catalogue does not know goes under "Other figures", last. The reports'
+// tables and the figures screen list figures this way.
+func Grouped(inds []Indicator) []GroupedIndicators {
+	byGroup := make([][]Indicator, nGroups+1)
+	known := make(map[string]bool, len(inds))
+	for _, d := range catalogue {
+		if ind, ok := Find(inds, d.ID); ok {
+			byGroup[d.Group] = append(byGroup[d.Group], ind)
+			known[d.ID] = true
+		}
+	}
+	for _, ind := range inds {
+		if !known[ind.ID] {
+			byGroup[nGroups] = append(byGroup[nGroups], ind)
+		}
+	}
+	var out []GroupedIndicators
+	for g, list := range byGroup {
+		if len(list) > 0 {
+			out = append(out, GroupedIndicators{Title: Group(g).Title(), Indicators: list})
+		}
+	}
+	return out
 }

@@ -41,7 +41,7 @@ func NewFunnel(r MetricsResult, id string) (Funnel, error) {
 	if !ok {
 		return Funnel{}, fmt.Errorf("funnel plot: no indicator %q in the result", id)
 	}
-	if unit.Kind != "" && unit.Kind != "proportion" || unit.Scale != 0 {
+	if !define(id).Percent() {
 		return Funnel{}, fmt.Errorf("funnel plot: %s is not a rate", id)
 	}
 	if unit.Denominator == 0 {

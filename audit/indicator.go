@@ -50,10 +50,12 @@ type Indicator struct {
 	Aspirational *float64 `json:"aspirational,omitempty"`
 	// Maximum is true when the target is a ceiling (perforation, discomfort).
 	Maximum bool `json:"maximum,omitempty"`
-	// Scale is 1000 or 100 for figures printed per 1000 or per 100.
+	// Scale is 1000 or 100 for figures printed per 1000 or per 100, copied
+	// from the catalogue (Definition.Scale).
 	Scale int `json:"scale,omitempty"`
-	// Kind says how to read Value: "proportion" (default), "mean", "ratio", "kappa", "count".
-	Kind string `json:"kind,omitempty"`
+	// Kind says how to read Value, copied from the catalogue
+	// (Definition.Kind); left out of JSON for a proportion.
+	Kind Kind `json:"kind,omitempty"`
 	// AwaitingHistology counts the denominator's cases still waiting for
 	// histology, for the detection indicators.
 	AwaitingHistology int `json:"awaiting_histology,omitempty"`
@@ -148,9 +150,16 @@ func TargetSign(maximum, strict bool) string {
 	return "≥"
 }
 
+// newIndicator starts the indicator id over numerator and denominator, with
+// the kind and scale its catalogue entry gives it.
+func newIndicator(id string, numerator float64, denominator int) Indicator {
+	d := define(id)
+	return Indicator{ID: id, Numerator: numerator, Denominator: denominator, Kind: d.Kind, Scale: d.Scale}
+}
+
 // Proportion builds an indicator for k of n with its Wilson 95% interval.
 func Proportion(id string, k, n int) Indicator {
-	ind := Indicator{ID: id, Numerator: float64(k), Denominator: n}
+	ind := newIndicator(id, float64(k), n)
 	if n > 0 {
 		ci := stats.Wilson(k, n)
 		ind.Value, ind.CILow, ind.CIHigh = ptr(float64(k)/float64(n)), ptr(ci.Low), ptr(ci.High)
@@ -161,7 +170,7 @@ func Proportion(id string, k, n int) Indicator {
 // ExactProportion builds an indicator for k of n with its Clopper–Pearson
 // 95% interval, used for rare events.
 func ExactProportion(id string, k, n int) Indicator {
-	ind := Indicator{ID: id, Numerator: float64(k), Denominator: n}
+	ind := newIndicator(id, float64(k), n)
 	if n > 0 {
 		ci := stats.ClopperPearson(k, n, 0.95)
 		ind.Value, ind.CILow, ind.CIHigh = ptr(float64(k)/float64(n)), ptr(ci.Low), ptr(ci.High)

@@ -49,7 +49,7 @@ func (t BinaryTable) Matrix() [][]int {
 // numerator the agreements, denominator the items, value κ and interval
 // κ ± 1.96·SE clamped to [−1, 1].
 func kappaIndicator(id string, k stats.Kappa) Indicator {
-	ind := Indicator{ID: id, Numerator: float64(k.Agreements), Denominator: k.N, Kind: "kappa"}
+	ind := newIndicator(id, float64(k.Agreements), k.N)
 	ind.Value, ind.CILow, ind.CIHigh = ptr(k.Kappa), ptr(k.CI.Low), ptr(k.CI.High)
 	return ind
 }

@@ -29,7 +29,7 @@ func valOf(p *float64) float64 {
 // 0.649 (Fleiss–Cohen–Everitt 1969 standard error).
 func TestKappaIndicator(t *testing.T) {
 	ind := kappaIndicator("optical_kappa", stats.CohenKappa([][]int{{20, 5}, {10, 15}}))
-	if ind.Kind != "kappa" || ind.Numerator != 35 || ind.Denominator != 50 ||
+	if ind.Kind != KindKappa || ind.Numerator != 35 || ind.Denominator != 50 ||
 		!near(valOf(ind.Value), 0.40, 1e-4) || !near(valOf(ind.CILow), 0.151092, 1e-4) || !near(valOf(ind.CIHigh), 0.648908, 1e-4) {
 		t.Fatalf("indicator %+v", ind)
 	}

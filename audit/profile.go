@@ -123,44 +123,6 @@ func (es ProfileErrors) Error() string {
 	return strings.Join(parts, "\n")
 }
 
-// IndicatorKind returns how an indicator's value reads, for validating the
-// targets a profile sets: "proportion" (0–1), "ratio", "mean", "median" and
-// "per_year" (zero or more), "kappa" (−1 to 1) and "difference" (no target).
-// The ids are those this package computes (IndicatorIDs) and the
-// optical-diagnosis and interval figures of architecture.md, which other
-// accumulators add.
-func IndicatorKind(id string) (kind string, known bool) {
-	switch id {
-	case "apc":
-		return "ratio", true
-	case "withdrawal_negative":
-		return "mean", true
-	case "volume":
-		return "per_year", true
-	case "adr_aid_difference":
-		return "difference", true
-	case "optical_kappa":
-		return "kappa", true
-	case "pivi2_npv", "pivi2_npv_neoplasia", "pivi1_agreement", "high_confidence_rate",
-		"optical_sensitivity", "optical_specificity", "interval_adherence":
-		return "proportion", true
-	}
-	if strings.HasPrefix(id, "sedation_") {
-		for _, s := range IndicatorIDs() {
-			if s == id {
-				return "median", true
-			}
-		}
-		return "", false
-	}
-	for _, s := range IndicatorIDs() {
-		if s == id {
-			return "proportion", true
-		}
-	}
-	return "", false
-}
-
 // ParseProfile reads one profile file strictly: unknown fields, wrong types,
 // trailing data and every rule of validate are errors of type ProfileErrors,
 // each naming file, field and reason. A missing min_cases means
@@ -408,13 +370,19 @@ func (p *Profile) validate(file string) ProfileErrors {
 	for _, id := range ids {
 		t := p.Targets[id]
 		at := "targets." + id
-		kind, known := IndicatorKind(id)
-		if !known {
+		d, known := Lookup(id)
+		switch {
+		case !known:
 			bad(at, "unknown indicator id %q", id)
 			continue
-		}
-		if kind == "difference" {
+		case d.Kind == KindDifference:
 			bad(at, "%s is a comparison and takes no target", id)
+			continue
+		case d.Judged == ByThreshold:
+			bad(at, "%s is judged against its published threshold, not a profile's target", id)
+			continue
+		case d.Judged == NotJudged:
+			bad(at, "%s is reported without a target; a profile cannot set one", id)
 			continue
 		}
 		if t.Minimum == nil && t.Maximum == nil {
@@ -424,10 +392,10 @@ func (p *Profile) validate(file string) ProfileErrors {
 			bad(at, "sets both minimum and maximum; a target is one or the other")
 		}
 		lo, hi := 0.0, math.Inf(1)
-		switch kind {
-		case "proportion":
+		switch d.Kind {
+		case KindProportion:
 			hi = 1
-		case "kappa":
+		case KindKappa:
 			lo, hi = -1, 1
 		}
 		for _, f := range []struct {
@@ -438,7 +406,7 @@ func (p *Profile) validate(file string) ProfileErrors {
 				continue
 			}
 			if *f.v < lo || *f.v > hi || math.IsNaN(*f.v) {
-				if kind == "proportion" {
+				if d.Kind == KindProportion {
 					bad(at+"."+f.name, "%v is outside 0–1 (write proportions, 0.35 not 35)", *f.v)
 				} else {
 					bad(at+"."+f.name, "%v is outside %v–%v", *f.v, lo, hi)

@@ -177,6 +177,11 @@ func TestParseProfileErrors(t *testing.T) {
 		{"minimum and maximum", strings.Replace(validProfile, `{"minimum": 0.3}`, `{"minimum": 0.3, "maximum": 0.5}`, 1), "targets.adr", "both"},
 		{"aspirational below minimum", strings.Replace(validProfile, `{"minimum": 0.3}`, `{"minimum": 0.3, "aspirational": 0.2}`, 1), "targets.adr.aspirational", "below the minimum"},
 		{"target on a comparison", strings.Replace(validProfile, `"adr":`, `"adr_aid_difference":`, 1), "targets.adr_aid_difference", "takes no target"},
+		// PIVI's 90% is fixed by the statement itself (Rex 2011), and the
+		// optical-diagnosis figures are reported without a target: a profile
+		// target for either would be ignored, so it is refused.
+		{"target on a PIVI figure", strings.Replace(validProfile, `"adr":`, `"pivi2_npv":`, 1), "targets.pivi2_npv", "published threshold"},
+		{"target on a reported figure", strings.Replace(validProfile, `"adr":`, `"optical_sensitivity":`, 1), "targets.optical_sensitivity", "reported without a target"},
 		{"negative mean", strings.Replace(validProfile, `"adr": {"minimum": 0.3}`, `"withdrawal_negative": {"minimum": -6}`, 1), "targets.withdrawal_negative.minimum", "outside"},
 		// Strict targets (clinical-reference §2, "Verdict"): a strict target
 		// nothing can pass is refused, and the field takes true or false.

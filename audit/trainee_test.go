@@ -103,18 +103,18 @@ func TestTraineeProgress(t *testing.T) {
 		id       string
 		num      float64
 		den      int
-		wantKind string
+		wantKind Kind
 	}{
-		{"unassisted_caecal_intubation", 2, 3, ""},
-		{"adr", 1, 3, ""},
+		{"unassisted_caecal_intubation", 2, 3, KindProportion},
+		{"adr", 1, 3, KindProportion},
 		{"withdrawal_negative", 10, 1, KindMean}, // only B: A had a polypectomy, C incomplete
-		{"comfort_discomfort", 1, 2, ""},
-		{"comfort_recorded", 2, 3, ""},
+		{"comfort_discomfort", 1, 2, KindProportion},
+		{"comfort_recorded", 2, 3, KindProportion},
 	}
 	for _, c := range checks {
 		ind := mustFind(t, res[0].Indicators, c.id)
 		if ind.Numerator != c.num || ind.Denominator != c.den || ind.Kind != c.wantKind {
-			t.Errorf("%s = %v/%d kind %q, want %v/%d", c.id, ind.Numerator, ind.Denominator, ind.Kind, c.num, c.den)
+			t.Errorf("%s = %v/%d kind %v, want %v/%d", c.id, ind.Numerator, ind.Denominator, ind.Kind, c.num, c.den)
 		}
 	}
 }

@@ -487,32 +487,38 @@ func (cv curve) Plot(c draw.Canvas, p *plot.Plot) {
 }
 
 // axisScale is how an indicator's values are drawn: the factor from the
-// stored value to the axis and the axis unit.
-func axisScale(ind audit.Indicator) (factor float64, unit string) {
-	switch ind.Kind {
-	case audit.KindMean:
-		return 1, "minutes"
-	case audit.KindRatio, "kappa":
-		return 1, ""
-	case audit.KindMedian:
-		return 1, audit.DoseUnit(ind.ID)
-	case audit.KindPerYear:
-		return 1, "per year"
-	case audit.KindDifference:
-		return 100, "percentage points"
+// stored value to the axis and the axis unit, as the catalogue's Scaler
+// prints them.
+func axisScale(id string) (factor float64, unit string) {
+	s := scaler(id)
+	return s.Factor, s.Axis
+}
+
+// scaler is how the values of indicator id print.
+func scaler(id string) audit.Scaler {
+	d, _ := audit.Lookup(id)
+	return d.Scaler()
+}
+
+// axisBounds are the ends an axis of an indicator's values may not pass:
+// 0 and 100 for a percentage, 0 below a mean; NaN where there is none.
+func axisBounds(id string) (floor, ceil float64) {
+	d, _ := audit.Lookup(id)
+	switch {
+	case d.Percent():
+		return 0, 100
+	case d.Kind == audit.KindMean:
+		return 0, math.NaN()
 	}
-	if ind.Scale > 0 {
-		return float64(ind.Scale), fmt.Sprintf("per %d", ind.Scale)
-	}
-	return 100, "%"
+	return math.NaN(), math.NaN()
 }
 
 // axisUnit is a short axis label naming only the unit of an indicator's
 // values ("per cent", "minutes"), for a vertical axis whose chart title
 // already names the indicator: a long rotated label would squeeze the
 // data area of a short chart.
-func axisUnit(ind audit.Indicator) string {
-	_, unit := axisScale(ind)
+func axisUnit(id string) string {
+	_, unit := axisScale(id)
 	switch unit {
 	case "%":
 		return "per cent"
@@ -523,8 +529,8 @@ func axisUnit(ind audit.Indicator) string {
 }
 
 // axisTitle is an indicator's axis label with its unit.
-func axisTitle(id string, ind audit.Indicator) string {
-	_, unit := axisScale(ind)
+func axisTitle(id string) string {
+	_, unit := axisScale(id)
 	if unit == "" {
 		return audit.IndicatorTitle(id)
 	}

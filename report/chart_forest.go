@@ -34,15 +34,8 @@ type ForestData struct {
 // is opt.Highlight is ringed. Rows without a value show no mark.
 func ForestChart(f ForestData, opt ChartOptions) ([]byte, error) {
 	opt = opt.withDefaults(30 + 6.5*float64(len(f.Rows)))
-	var sample audit.Indicator
-	for _, r := range f.Rows {
-		if r.Indicator.ID != "" {
-			sample = r.Indicator
-			break
-		}
-	}
-	factor, _ := axisScale(sample)
-	p := newPlot(opt.title(audit.IndicatorTitle(f.IndicatorID)), axisTitle(f.IndicatorID, sample), "")
+	factor, _ := axisScale(f.IndicatorID)
+	p := newPlot(opt.title(audit.IndicatorTitle(f.IndicatorID)), axisTitle(f.IndicatorID), "")
 	n := len(f.Rows)
 	labels := make([]string, n)
 	xs := newSpan()
@@ -69,10 +62,7 @@ func ForestChart(f ForestData, opt ChartOptions) ([]byte, error) {
 	if f.Reference != nil {
 		xs.add(*f.Reference * factor)
 	}
-	floor, ceil := math.NaN(), math.NaN()
-	if factor == 100 && sample.Kind != audit.KindDifference {
-		floor, ceil = 0, 100
-	}
+	floor, ceil := axisBounds(f.IndicatorID)
 	p.X.Min, p.X.Max = xs.padded(10, floor, ceil)
 	p.Y.Min, p.Y.Max = -0.6, float64(n)-0.4
 	p.Y.Tick.Marker = nominalTicks{labels: labels}

@@ -204,21 +204,21 @@ func typeName(v any) string { return fmt.Sprintf("%T", v) }
 
 func TestAxisScale(t *testing.T) {
 	cases := []struct {
-		ind    audit.Indicator
+		id     string
 		factor float64
 		unit   string
 	}{
-		{audit.Indicator{ID: "adr"}, 100, "%"},
-		{audit.Indicator{ID: "perforation", Scale: 1000}, 1000, "per 1000"},
-		{audit.Indicator{ID: "withdrawal_negative", Kind: audit.KindMean}, 1, "minutes"},
-		{audit.Indicator{ID: "sedation_fentanyl_median_under70", Kind: audit.KindMedian}, 1, "µg"},
-		{audit.Indicator{ID: "adr_aid_difference", Kind: audit.KindDifference}, 100, "percentage points"},
-		{audit.Indicator{ID: "optical_kappa", Kind: "kappa"}, 1, ""},
+		{"adr", 100, "%"},
+		{"perforation", 1000, "per 1000"},
+		{"withdrawal_negative", 1, "minutes"},
+		{"sedation_fentanyl_median_under70", 1, "µg"},
+		{"adr_aid_difference", 100, "percentage points"},
+		{"optical_kappa", 1, ""},
 	}
 	for _, c := range cases {
-		f, u := axisScale(c.ind)
+		f, u := axisScale(c.id)
 		if f != c.factor || u != c.unit {
-			t.Errorf("%s: factor %v unit %q, want %v %q", c.ind.ID, f, u, c.factor, c.unit)
+			t.Errorf("%s: factor %v unit %q, want %v %q", c.id, f, u, c.factor, c.unit)
 		}
 	}
 }

@@ -46,12 +46,8 @@ type TrendData struct {
 // dashed line with square marks.
 func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 	opt = opt.withDefaults(80)
-	var sample audit.Indicator
-	if len(t.Points) > 0 {
-		sample = t.Points[0].Indicator
-	}
-	factor, _ := axisScale(sample)
-	p := newPlot(opt.title(audit.IndicatorTitle(t.IndicatorID)+" by quarter"), "Quarter", axisUnit(sample))
+	factor, _ := axisScale(t.IndicatorID)
+	p := newPlot(opt.title(audit.IndicatorTitle(t.IndicatorID)+" by quarter"), "Quarter", axisUnit(t.IndicatorID))
 	labels := make([]string, len(t.Points))
 	ys := newSpan()
 	var pts []chartPoint
@@ -99,12 +95,7 @@ func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 	if target != nil {
 		ys.add(*target * factor)
 	}
-	floor, ceil := math.NaN(), math.NaN()
-	if factor == 100 && sample.Kind != audit.KindDifference {
-		floor, ceil = 0, 100
-	} else if sample.Kind == audit.KindMean {
-		floor = 0
-	}
+	floor, ceil := axisBounds(t.IndicatorID)
 	p.Y.Min, p.Y.Max = ys.padded(10, floor, ceil)
 	p.X.Min, p.X.Max = -0.5, math.Max(0.5, float64(len(t.Points))-0.5)
 	p.X.Tick.Marker = nominalTicks{labels: labels, max: 12}
@@ -113,7 +104,7 @@ func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 	mainSty := lineStyle(shadeBlack, 1, nil)
 	cmpSty := lineStyle(shadeGrey, 1, dashed())
 	if target != nil {
-		p.Add(refLine{at: *target * factor, sty: targetSty, below: true, label: "target " + audit.ValueText(sample, target)})
+		p.Add(refLine{at: *target * factor, sty: targetSty, below: true, label: "target " + scaler(t.IndicatorID).Format(*target)})
 	}
 	p.Add(curve{cmpLine, cmpSty}, &points{pts: cmpPts}, curve{line, mainSty}, &points{pts: pts})
 

@@ -10,56 +10,13 @@ import (
 	"strings"
 )
 
-// IndicatorGroup is a heading and the indicators under it.
-type IndicatorGroup struct {
-	Title string
-	IDs   []string
-}
-
-// IndicatorGroups orders the indicators under headings, as the reports'
-// tables and the app's figures screen show them; ids no group names go
-// under "Other figures".
-func IndicatorGroups() []IndicatorGroup {
-	return []IndicatorGroup{
-		{"Detection (detection-eligible procedures)", []string{"adr", "adr_male", "adr_female", "adr_stool_test_positive", "ssldr", "pdr", "aadr", "apc", "proximal_sdr"}},
-		{"Completion and bowel preparation", []string{"cir", "cir_adjusted", "caecal_photo", "prep_adequate", "prep_recorded", "prep_adequate_total6", "retroversion"}},
-		{"Withdrawal", []string{"withdrawal_negative", "withdrawal_timed", "withdrawal_6min_share"}},
-		{"Polypectomy", []string{"retrieval", "tattoo_large", "cold_snare_small"}},
-		{"Comfort and safety", []string{"comfort_discomfort", "comfort_recorded", "perforation", "bleeding"}},
-		{"Sedation (median dose)", []string{"sedation_midazolam_median_under70", "sedation_midazolam_median_70plus", "sedation_fentanyl_median_under70", "sedation_fentanyl_median_70plus", "sedation_pethidine_median_under70", "sedation_pethidine_median_70plus"}},
-		{"Volume and computer-aided detection", []string{"volume", "adr_with_aid", "adr_without_aid", "adr_aid_difference"}},
-		{"Optical diagnosis against pathology (lesions)", []string{"pivi1_agreement", "pivi2_npv", "pivi2_npv_neoplasia", "high_confidence_rate", "optical_sensitivity", "optical_specificity", "optical_ppv", "optical_npv", "optical_accuracy", "optical_kappa", "aid_sensitivity", "aid_specificity", "aid_ppv", "aid_npv", "aid_accuracy", "aid_kappa", "optical_aid_kappa"}},
-		{"Surveillance", []string{"interval_adherence"}},
-	}
-}
-
-// groupedRows returns the rows of an indicator table in group order, with
-// group headings and each indicator's note row.
+// groupedRows returns the rows of an indicator table under the catalogue's
+// group headings (audit.Grouped), with each indicator's note row.
 func (d *doc) groupedRows(inds []audit.Indicator, row func(audit.Indicator) []string) [][]string {
 	var out [][]string
-	used := map[string]bool{}
-	for _, g := range IndicatorGroups() {
-		var group []audit.Indicator
-		for _, id := range g.IDs {
-			if ind, ok := audit.Find(inds, id); ok {
-				group = append(group, ind)
-				used[id] = true
-			}
-		}
-		if len(group) > 0 {
-			out = append(out, []string{groupMark + g.Title})
-			out = append(out, d.withNotes(group, row)...)
-		}
-	}
-	var rest []audit.Indicator
-	for _, ind := range inds {
-		if !used[ind.ID] {
-			rest = append(rest, ind)
-		}
-	}
-	if len(rest) > 0 {
-		out = append(out, []string{groupMark + "Other figures"})
-		out = append(out, d.withNotes(rest, row)...)
+	for _, g := range audit.Grouped(inds) {
+		out = append(out, []string{groupMark + g.Title})
+		out = append(out, d.withNotes(g.Indicators, row)...)
 	}
 	return out
 }
@@ -233,10 +190,9 @@ func (d *doc) operatorOverview() {
 	d.note("Key figures per endoscopist: value and verdict mark (● meets, ▼ below, ○ too few cases to judge). " +
 		"Each endoscopist's page gives cases, intervals and targets.")
 	cols := []column{{"Endoscopist", 40, "L"}, {"Procedures", 17, "R"}}
-	short := map[string]string{"adr": "ADR", "cir": "CIR", "prep_adequate": "Prep adequate", "withdrawal_negative": "Withdrawal",
-		"pivi1_agreement": "PIVI 1 agreement", "pivi2_npv": "PIVI 2 NPV", "interval_adherence": "Interval adherence"}
 	for _, id := range overviewIDs() {
-		cols = append(cols, column{short[id], 17.5, "R"})
+		def, _ := audit.Lookup(id)
+		cols = append(cols, column{def.Short, 17.5, "R"})
 	}
 	var rows [][]string
 	line := func(label string, inds []audit.Indicator) []string {
