@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"strings"
-	"time"
 
 	"polypledger/audit"
 	"polypledger/logbook"
@@ -20,15 +19,10 @@ import (
 // from the config folder's "standards" subfolder.
 func loadProfiles() ([]*audit.Profile, error) { return workspace.LoadProfiles() }
 
-// auditSetup is what the metrics, report and interval commands share: the
-// open database (read-only), its settings and the chosen profile.
-type auditSetup struct {
-	st       *store.Store
-	settings store.Settings
-	profile  *audit.Profile
-}
-
-func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
+// openAudit opens the database read-only for the metrics, report and
+// interval commands, with its settings and the standard profile chosen
+// (the unit's default when standard is ""); the caller closes a.Store.
+func openAudit(ctx context.Context, db, standard string) (*workspace.Audit, error) {
 	if err := mustExist(db); err != nil {
 		return nil, err
 	}
@@ -41,7 +35,7 @@ func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
 		st.Close()
 		return nil, err
 	}
-	w, err := workspace.NewAudit(ctx, st, standard, profiles)
+	a, err := workspace.NewAudit(ctx, st, standard, profiles)
 	if err != nil {
 		st.Close()
 		if errors.Is(err, workspace.ErrUnknownStandard) {
@@ -49,16 +43,13 @@ func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
 		}
 		return nil, err
 	}
-	return &auditSetup{st: st, settings: w.Settings, profile: w.Profile}, nil
+	return a, nil
 }
 
-// shared is the setup as the workspace package holds it.
-func (a *auditSetup) shared() *workspace.Audit {
-	return &workspace.Audit{Store: a.st, Settings: a.settings, Profile: a.profile}
-}
-
-func (a *auditSetup) guideline(flagValue string) (surveillance.Guideline, error) {
-	gl, err := a.shared().Guideline(flagValue)
+// guidelineFlag resolves a --guideline value ("" for the unit's default),
+// an unknown one being a usage error.
+func guidelineFlag(a *workspace.Audit, flagValue string) (surveillance.Guideline, error) {
+	gl, err := a.Guideline(flagValue)
 	if errors.Is(err, workspace.ErrUnknownGuideline) {
 		return "", usagef("--guideline: %v", err)
 	}
@@ -84,8 +75,8 @@ func cmdInterval(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	defer a.st.Close()
-	g, err := a.guideline(*guide)
+	defer a.Store.Close()
+	g, err := guidelineFlag(a, *guide)
 	if err != nil {
 		return err
 	}
@@ -103,12 +94,12 @@ func cmdInterval(ctx context.Context, e *env, args []string) error {
 		return nil
 	}
 	if *id != "" {
-		c, err := a.st.Case(ctx, *id)
+		c, err := a.Store.Case(ctx, *id)
 		if err != nil {
 			return err
 		}
 		add(&c)
-	} else if err := a.st.ForEachCase(ctx, store.CaseFilter{}, add); err != nil {
+	} else if err := a.Store.ForEachCase(ctx, store.CaseFilter{}, add); err != nil {
 		return err
 	}
 	if *format == "json" {
@@ -133,12 +124,6 @@ func writeIntervalText[T any](w io.Writer, g surveillance.Guideline, rows []T, f
 	}
 	fmt.Fprintf(w, "\n%s\n", strings.TrimSpace(surveillance.IntervalCaution(g)))
 	return nil
-}
-
-// computeMetrics streams the period's cases once through the indicator
-// engine.
-func (a *auditSetup) computeMetrics(ctx context.Context, from, to time.Time, g surveillance.Guideline) (audit.MetricsResult, error) {
-	return a.shared().ComputeMetrics(ctx, from, to, g)
 }
 
 func cmdMetrics(ctx context.Context, e *env, args []string) error {
@@ -166,26 +151,19 @@ func cmdMetrics(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	defer a.st.Close()
-	g, err := a.guideline("")
+	defer a.Store.Close()
+	req := workspace.Request{From: from, To: to, Whose: workspace.Population{OperatorID: *operator}, MetricsOnly: true}
+	figs, err := a.Figures(ctx, req, nil)
 	if err != nil {
 		return err
 	}
-	res, err := a.computeMetrics(ctx, from, to, g)
-	if err != nil {
-		return err
-	}
+	res := figs.Metrics
 	if *operator != "" {
-		var keep []audit.OperatorResult
-		for _, op := range res.Operators {
-			if op.OperatorID == *operator {
-				keep = append(keep, op)
-			}
-		}
-		if keep == nil {
+		inds, ok := req.Whose.Indicators(figs)
+		if !ok {
 			return fmt.Errorf("operator %s has no procedures between %s and %s", *operator, *fromS, *toS)
 		}
-		res.Operators = keep
+		res.Operators = []audit.OperatorResult{{OperatorID: *operator, Indicators: inds}}
 	}
 	if *format == "json" {
 		enc := json.NewEncoder(e.stdout)

@@ -8,7 +8,6 @@ import (
 	"time"
 
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/workspace"
 )
 
@@ -51,35 +50,31 @@ func cmdReport(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	defer a.st.Close()
-	g, err := a.guideline("")
+	defer a.Store.Close()
+	roster, err := a.Store.Roster(ctx)
 	if err != nil {
 		return err
 	}
-	roster, err := a.st.Roster(ctx)
-	if err != nil {
-		return err
-	}
-	req := workspace.ReportRequest{Kind: report.UnitReport, From: from, To: to, Guideline: g, Now: time.Now()}
+	req := workspace.Request{From: from, To: to, Now: time.Now()}
 	what := "unit audit report"
 	switch {
 	case *operator != "":
 		if err := rosterRole(roster, "operator", *operator, logbook.RoleEndoscopist); err != nil {
 			return err
 		}
-		req.Kind, req.SubjectID = report.PersonalReport, *operator
+		req.Whose.OperatorID = *operator
 		what = "personal report for " + *operator
 	case *trainee != "":
 		if err := rosterRole(roster, "trainee", *trainee, logbook.RoleTrainee); err != nil {
 			return err
 		}
-		req.Kind, req.SubjectID = report.TraineeReport, *trainee
+		req.Whose.TraineeID = *trainee
 		what = "trainee logbook for " + *trainee
 	}
 	var pages int
 	err = dest.Write(func(w io.Writer) error {
 		pc := &workspace.PageCounter{W: w}
-		err := a.shared().WriteReport(ctx, pc, req, nil)
+		err := a.WriteReport(ctx, pc, req, nil)
 		pages = pc.Pages
 		return err
 	})

@@ -17,13 +17,13 @@ var chartOptions = report.ChartOptions{WidthMM: 160, HeightMM: 90, DPI: 96}
 // as provisional), the ADR funnel and the detection-aid comparison; for a
 // trainee the cases by supervision and the CUSUM learning curve from the
 // trainee's first case.
-func figureCharts(figs workspace.Figures, prof *audit.Profile, pop workspace.Population, today time.Time) []chartImage {
+func figureCharts(figs audit.Figures, prof *audit.Profile, pop workspace.Population, today time.Time) []chartImage {
 	var out []chartImage
 	add := func(name string, png []byte, err error) {
 		out = append(out, chartImage{name: name, png: png, err: err})
 	}
 	if pop.TraineeID != "" {
-		for _, t := range figs.Data.Trainees {
+		for _, t := range figs.Trainees {
 			if t.TraineeID != pop.TraineeID {
 				continue
 			}
@@ -39,7 +39,7 @@ func figureCharts(figs workspace.Figures, prof *audit.Profile, pop workspace.Pop
 		name = pop.OperatorID
 	}
 	td := report.TrendData{IndicatorID: "adr", Name: name}
-	for _, q := range figs.Data.Trends.Quarters {
+	for _, q := range figs.Trends.Quarters {
 		inds := q.Metrics.Unit.Indicators
 		if pop.OperatorID != "" {
 			inds = nil
@@ -62,7 +62,7 @@ func figureCharts(figs workspace.Figures, prof *audit.Profile, pop workspace.Pop
 	png, err := report.TrendChart(td, chartOptions)
 	add("trend", png, err)
 
-	if f, err := audit.NewFunnel(figs.Data.Metrics, "adr"); err == nil {
+	if f, err := audit.NewFunnel(figs.Metrics, "adr"); err == nil {
 		var target *float64
 		if t := prof.Target("adr"); t != nil {
 			target = t.Minimum
@@ -75,7 +75,7 @@ func figureCharts(figs workspace.Figures, prof *audit.Profile, pop workspace.Pop
 		add("funnel", nil, err)
 	}
 
-	for _, c := range audit.AidComparisons(figs.Data.Metrics) {
+	for _, c := range audit.AidComparisons(figs.Metrics) {
 		if c.OperatorID != pop.OperatorID {
 			continue
 		}

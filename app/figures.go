@@ -40,7 +40,7 @@ type figuresScreen struct {
 	shownFor string
 	// last holds the figures of the last pass, for every population, so
 	// that choosing whose figures redraws without reading the cases again.
-	last    workspace.Figures
+	last    audit.Figures
 	lastFor string
 	// busy is set while figures are being worked out; again asks for
 	// another run once they are, when the choices changed meanwhile.
@@ -144,23 +144,26 @@ func (s *figuresScreen) compute() {
 	}
 	prof := s.u.profiles[i]
 	pop := s.population()
-	audit := &workspace.Audit{Store: s.u.st, Settings: s.u.settings, Profile: prof}
-	g, _ := audit.Guideline("")
+	ws := &workspace.Audit{Store: s.u.st, Settings: s.u.settings, Profile: prof}
+	req := workspace.Request{From: from, To: to, Whose: pop, Now: s.u.now()}
+	g, _ := ws.Guideline("")
 	today := s.u.today()
-	key := logbook.FormatDate(from) + " " + logbook.FormatDate(to) + " " + prof.ID + " " + string(g)
+	// One pass serves the unit and every endoscopist; a trainee's figures
+	// come from a pass over the trainee's own cases.
+	key := logbook.FormatDate(from) + " " + logbook.FormatDate(to) + " " + prof.ID + " " + string(g) + " " + pop.TraineeID
 	reuse := !s.stale && key == s.lastFor
 	cached := s.last
 	s.stale = false
 	s.busy = true
 	s.show.Disable()
-	var figs workspace.Figures
+	var figs audit.Figures
 	var charts []chartImage
 	s.u.jobs.run("Working out the figures", func(ctx context.Context, progress progressFunc) error {
 		if reuse {
 			figs = cached
 		} else {
 			var err error
-			figs, err = audit.ComputeFigures(ctx, from, to, g, func(n int) {
+			figs, err = ws.Figures(ctx, req, func(n int) {
 				progress(-1, fmt.Sprintf("%d cases read", n))
 			})
 			if err != nil {
@@ -191,35 +194,13 @@ func (s *figuresScreen) compute() {
 	})
 }
 
-// indicatorsOf returns the indicators of a population from the figures.
-func indicatorsOf(figs workspace.Figures, pop workspace.Population) ([]audit.Indicator, bool) {
-	m := figs.Data.Metrics
-	switch {
-	case pop.TraineeID != "":
-		for _, t := range figs.Data.Trainees {
-			if t.TraineeID == pop.TraineeID {
-				return t.Indicators, true
-			}
-		}
-		return nil, false
-	case pop.OperatorID != "":
-		for _, o := range m.Operators {
-			if o.OperatorID == pop.OperatorID {
-				return o.Indicators, true
-			}
-		}
-		return nil, false
-	}
-	return m.Unit.Indicators, true
-}
-
 // display lays out the rows, charts and panels, from the top.
-func (s *figuresScreen) display(figs workspace.Figures, prof *audit.Profile, pop workspace.Population, charts []chartImage) {
+func (s *figuresScreen) display(figs audit.Figures, prof *audit.Profile, pop workspace.Population, charts []chartImage) {
 	s.body.RemoveAll()
 	s.rows = map[string]*figureRow{}
 	s.scroll.ScrollToTop()
 	who := s.whose.Selected
-	period := figs.Data.Metrics.From + " to " + figs.Data.Metrics.To
+	period := figs.Metrics.From + " to " + figs.Metrics.To
 	s.shownFor = fmt.Sprintf("%s, %s, %s", who, period, prof.Title)
 	from, to, _ := s.period.read()
 	unfinished := audit.PeriodUnfinished(to, s.u.today())
@@ -229,8 +210,9 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *audit.Profile, pop
 			"Choose %q for a period that is over.", logbook.FormatDate(to), quickQuarter))
 		s.status.Show()
 	}
-	inds, ok := indicatorsOf(figs, pop)
-	if !ok || figs.Cases == 0 {
+	inds, ok := pop.Indicators(figs)
+	cases := figs.Completeness.Procedures
+	if !ok || cases == 0 {
 		what := "no procedures"
 		if pop.TraineeID != "" {
 			what = "no procedures with this trainee holding the scope"
@@ -242,7 +224,11 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *audit.Profile, pop
 		s.body.Add(hint)
 		return
 	}
-	s.message.SetText(fmt.Sprintf("%s  ·  %s procedures of the unit in the period", s.shownFor, groupedCount(figs.Cases)))
+	whose := "procedures of the unit in the period"
+	if pop.TraineeID != "" {
+		whose = "procedures with the trainee holding the scope in the period"
+	}
+	s.message.SetText(fmt.Sprintf("%s  ·  %s %s", s.shownFor, groupedCount(cases), whose))
 	s.body.Add(cautionBox(audit.AuditCaution()))
 	s.body.Add(legend())
 
@@ -271,7 +257,7 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *audit.Profile, pop
 	if pop.TraineeID == "" {
 		s.body.Add(heading("Optical diagnosis and resect-and-discard eligibility"))
 		s.addRows(optical, unfinished)
-		detail := figs.Data.Detail(pop.OperatorID)
+		detail := figs.Detail(pop.OperatorID)
 		if detail.Optical != nil {
 			s.body.Add(discardPanel(detail.Optical.Discard))
 		}

@@ -12,8 +12,10 @@ import (
 	"polypledger/workspace"
 )
 
-// TestFiguresMatchMetrics checks that every row shows the figure the
-// metrics command computes for the same data, period and standard.
+// TestFiguresMatchMetrics checks that every row shows the figure
+// workspace.Audit.Figures computes for the same request — the path the
+// metrics command and the reports take — for the unit, two endoscopists
+// and a trainee.
 func TestFiguresMatchMetrics(t *testing.T) {
 	u := newTestUI(t, 1500)
 	s := u.figures
@@ -25,27 +27,23 @@ func TestFiguresMatchMetrics(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	g, _ := ws.Guideline("")
-	want, err := ws.ComputeMetrics(u.ctx, from, to, g)
-	if err != nil {
-		t.Fatal(err)
-	}
-	for i, label := range s.whose.Options {
-		if i > 2 {
-			break // the unit and the first two endoscopists
+	trainee := -1
+	for i, p := range s.whoIDs {
+		if p.TraineeID != "" && trainee < 0 {
+			trainee = i
 		}
+	}
+	for _, i := range []int{0, 1, 2, trainee} {
+		label := s.whose.Options[i]
 		s.whose.SetSelected(label)
 		s.compute()
 		u.jobs.wait()
-		inds := want.Unit.Indicators
-		if pop := s.population(); pop.OperatorID != "" {
-			inds = nil
-			for _, o := range want.Operators {
-				if o.OperatorID == pop.OperatorID {
-					inds = o.Indicators
-				}
-			}
+		pop := s.population()
+		figs, err := ws.Figures(u.ctx, workspace.Request{From: from, To: to, Whose: pop}, nil)
+		if err != nil {
+			t.Fatal(err)
 		}
+		inds, _ := pop.Indicators(figs)
 		if len(inds) == 0 || len(s.rows) != len(inds) {
 			t.Fatalf("%s: %d rows for %d indicators", label, len(s.rows), len(inds))
 		}

@@ -121,7 +121,7 @@ func TestChoosingWhoseFiguresStartsAtTheTop(t *testing.T) {
 	if s.scroll.Offset.Y != 0 {
 		t.Errorf("after choosing another endoscopist the figures stay scrolled to %v", s.scroll.Offset.Y)
 	}
-	if !strings.HasPrefix(s.shownFor, s.whose.Options[1]) || s.last.Cases != before.Cases {
+	if !strings.HasPrefix(s.shownFor, s.whose.Options[1]) || s.last.Completeness != before.Completeness {
 		t.Errorf("figures shown for %q", s.shownFor)
 	}
 }

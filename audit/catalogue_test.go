@@ -24,10 +24,7 @@ func producedIndicators(t *testing.T) []Indicator {
 	var out []Indicator
 	for _, rules := range RuleSets {
 		prof := shipped(t, "bsg-jag-2016")
-		pass, err := NewPass(prof, PassOptions{Extra: []AccumulatorFactory{
-			OpticalAuditFactory(surveillance.USMSTF2020, DiscardSettings{RuleSet: rules}),
-			AdherenceFactory(surveillance.USMSTF2020, prof.Target("interval_adherence"), prof.MinCases),
-		}})
+		pass, err := NewPass(prof, PassOptions{Guideline: surveillance.USMSTF2020, Discard: DiscardSettings{RuleSet: rules}})
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -6,41 +6,51 @@ import (
 
 	"polypledger/logbook"
 	"polypledger/stats"
+	"polypledger/surveillance"
 )
 
 // PassOptions sets what a Pass counts.
 type PassOptions struct {
-	// From and To bound the period, both days included.
+	// From and To bound the period, both days included; a zero time leaves
+	// that end open.
 	From, To time.Time
-	// Extra are the further per-population figures counted beside the
-	// profile's indicators, as for the metrics command: the report reads
-	// the optical-diagnosis audit and interval adherence from the
-	// accumulators these make (OpticalAuditFactory, AdherenceFactory).
-	Extra []AccumulatorFactory
+	// Guideline is the surveillance guideline of PIVI 1 and of interval
+	// adherence; an unknown one is read as surveillance.DefaultGuideline.
+	Guideline surveillance.Guideline
+	// Discard are the unit's resect-and-discard settings (see
+	// DiscardSettings for their defaults).
+	Discard DiscardSettings
+	// MetricsOnly counts the indicators per population and the data
+	// completeness only, leaving out the quarterly trends and the trainees'
+	// progress: what the metrics command prints, at the speed it promises.
+	MetricsOnly bool
 	// CUSUM are the learning-curve parameters of the trainee figures; the
-	// zero value means DefaultCUSUM.
+	// zero value means stats.DefaultCUSUM.
 	CUSUM stats.CUSUMParams
 }
 
 // Pass gathers everything the figures screen and a PDF report show in one
 // streaming pass over the period's cases: the indicators per population
-// (with the extra figures), the quarterly trends, the trainees' progress
-// and the data completeness counts. Add each case once, then call Result.
-// A Pass is not safe for concurrent use.
+// with the optical-diagnosis audit and interval adherence, the quarterly
+// trends, the trainees' progress and the data completeness counts. Add
+// each case once, then call Result. A Pass is not safe for concurrent use.
 type Pass struct {
 	metrics    *Metrics
-	trends     *Trends
-	trainees   *TraineeProgress
+	trends     *Trends          // nil with MetricsOnly
+	trainees   *TraineeProgress // nil with MetricsOnly
 	complete   Completeness
 	byOperator map[string]*Completeness
 	opt        PassOptions
 }
 
-// NewPass starts a report pass under profile p; it fails when the
-// CUSUM parameters are out of range.
+// NewPass starts a pass under profile p; it fails when the CUSUM
+// parameters are out of range.
 func NewPass(p *Profile, o PassOptions) (*Pass, error) {
 	if o.CUSUM == (stats.CUSUMParams{}) {
 		o.CUSUM = stats.DefaultCUSUM()
+	}
+	if _, err := surveillance.ParseGuideline(string(o.Guideline)); err != nil {
+		o.Guideline = surveillance.DefaultGuideline
 	}
 	period := MetricsOptions{From: o.From, To: o.To}
 	tp, err := NewTraineeProgress(p, o.CUSUM, period)
@@ -48,14 +58,15 @@ func NewPass(p *Profile, o PassOptions) (*Pass, error) {
 		return nil, err
 	}
 	withExtra := period
-	withExtra.Extra = o.Extra
-	return &Pass{
-		metrics:    NewMetrics(p, withExtra),
-		trends:     NewTrends(p, period),
-		trainees:   tp,
-		byOperator: map[string]*Completeness{},
-		opt:        o,
-	}, nil
+	withExtra.Extra = []AccumulatorFactory{
+		OpticalAuditFactory(o.Guideline, o.Discard),
+		AdherenceFactory(o.Guideline, p.Target("interval_adherence"), p.MinCases),
+	}
+	r := &Pass{metrics: NewMetrics(p, withExtra), byOperator: map[string]*Completeness{}, opt: o}
+	if !o.MetricsOnly {
+		r.trends, r.trainees = NewTrends(p, period), tp
+	}
+	return r, nil
 }
 
 // Add counts one case in every accumulator. A case before the period
@@ -64,14 +75,16 @@ func NewPass(p *Profile, o PassOptions) (*Pass, error) {
 // any other case outside the period is ignored. The case is not retained.
 func (r *Pass) Add(c *logbook.Case) {
 	if !(&MetricsOptions{From: r.opt.From, To: r.opt.To}).includes(c.PerformedOn) {
-		if !r.opt.From.IsZero() && c.PerformedOn.Before(r.opt.From) {
+		if r.trainees != nil && !r.opt.From.IsZero() && c.PerformedOn.Before(r.opt.From) {
 			r.trainees.Add(c)
 		}
 		return
 	}
 	r.metrics.Add(c)
-	r.trends.Add(c)
-	r.trainees.Add(c)
+	if r.trends != nil {
+		r.trends.Add(c)
+		r.trainees.Add(c)
+	}
 	r.complete.add(c)
 	oc := r.byOperator[c.OperatorID]
 	if oc == nil {
@@ -96,7 +109,11 @@ type PopulationDetail struct {
 // Figures is everything a figures screen or a report is drawn from: the
 // result of one Pass.
 type Figures struct {
-	Metrics  MetricsResult
+	// Guideline is the surveillance guideline PIVI 1 and interval
+	// adherence were worked out under.
+	Guideline surveillance.Guideline
+	Metrics   MetricsResult
+	// Trends and Trainees are empty after a MetricsOnly pass.
 	Trends   TrendsResult
 	Trainees []TraineeResult
 	// Details holds the unit first, then each operator in Metrics order.
@@ -120,12 +137,14 @@ func (d *Figures) Detail(operatorID string) PopulationDetail {
 // Result returns the figures over every case added.
 func (r *Pass) Result() Figures {
 	d := Figures{
+		Guideline:    r.opt.Guideline,
 		Metrics:      r.metrics.Result(),
-		Trends:       r.trends.Result(),
-		Trainees:     r.trainees.Result(),
 		Completeness: r.complete,
 
 		OperatorCompleteness: make(map[string]Completeness, len(r.byOperator)),
+	}
+	if r.trends != nil {
+		d.Trends, d.Trainees = r.trends.Result(), r.trainees.Result()
 	}
 	for id, c := range r.byOperator {
 		d.OperatorCompleteness[id] = *c

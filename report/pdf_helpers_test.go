@@ -43,10 +43,8 @@ func demoNames() map[string]string {
 // period, filtered by keep when it is set.
 func demoReportData(t testing.TB, p *audit.Profile, n int, from, to time.Time, keep func(*logbook.Case) bool) audit.Figures {
 	t.Helper()
-	pass, err := audit.NewPass(p, audit.PassOptions{From: from, To: to, Extra: []audit.AccumulatorFactory{
-		audit.OpticalAuditFactory(surveillance.DefaultGuideline, audit.DefaultDiscardSettings()),
-		audit.AdherenceFactory(surveillance.DefaultGuideline, p.Target("interval_adherence"), p.MinCases),
-	}})
+	pass, err := audit.NewPass(p, audit.PassOptions{From: from, To: to, Guideline: surveillance.DefaultGuideline,
+		Discard: audit.DefaultDiscardSettings()})
 	if err != nil {
 		t.Fatal(err)
 	}

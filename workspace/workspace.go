@@ -211,27 +211,3 @@ func (a *Audit) Guideline(choice string) (surveillance.Guideline, error) {
 func (a *Audit) Discard() audit.DiscardSettings {
 	return audit.DiscardSettings{MinCases: a.Settings.DiscardMinCases, RuleSet: a.Settings.EligibilityRules}
 }
-
-// ExtraFigures are the figures counted beside the profile's indicators in
-// the same pass: the optical-diagnosis audit and interval adherence, under
-// guideline g and the unit's eligibility settings.
-func (a *Audit) ExtraFigures(g surveillance.Guideline) []audit.AccumulatorFactory {
-	return []audit.AccumulatorFactory{
-		audit.OpticalAuditFactory(g, a.Discard()),
-		audit.AdherenceFactory(g, a.Profile.Target("interval_adherence"), a.Profile.MinCases),
-	}
-}
-
-// ComputeMetrics streams the period's cases once through the indicator
-// engine (both ends included; a zero time leaves that end open).
-func (a *Audit) ComputeMetrics(ctx context.Context, from, to time.Time, g surveillance.Guideline) (audit.MetricsResult, error) {
-	m := audit.NewMetrics(a.Profile, audit.MetricsOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
-	err := a.Store.ForEachCase(ctx, store.CaseFilter{From: from, To: to}, func(c *logbook.Case) error {
-		m.Add(c)
-		return nil
-	})
-	if err != nil {
-		return audit.MetricsResult{}, err
-	}
-	return m.Result(), nil
-}
