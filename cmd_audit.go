@@ -10,6 +10,7 @@ import (
 
 	"polypledger/audit"
 	"polypledger/logbook"
+	"polypledger/report"
 	"polypledger/store"
 	"polypledger/surveillance"
 	"polypledger/workspace"
@@ -170,5 +171,5 @@ func cmdMetrics(ctx context.Context, e *env, args []string) error {
 		enc.SetIndent("", "  ")
 		return enc.Encode(res)
 	}
-	return audit.WriteTable(e.stdout, res)
+	return report.WriteTable(e.stdout, res)
 }

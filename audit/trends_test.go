@@ -1,7 +1,6 @@
 package audit
 
 import (
-	"bytes"
 	"fmt"
 	"strings"
 	"testing"
@@ -104,67 +103,6 @@ func TestRollingADR(t *testing.T) {
 		p := pts[c.i]
 		if p.MonthEnd != c.end || p.Months != c.months || p.Indicator.Numerator != c.num || float64(p.Indicator.Denominator) != c.den {
 			t.Errorf("point %d = %s months %d %v/%d, want %s %d %v/%v", c.i, p.MonthEnd, p.Months, p.Indicator.Numerator, p.Indicator.Denominator, c.end, c.months, c.num, c.den)
-		}
-	}
-}
-
-func TestWriteTable(t *testing.T) {
-	// 1 adenoma in 3 eligible procedures = 33.3%; one perforation in 3 =
-	// 333.3 per 1000.
-	opt := MetricsOptions{From: mkDate(t, "2026-01-01"), To: mkDate(t, "2026-03-31")}
-	m := NewMetrics(shipped(t, "asge-acg-2024"), opt)
-	for _, c := range []logbook.Case{mkCase(withLesions(mkLesion())), mkCase(eAdverse(logbook.Perforation)), mkCase(eWithdrawal(450))} {
-		m.Add(&c)
-	}
-	var buf bytes.Buffer
-	if err := WriteTable(&buf, m.Result()); err != nil {
-		t.Fatal(err)
-	}
-	out := buf.String()
-	for _, want := range []string{
-		"2026-01-01 to 2026-03-31", "asge-acg-2024", "Unit", "Operator E01",
-		"33.3%", "1/3", "333.3 per 1000", "7.5 min", "too few cases to judge", "reported (no target)",
-		"≥ 35.0%", "[", AuditCaution(),
-	} {
-		if !strings.Contains(out, want) {
-			t.Errorf("table lacks %q:\n%s", want, out)
-		}
-	}
-	// Aligned: the adr row's value starts in the same column as the header's.
-	lines := strings.Split(out, "\n")
-	var head, adr string
-	for _, l := range lines {
-		if strings.HasPrefix(l, "indicator") && head == "" {
-			head = l
-		}
-		if strings.HasPrefix(l, "adr ") && adr == "" {
-			adr = l
-		}
-	}
-	if strings.Index(head, "value") != strings.Index(adr, "33.3%") {
-		t.Errorf("columns not aligned:\n%s\n%s", head, adr)
-	}
-}
-
-// TestWriteTableStrictAndNote checks that the terminal table prints a strict
-// target's sign and every figure's Note (clinical-reference §2: discomfort
-// below 10%, Siau 2023, strict; volume over a quarter reported with a note).
-func TestWriteTableStrictAndNote(t *testing.T) {
-	opt := MetricsOptions{From: mkDate(t, "2026-01-01"), To: mkDate(t, "2026-03-31")}
-	m := NewMetrics(shipped(t, "bsg-jag-2016"), opt)
-	for _, c := range comfortCases() {
-		m.Add(&c)
-	}
-	r := m.Result()
-	var buf bytes.Buffer
-	if err := WriteTable(&buf, r); err != nil {
-		t.Fatal(err)
-	}
-	out := buf.String()
-	vol := mustFind(t, r.Operators[0].Indicators, "volume")
-	for _, want := range []string{"< 10.0%", vol.Note, VolumeUnitNote, CIRPhotoNote} {
-		if want == "" || !strings.Contains(out, want) {
-			t.Errorf("table lacks %q:\n%s", want, out)
 		}
 	}
 }
