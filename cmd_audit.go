@@ -58,26 +58,18 @@ func guidelineFlag(a *workspace.Audit, flagValue string) (surveillance.Guideline
 }
 
 func cmdInterval(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("interval", "--db PATH [--procedure ID] [--guideline G] [--format json|text]", e.stderr)
-	db := fs.String("db", "", "database file")
+	fs := newCommand("interval", "--db PATH [--procedure ID] [--guideline G] [--format json|text]", e.stderr).
+		withDB("").withGuideline().withFormat("text", "json", "text")
 	id := fs.String("procedure", "", "procedure id (default: every procedure)")
-	guide := fs.String("guideline", "", "usmstf-2020, esge-2020 or bsg-2020 (default from unit settings)")
-	format := fs.String("format", "text", "json or text")
-	if err := parseFlagsOnly(fs, args); err != nil {
+	if err := fs.parseOnly(args); err != nil {
 		return err
 	}
-	if err := need("db", *db); err != nil {
-		return err
-	}
-	if *format != "json" && *format != "text" {
-		return usagef("--format must be json or text")
-	}
-	a, err := openAudit(ctx, *db, "")
+	a, err := openAudit(ctx, fs.db, "")
 	if err != nil {
 		return err
 	}
 	defer a.Store.Close()
-	g, err := guidelineFlag(a, *guide)
+	g, err := guidelineFlag(a, fs.guideline)
 	if err != nil {
 		return err
 	}
@@ -103,7 +95,7 @@ func cmdInterval(ctx context.Context, e *env, args []string) error {
 	} else if err := a.Store.ForEachCase(ctx, store.CaseFilter{}, add); err != nil {
 		return err
 	}
-	if *format == "json" {
+	if fs.format == "json" {
 		if rows == nil {
 			rows = []row{}
 		}
@@ -128,45 +120,30 @@ func writeIntervalText[T any](w io.Writer, g surveillance.Guideline, rows []T, f
 }
 
 func cmdMetrics(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("metrics", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]", e.stderr)
-	db := fs.String("db", "", "database file")
-	fromS := fs.String("from", "", "first day of the period (YYYY-MM-DD)")
-	toS := fs.String("to", "", "last day of the period (YYYY-MM-DD)")
-	standard := fs.String("standard", "", "standard profile id (default from unit settings)")
-	operator := fs.String("operator", "", "show only this operator (and the unit)")
-	format := fs.String("format", "table", "json or table")
-	if err := parseFlagsOnly(fs, args); err != nil {
+	fs := newCommand("metrics", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]", e.stderr).
+		withDB("").withPeriod().withStandard().withOperator("show only this operator (and the unit)").withFormat("table", "json", "table")
+	if err := fs.parseOnly(args); err != nil {
 		return err
 	}
-	if err := need("db", *db); err != nil {
-		return err
-	}
-	from, to, err := periodFlags(*fromS, *toS)
-	if err != nil {
-		return err
-	}
-	if *format != "json" && *format != "table" {
-		return usagef("--format must be json or table")
-	}
-	a, err := openAudit(ctx, *db, *standard)
+	a, err := openAudit(ctx, fs.db, fs.standard)
 	if err != nil {
 		return err
 	}
 	defer a.Store.Close()
-	req := workspace.Request{From: from, To: to, Whose: workspace.Population{OperatorID: *operator}, MetricsOnly: true}
+	req := workspace.Request{From: fs.from, To: fs.to, Whose: workspace.Population{OperatorID: fs.operator}, MetricsOnly: true}
 	figs, err := a.Figures(ctx, req, nil)
 	if err != nil {
 		return err
 	}
 	res := figs.Metrics
-	if *operator != "" {
+	if fs.operator != "" {
 		inds, ok := req.Whose.Indicators(figs)
 		if !ok {
-			return fmt.Errorf("operator %s has no procedures between %s and %s", *operator, *fromS, *toS)
+			return fmt.Errorf("operator %s has no procedures between %s and %s", fs.operator, fs.fromText, fs.toText)
 		}
-		res.Operators = []audit.OperatorResult{{OperatorID: *operator, Indicators: inds}}
+		res.Operators = []audit.OperatorResult{{OperatorID: fs.operator, Indicators: inds}}
 	}
-	if *format == "json" {
+	if fs.format == "json" {
 		enc := json.NewEncoder(e.stdout)
 		enc.SetIndent("", "  ")
 		return enc.Encode(res)
