@@ -58,7 +58,7 @@ func guidelineFlag(a *workspace.Audit, flagValue string) (surveillance.Guideline
 }
 
 func cmdInterval(ctx context.Context, e *env, args []string) error {
-	fs := newCommand("interval", "--db PATH [--procedure ID] [--guideline G] [--format json|text]", e.stderr).
+	fs := newCommand("interval", e.stderr).
 		withDB("").withGuideline().withFormat("text", "json", "text")
 	id := fs.String("procedure", "", "procedure id (default: every procedure)")
 	if err := fs.parseOnly(args); err != nil {
@@ -120,7 +120,7 @@ func writeIntervalText[T any](w io.Writer, g surveillance.Guideline, rows []T, f
 }
 
 func cmdMetrics(ctx context.Context, e *env, args []string) error {
-	fs := newCommand("metrics", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]", e.stderr).
+	fs := newCommand("metrics", e.stderr).
 		withDB("").withPeriod().withStandard().withOperator("show only this operator (and the unit)").withFormat("table", "json", "table")
 	if err := fs.parseOnly(args); err != nil {
 		return err

@@ -26,7 +26,7 @@ func cmdVersion(ctx context.Context, e *env, args []string) error {
 }
 
 func cmdDemo(ctx context.Context, e *env, args []string) error {
-	fs := newCommand("demo", "--db PATH [--procedures N] [--seed S]", e.stderr).withDB("database file to create")
+	fs := newCommand("demo", e.stderr).withDB("database file to create")
 	n := fs.Int("procedures", 4000, "how many procedures to invent")
 	seed := fs.Uint64("seed", 1, "seed: the same seed gives the same unit")
 	if err := fs.parseOnly(args); err != nil {
@@ -66,7 +66,7 @@ func warnKey(e *env) {
 }
 
 func cmdImport(ctx context.Context, e *env, args []string) error {
-	fs := newCommand("import", "--db PATH --kind procedures|lesions|histology [--update] FILE.csv", e.stderr).
+	fs := newCommand("import", e.stderr).
 		withDB("database file (created if it does not exist)")
 	db := &fs.db
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
@@ -165,7 +165,7 @@ func forceHint(err error) error {
 }
 
 func cmdExport(ctx context.Context, e *env, args []string) error {
-	fs := newCommand("export", "--db PATH --kind procedures|lesions|histology --out FILE.csv [--force]", e.stderr).
+	fs := newCommand("export", e.stderr).
 		withDB("").withOut("CSV file to write (- for standard output)").withForce("")
 	db, out, force := &fs.db, &fs.out, &fs.force
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
@@ -212,7 +212,7 @@ func cmdExport(ctx context.Context, e *env, args []string) error {
 }
 
 func cmdCheck(ctx context.Context, e *env, args []string) error {
-	fs := newCommand("check", "--db PATH", e.stderr).withDB("")
+	fs := newCommand("check", e.stderr).withDB("")
 	if err := fs.parseOnly(args); err != nil {
 		return err
 	}
@@ -237,7 +237,7 @@ func cmdCheck(ctx context.Context, e *env, args []string) error {
 }
 
 func cmdBackup(ctx context.Context, e *env, args []string) error {
-	fs := newCommand("backup", "--db PATH --out FILE [--force]", e.stderr).
+	fs := newCommand("backup", e.stderr).
 		withDB("").withOut("backup file to create").withForce("replace the file if it exists (never a database: an older backup is not replaced)")
 	if err := fs.parseOnly(args); err != nil {
 		return err

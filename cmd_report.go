@@ -14,7 +14,7 @@ import (
 // cmdReport writes a PDF report: the unit audit, an endoscopist's personal
 // report (--operator) or a trainee's logbook (--trainee).
 func cmdReport(ctx context.Context, e *env, args []string) error {
-	fs := newCommand("report", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf [--force]", e.stderr).
+	fs := newCommand("report", e.stderr).
 		withDB("").withPeriod().withStandard().
 		withOperator("personal report for this endoscopist; others appear as anonymous peers").
 		withOut("PDF file to write").withForce("")

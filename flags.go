@@ -65,9 +65,10 @@ type cmdFlags struct {
 	formats                  []string
 }
 
-// newCommand starts the flags of command name, whose usage line is
-// synopsis, printing its usage to w.
-func newCommand(name, synopsis string, w io.Writer) *cmdFlags {
+// newCommand starts the flags of command name, printing its usage to w:
+// the command's line of the program's usage text, then its flags.
+func newCommand(name string, w io.Writer) *cmdFlags {
+	synopsis := strings.TrimSpace(strings.TrimPrefix(commandUsage(name), "usage: polypledger "+name))
 	return &cmdFlags{FlagSet: newFlags(name, synopsis, w)}
 }
 
