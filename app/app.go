@@ -302,7 +302,7 @@ func (u *ui) tabShown(i int) {
 		u.list.reload()
 	case 1:
 		u.form.refreshRoster()
-		u.win.Canvas().Focus(u.form.id)
+		u.win.Canvas().Focus(u.form.id.focus())
 	case 2:
 		u.inbox.reload()
 	case 3:
