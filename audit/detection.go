@@ -160,6 +160,19 @@ func (d *detectionCount) add(hit, awaiting bool) {
 	}
 }
 
+// tally is a proportion's running count: the cases in its denominator
+// and, of them, those in its numerator.
+type tally struct{ n, k int }
+
+// add counts a case that is in the denominator when in, and in the
+// numerator as well when hit.
+func (t *tally) add(in, hit bool) {
+	if in {
+		t.n++
+		t.k += countIf(hit)
+	}
+}
+
 // counts is the running totals of one population (the unit or one
 // operator). Every field is a plain number so that adding a case allocates
 // nothing; only the sedation medians keep values, as dose → count.
@@ -167,20 +180,19 @@ type counts struct {
 	adr, male, female, stool, withAid, withoutAid detectionCount
 	ssl, pdr, aadr, adenomas, proxSerrated        int // over the detection-eligible (adr.n)
 
-	procs, complete, intubated     int // complete: the caecal_photo denominator; intubated: the cir numerator
-	cirAdjDen, cirAdjNum, photo    int
-	prepDen, prepNum, prepRecorded int
-	total6Den, total6Num           int
+	procs, complete, intubated int // complete: the caecal_photo denominator; intubated: the cir numerator
+	cirAdjusted, prep, total6  tally
+	photo, prepRecorded        int
 
 	wdCandidates, wdN, wd6 int // negative eligible complete; of them timed; of those ≥6 min
 	wdSum, wdSumSq         int64
-	retroDen, retroNum     int
+	retro                  tally
 	polyps, retrieved      int
 	tattooDue, tattooDone  int
 	coldSmall, coldSnared  int
-	comfortRec, discomfort int
+	comfort                tally // recorded; of them moderate or severe discomfort
 	perforation            int
-	bleedDen, bleedNum     int
+	bleeding               tally // procedures with a polypectomy; of them bleeding
 	sedation               [nDrugs][nBands]doseCounts
 	sedationN              [nDrugs][nBands]int
 	sedationSum            [nDrugs][nBands]float64
@@ -224,41 +236,23 @@ func (s *counts) add(f *caseFacts) {
 	s.procs++
 	s.complete += countIf(f.complete)
 	s.intubated += countIf(f.intubated)
-	if f.cirAdjusted {
-		s.cirAdjDen++
-		s.cirAdjNum += countIf(f.intubated)
-	}
+	s.cirAdjusted.add(f.cirAdjusted, f.intubated)
 	if f.complete {
 		s.photo += countIf(f.photo)
 	}
 	s.prepRecorded += countIf(f.bbpsRecorded)
-	if f.outpatient && f.bbpsRecorded {
-		s.prepDen++
-		s.prepNum += countIf(f.bbpsAdequate)
-	}
-	if !f.inpatient && f.bbpsRecorded {
-		s.total6Den++
-		s.total6Num += countIf(f.bbpsTotal6)
-	}
-	if f.retroCounted {
-		s.retroDen++
-		s.retroNum += countIf(f.retroDone)
-	}
+	s.prep.add(f.outpatient && f.bbpsRecorded, f.bbpsAdequate)
+	s.total6.add(!f.inpatient && f.bbpsRecorded, f.bbpsTotal6)
+	s.retro.add(f.retroCounted, f.retroDone)
 	s.polyps += f.polypectomies
 	s.retrieved += f.retrieved
 	s.tattooDue += f.tattooDue
 	s.tattooDone += f.tattooDone
 	s.coldSmall += f.coldSmall
 	s.coldSnared += f.coldSnared
-	if f.comfortRecorded {
-		s.comfortRec++
-		s.discomfort += countIf(f.discomfort)
-	}
+	s.comfort.add(f.comfortRecorded, f.discomfort)
 	s.perforation += countIf(f.perforation)
-	if f.polypectomy {
-		s.bleedDen++
-		s.bleedNum += countIf(f.bleeding)
-	}
+	s.bleeding.add(f.polypectomy, f.bleeding)
 	if f.band >= 0 {
 		for d, v := range f.doses {
 			if v == logbook.NotRecorded {
@@ -387,22 +381,22 @@ func (s *counts) indicators(p *Profile, per Period, isUnit bool) []Indicator {
 		s.apc(p),
 		withEligible("proximal_sdr", s.proxSerrated),
 		cirNoted(judged(Proportion("cir", s.intubated, s.procs), p), p),
-		cirNoted(judged(Proportion("cir_adjusted", s.cirAdjNum, s.cirAdjDen), p), p),
+		cirNoted(judged(Proportion("cir_adjusted", s.cirAdjusted.k, s.cirAdjusted.n), p), p),
 		judged(Proportion("caecal_photo", s.photo, s.complete), p),
-		judged(Proportion("prep_adequate", s.prepNum, s.prepDen), p),
+		judged(Proportion("prep_adequate", s.prep.k, s.prep.n), p),
 		judged(Proportion("prep_recorded", s.prepRecorded, s.procs), p),
-		judged(Proportion("prep_adequate_total6", s.total6Num, s.total6Den), p),
+		judged(Proportion("prep_adequate_total6", s.total6.k, s.total6.n), p),
 		s.withdrawal(p),
 		judged(Proportion("withdrawal_timed", s.wdN, s.wdCandidates), p),
 		judged(Proportion("withdrawal_6min_share", s.wd6, s.wdN), p),
-		judged(Proportion("retroversion", s.retroNum, s.retroDen), p),
+		judged(Proportion("retroversion", s.retro.k, s.retro.n), p),
 		judged(Proportion("retrieval", s.retrieved, s.polyps), p),
 		judged(Proportion("tattoo_large", s.tattooDone, s.tattooDue), p),
 		judged(Proportion("cold_snare_small", s.coldSnared, s.coldSmall), p),
-		judged(Proportion("comfort_discomfort", s.discomfort, s.comfortRec), p),
-		judged(Proportion("comfort_recorded", s.comfortRec, s.procs), p),
+		judged(Proportion("comfort_discomfort", s.comfort.k, s.comfort.n), p),
+		judged(Proportion("comfort_recorded", s.comfort.n, s.procs), p),
 		judged(ExactProportion("perforation", s.perforation, s.procs), p),
-		judged(ExactProportion("bleeding", s.bleedNum, s.bleedDen), p),
+		judged(ExactProportion("bleeding", s.bleeding.k, s.bleeding.n), p),
 	)
 	for d := range nDrugs {
 		for b := range nBands {

@@ -34,13 +34,13 @@ func (o *MetricsOptions) includes(d time.Time) bool {
 // call Result. Only running totals are kept (and, for the sedation medians,
 // a count per distinct dose). A Metrics is not safe for concurrent use.
 type Metrics struct {
-	prof        *Profile
-	opt         MetricsOptions
-	unit        *population
-	ops         map[string]*population
-	first, last time.Time   // observed dates, for open-ended periods
-	lastID      string      // the operator of the previous case, whose
-	lastOp      *population // population is reused without a map lookup
+	prof   *Profile
+	opt    MetricsOptions
+	unit   *population
+	ops    map[string]*population
+	seen   dateSpan    // observed dates, for open-ended periods
+	lastID string      // the operator of the previous case, whose
+	lastOp *population // population is reused without a map lookup
 }
 
 // population is the running state of the unit or one operator.
@@ -87,12 +87,7 @@ func (m *Metrics) Add(c *logbook.Case) {
 	if !m.opt.includes(d) {
 		return
 	}
-	if m.first.IsZero() || d.Before(m.first) {
-		m.first = d
-	}
-	if d.After(m.last) {
-		m.last = d
-	}
+	m.seen.add(d)
 	var f caseFacts
 	f.read(m.prof, c)
 	m.unit.add(&f, c)
@@ -129,15 +124,28 @@ type OperatorResult struct {
 	Indicators []Indicator `json:"indicators"`
 }
 
+// dateSpan is the first and last procedure date seen, which stand in for
+// an open end of the period.
+type dateSpan struct{ first, last time.Time }
+
+func (s *dateSpan) add(d time.Time) {
+	if s.first.IsZero() || d.Before(s.first) {
+		s.first = d
+	}
+	if d.After(s.last) {
+		s.last = d
+	}
+}
+
 // period returns the effective first and last day: the options' bounds, an
 // open end replaced by the first or last procedure date seen.
-func (m *Metrics) period() (from, to time.Time) {
-	from, to = m.opt.From, m.opt.To
+func (s dateSpan) period(o MetricsOptions) (from, to time.Time) {
+	from, to = o.From, o.To
 	if from.IsZero() {
-		from = m.first
+		from = s.first
 	}
 	if to.IsZero() {
-		to = m.last
+		to = s.last
 	}
 	return from, to
 }
@@ -175,7 +183,7 @@ func (p Period) FullYear() bool {
 // endoscopist, so the unit's volume, and any volume over a shorter period,
 // is reported with a note saying why.
 func (m *Metrics) Result() MetricsResult {
-	from, to := m.period()
+	from, to := m.seen.period(m.opt)
 	per := Period{From: from, To: to}
 	r := MetricsResult{
 		From:      logbook.FormatDate(from),

@@ -6,9 +6,11 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"maps"
 	"math"
 	"path"
 	"reflect"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -226,12 +228,7 @@ func fieldProblems(v any, t reflect.Type, at string, report func(field, reason s
 			wrongType()
 			return
 		}
-		keys := make([]string, 0, len(obj))
-		for k := range obj {
-			keys = append(keys, k)
-		}
-		sort.Strings(keys)
-		for _, k := range keys {
+		for _, k := range slices.Sorted(maps.Keys(obj)) {
 			f, ok := fieldByJSONName(t, k)
 			if !ok {
 				report(join(k), "unknown field")
@@ -245,12 +242,7 @@ func fieldProblems(v any, t reflect.Type, at string, report func(field, reason s
 			wrongType()
 			return
 		}
-		keys := make([]string, 0, len(obj))
-		for k := range obj {
-			keys = append(keys, k)
-		}
-		sort.Strings(keys)
-		for _, k := range keys {
+		for _, k := range slices.Sorted(maps.Keys(obj)) {
 			fieldProblems(obj[k], t.Elem(), join(k), report)
 		}
 	case reflect.Slice:

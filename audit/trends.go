@@ -19,8 +19,7 @@ type Trends struct {
 	quarters map[int]*Metrics // key year*4 + quarter index (0–3)
 	unit     map[int]*detectionCount
 	ops      map[string]map[int]*detectionCount // operator → month key → ADR counts
-	first    time.Time
-	last     time.Time
+	seen     dateSpan
 }
 
 // NewTrends starts a trends pass under profile p; opt.Extra figures are
@@ -44,12 +43,7 @@ func (t *Trends) Add(c *logbook.Case) {
 	if !t.opt.includes(d) {
 		return
 	}
-	if t.first.IsZero() || d.Before(t.first) {
-		t.first = d
-	}
-	if d.After(t.last) {
-		t.last = d
-	}
+	t.seen.add(d)
 	qk := d.Year()*4 + (int(d.Month())-1)/3
 	q := t.quarters[qk]
 	if q == nil {
@@ -133,13 +127,7 @@ func (t *Trends) Result() TrendsResult {
 	for _, k := range keys {
 		r.Quarters = append(r.Quarters, QuarterResult{Quarter: fmt.Sprintf("%d-Q%d", k/4, k%4+1), Metrics: t.quarters[k].Result()})
 	}
-	from, to := t.opt.From, t.opt.To
-	if from.IsZero() {
-		from = t.first
-	}
-	if to.IsZero() {
-		to = t.last
-	}
+	from, to := t.seen.period(t.opt)
 	if from.IsZero() || to.IsZero() || to.Before(from) {
 		return r
 	}
