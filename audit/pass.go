@@ -20,9 +20,10 @@ type PassOptions struct {
 	// Discard are the unit's resect-and-discard settings (see
 	// DiscardSettings for their defaults).
 	Discard DiscardSettings
-	// MetricsOnly counts the indicators per population and the data
-	// completeness only, leaving out the quarterly trends and the trainees'
-	// progress: what the metrics command prints, at the speed it promises.
+	// MetricsOnly counts the indicators per population only, leaving out
+	// the quarterly trends, the trainees' progress and the data
+	// completeness: what the metrics command prints, at the speed it
+	// promises.
 	MetricsOnly bool
 	// CUSUM are the learning-curve parameters of the trainee figures; the
 	// zero value means stats.DefaultCUSUM.
@@ -81,10 +82,11 @@ func (r *Pass) Add(c *logbook.Case) {
 		return
 	}
 	r.metrics.Add(c)
-	if r.trends != nil {
-		r.trends.Add(c)
-		r.trainees.Add(c)
+	if r.opt.MetricsOnly {
+		return
 	}
+	r.trends.Add(c)
+	r.trainees.Add(c)
 	r.complete.add(c)
 	oc := r.byOperator[c.OperatorID]
 	if oc == nil {
@@ -113,7 +115,8 @@ type Figures struct {
 	// adherence were worked out under.
 	Guideline surveillance.Guideline
 	Metrics   MetricsResult
-	// Trends and Trainees are empty after a MetricsOnly pass.
+	// Trends, Trainees and the completeness counts are empty after a
+	// MetricsOnly pass.
 	Trends   TrendsResult
 	Trainees []TraineeResult
 	// Details holds the unit first, then each operator in Metrics order.
