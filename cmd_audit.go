@@ -7,27 +7,23 @@ import (
 	"fmt"
 	"io"
 	"strings"
-	"time"
 
+	"polypledger/audit"
 	"polypledger/logbook"
 	"polypledger/report"
 	"polypledger/store"
+	"polypledger/surveillance"
 	"polypledger/workspace"
 )
 
 // loadProfiles reads the shipped standard profiles and the user's own copies
 // from the config folder's "standards" subfolder.
-func loadProfiles() ([]*report.Profile, error) { return workspace.LoadProfiles() }
+func loadProfiles() ([]*audit.Profile, error) { return workspace.LoadProfiles() }
 
-// auditSetup is what the metrics, report and interval commands share: the
-// open database (read-only), its settings and the chosen profile.
-type auditSetup struct {
-	st       *store.Store
-	settings store.Settings
-	profile  *report.Profile
-}
-
-func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
+// openAudit opens the database read-only for the metrics, report and
+// interval commands, with its settings and the standard profile chosen
+// (the unit's default when standard is ""); the caller closes a.Store.
+func openAudit(ctx context.Context, db, standard string) (*workspace.Audit, error) {
 	if err := mustExist(db); err != nil {
 		return nil, err
 	}
@@ -40,7 +36,7 @@ func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
 		st.Close()
 		return nil, err
 	}
-	w, err := workspace.NewAudit(ctx, st, standard, profiles)
+	a, err := workspace.NewAudit(ctx, st, standard, profiles)
 	if err != nil {
 		st.Close()
 		if errors.Is(err, workspace.ErrUnknownStandard) {
@@ -48,16 +44,13 @@ func openAudit(ctx context.Context, db, standard string) (*auditSetup, error) {
 		}
 		return nil, err
 	}
-	return &auditSetup{st: st, settings: w.Settings, profile: w.Profile}, nil
+	return a, nil
 }
 
-// shared is the setup as the workspace package holds it.
-func (a *auditSetup) shared() *workspace.Audit {
-	return &workspace.Audit{Store: a.st, Settings: a.settings, Profile: a.profile}
-}
-
-func (a *auditSetup) guideline(flagValue string) (report.Guideline, error) {
-	gl, err := a.shared().Guideline(flagValue)
+// guidelineFlag resolves a --guideline value ("" for the unit's default),
+// an unknown one being a usage error.
+func guidelineFlag(a *workspace.Audit, flagValue string) (surveillance.Guideline, error) {
+	gl, err := a.Guideline(flagValue)
 	if errors.Is(err, workspace.ErrUnknownGuideline) {
 		return "", usagef("--guideline: %v", err)
 	}
@@ -65,26 +58,18 @@ func (a *auditSetup) guideline(flagValue string) (report.Guideline, error) {
 }
 
 func cmdInterval(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("interval", "--db PATH [--procedure ID] [--guideline G] [--format json|text]", e.stderr)
-	db := fs.String("db", "", "database file")
+	fs := newCommand("interval", e.stderr).
+		withDB("").withGuideline().withFormat("text", "json", "text")
 	id := fs.String("procedure", "", "procedure id (default: every procedure)")
-	guide := fs.String("guideline", "", "usmstf-2020, esge-2020 or bsg-2020 (default from unit settings)")
-	format := fs.String("format", "text", "json or text")
-	if err := parseFlagsOnly(fs, args); err != nil {
+	if err := fs.parseOnly(args); err != nil {
 		return err
 	}
-	if err := need("db", *db); err != nil {
-		return err
-	}
-	if *format != "json" && *format != "text" {
-		return usagef("--format must be json or text")
-	}
-	a, err := openAudit(ctx, *db, "")
+	a, err := openAudit(ctx, fs.db, "")
 	if err != nil {
 		return err
 	}
-	defer a.st.Close()
-	g, err := a.guideline(*guide)
+	defer a.Store.Close()
+	g, err := guidelineFlag(a, fs.guideline)
 	if err != nil {
 		return err
 	}
@@ -97,20 +82,20 @@ func cmdInterval(ctx context.Context, e *env, args []string) error {
 	}
 	var rows []row
 	add := func(c *logbook.Case) error {
-		s := report.Suggest(g, c)
+		s := surveillance.Suggest(g, c)
 		rows = append(rows, row{ProcedureID: c.ID, Guideline: string(s.Guideline), Interval: s.Interval, Reasons: s.Reasons, Caution: s.Caution})
 		return nil
 	}
 	if *id != "" {
-		c, err := a.st.Case(ctx, *id)
+		c, err := a.Store.Case(ctx, *id)
 		if err != nil {
 			return err
 		}
 		add(&c)
-	} else if err := a.st.ForEachCase(ctx, store.CaseFilter{}, add); err != nil {
+	} else if err := a.Store.ForEachCase(ctx, store.CaseFilter{}, add); err != nil {
 		return err
 	}
-	if *format == "json" {
+	if fs.format == "json" {
 		if rows == nil {
 			rows = []row{}
 		}
@@ -121,7 +106,7 @@ func cmdInterval(ctx context.Context, e *env, args []string) error {
 	return writeIntervalText(e.stdout, g, rows, func(r row) (string, logbook.Interval, []string) { return r.ProcedureID, r.Interval, r.Reasons })
 }
 
-func writeIntervalText[T any](w io.Writer, g report.Guideline, rows []T, fields func(T) (string, logbook.Interval, []string)) error {
+func writeIntervalText[T any](w io.Writer, g surveillance.Guideline, rows []T, fields func(T) (string, logbook.Interval, []string)) error {
 	fmt.Fprintf(w, "Suggested surveillance intervals under %s (%s)\n\n", g, g.Title())
 	for _, r := range rows {
 		id, iv, reasons := fields(r)
@@ -130,63 +115,35 @@ func writeIntervalText[T any](w io.Writer, g report.Guideline, rows []T, fields 
 			fmt.Fprintf(w, "    - %s\n", why)
 		}
 	}
-	fmt.Fprintf(w, "\n%s\n", strings.TrimSpace(report.IntervalCaution(g)))
+	fmt.Fprintf(w, "\n%s\n", strings.TrimSpace(surveillance.IntervalCaution(g)))
 	return nil
 }
 
-// computeMetrics streams the period's cases once through the indicator
-// engine.
-func (a *auditSetup) computeMetrics(ctx context.Context, from, to time.Time, g report.Guideline) (report.MetricsResult, error) {
-	return a.shared().ComputeMetrics(ctx, from, to, g)
-}
-
 func cmdMetrics(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("metrics", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]", e.stderr)
-	db := fs.String("db", "", "database file")
-	fromS := fs.String("from", "", "first day of the period (YYYY-MM-DD)")
-	toS := fs.String("to", "", "last day of the period (YYYY-MM-DD)")
-	standard := fs.String("standard", "", "standard profile id (default from unit settings)")
-	operator := fs.String("operator", "", "show only this operator (and the unit)")
-	format := fs.String("format", "table", "json or table")
-	if err := parseFlagsOnly(fs, args); err != nil {
+	fs := newCommand("metrics", e.stderr).
+		withDB("").withPeriod().withStandard().withOperator("show only this operator (and the unit)").withFormat("table", "json", "table")
+	if err := fs.parseOnly(args); err != nil {
 		return err
 	}
-	if err := need("db", *db); err != nil {
-		return err
-	}
-	from, to, err := periodFlags(*fromS, *toS)
+	a, err := openAudit(ctx, fs.db, fs.standard)
 	if err != nil {
 		return err
 	}
-	if *format != "json" && *format != "table" {
-		return usagef("--format must be json or table")
-	}
-	a, err := openAudit(ctx, *db, *standard)
+	defer a.Store.Close()
+	req := workspace.Request{From: fs.from, To: fs.to, Whose: workspace.Population{OperatorID: fs.operator}, MetricsOnly: true}
+	figs, err := a.Figures(ctx, req, nil)
 	if err != nil {
 		return err
 	}
-	defer a.st.Close()
-	g, err := a.guideline("")
-	if err != nil {
-		return err
-	}
-	res, err := a.computeMetrics(ctx, from, to, g)
-	if err != nil {
-		return err
-	}
-	if *operator != "" {
-		var keep []report.OperatorResult
-		for _, op := range res.Operators {
-			if op.OperatorID == *operator {
-				keep = append(keep, op)
-			}
+	res := figs.Metrics
+	if fs.operator != "" {
+		inds, ok := req.Whose.Indicators(figs)
+		if !ok {
+			return fmt.Errorf("operator %s has no procedures between %s and %s", fs.operator, fs.fromText, fs.toText)
 		}
-		if keep == nil {
-			return fmt.Errorf("operator %s has no procedures between %s and %s", *operator, *fromS, *toS)
-		}
-		res.Operators = keep
+		res.Operators = []audit.OperatorResult{{OperatorID: fs.operator, Indicators: inds}}
 	}
-	if *format == "json" {
+	if fs.format == "json" {
 		enc := json.NewEncoder(e.stdout)
 		enc.SetIndent("", "  ")
 		return enc.Encode(res)

@@ -26,14 +26,10 @@ func cmdVersion(ctx context.Context, e *env, args []string) error {
 }
 
 func cmdDemo(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("demo", "--db PATH [--procedures N] [--seed S]", e.stderr)
-	db := fs.String("db", "", "database file to create")
+	fs := newCommand("demo", e.stderr).withDB("database file to create")
 	n := fs.Int("procedures", 4000, "how many procedures to invent")
 	seed := fs.Uint64("seed", 1, "seed: the same seed gives the same unit")
-	if err := parseFlagsOnly(fs, args); err != nil {
-		return err
-	}
-	if err := need("db", *db); err != nil {
+	if err := fs.parseOnly(args); err != nil {
 		return err
 	}
 	if *n < 1 || *n > 20_000_000 {
@@ -45,20 +41,20 @@ func cmdDemo(ctx context.Context, e *env, args []string) error {
 		}
 	}
 	var count int
-	created, err := workspace.Fill(ctx, *db, true, func(st *store.Store) error {
+	created, err := workspace.Fill(ctx, fs.db, true, func(st *store.Store) error {
 		var err error
 		count, err = workspace.CreateDemo(ctx, st, *n, *seed, progress)
 		return err
 	})
 	warnKey(e)
 	if err != nil {
-		return fmt.Errorf("demo %s: %w", *db, err)
+		return fmt.Errorf("demo %s: %w", fs.db, err)
 	}
 	verb := "created"
 	if !created {
 		verb = "filled the empty database"
 	}
-	fmt.Fprintf(e.stdout, "%s %s: %s, %d procedures (invented data)\n", verb, *db, demo.UnitName, count)
+	fmt.Fprintf(e.stdout, "%s %s: %s, %d procedures (invented data)\n", verb, fs.db, demo.UnitName, count)
 	return nil
 }
 
@@ -70,15 +66,13 @@ func warnKey(e *env) {
 }
 
 func cmdImport(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("import", "--db PATH --kind procedures|lesions|histology [--update] FILE.csv", e.stderr)
-	db := fs.String("db", "", "database file (created if it does not exist)")
+	fs := newCommand("import", e.stderr).
+		withDB("database file (created if it does not exist)")
+	db := &fs.db
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
 	update := fs.Bool("update", false, "replace records already stored instead of refusing them")
-	pos, err := parse(fs, args)
+	pos, err := fs.parse(args)
 	if err != nil {
-		return err
-	}
-	if err := need("db", *db); err != nil {
 		return err
 	}
 	kind, err := store.ParseKind(*kindName)
@@ -171,18 +165,12 @@ func forceHint(err error) error {
 }
 
 func cmdExport(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("export", "--db PATH --kind procedures|lesions|histology --out FILE.csv [--force]", e.stderr)
-	db := fs.String("db", "", "database file")
+	fs := newCommand("export", e.stderr).
+		withDB("").withOut("CSV file to write (- for standard output)").withForce("")
+	db, out, force := &fs.db, &fs.out, &fs.force
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
-	out := fs.String("out", "", "CSV file to write (- for standard output)")
-	force := fs.Bool("force", false, "replace the file if it exists (never a database)")
-	if err := parseFlagsOnly(fs, args); err != nil {
+	if err := fs.parseOnly(args); err != nil {
 		return err
-	}
-	for _, f := range [][2]string{{"db", *db}, {"out", *out}} {
-		if err := need(f[0], f[1]); err != nil {
-			return err
-		}
 	}
 	kind, err := store.ParseKind(*kindName)
 	if err != nil {
@@ -224,60 +212,49 @@ func cmdExport(ctx context.Context, e *env, args []string) error {
 }
 
 func cmdCheck(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("check", "--db PATH", e.stderr)
-	db := fs.String("db", "", "database file")
-	if err := parseFlagsOnly(fs, args); err != nil {
+	fs := newCommand("check", e.stderr).withDB("")
+	if err := fs.parseOnly(args); err != nil {
 		return err
 	}
-	if err := need("db", *db); err != nil {
+	if err := mustExist(fs.db); err != nil {
 		return err
 	}
-	if err := mustExist(*db); err != nil {
-		return err
-	}
-	st, err := store.Open(ctx, *db, store.Options{ReadOnly: true})
+	st, err := store.Open(ctx, fs.db, store.Options{ReadOnly: true})
 	if err != nil {
 		return err
 	}
 	defer st.Close()
 	findings, err := st.Check(ctx)
 	if err != nil {
-		return fmt.Errorf("%s: %w", *db, err)
+		return fmt.Errorf("%s: %w", fs.db, err)
 	}
 	if len(findings) > 0 {
-		return fmt.Errorf("%s has %d %s:\n%s", *db, len(findings), plural(len(findings), "problem", "problems"), strings.Join(findings, "\n"))
+		return fmt.Errorf("%s has %d %s:\n%s", fs.db, len(findings), plural(len(findings), "problem", "problems"), strings.Join(findings, "\n"))
 	}
 	n, _ := st.CountProcedures(ctx, store.ListQuery{})
-	fmt.Fprintf(e.stdout, "%s: ok (schema %d, %d %s)\n", *db, store.SchemaVersion, n, plural(n, "procedure", "procedures"))
+	fmt.Fprintf(e.stdout, "%s: ok (schema %d, %d %s)\n", fs.db, store.SchemaVersion, n, plural(n, "procedure", "procedures"))
 	return nil
 }
 
 func cmdBackup(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("backup", "--db PATH --out FILE [--force]", e.stderr)
-	db := fs.String("db", "", "database file")
-	out := fs.String("out", "", "backup file to create")
-	force := fs.Bool("force", false, "replace the file if it exists (never a database: an older backup is not replaced)")
-	if err := parseFlagsOnly(fs, args); err != nil {
+	fs := newCommand("backup", e.stderr).
+		withDB("").withOut("backup file to create").withForce("replace the file if it exists (never a database: an older backup is not replaced)")
+	if err := fs.parseOnly(args); err != nil {
 		return err
 	}
-	for _, f := range [][2]string{{"db", *db}, {"out", *out}} {
-		if err := need(f[0], f[1]); err != nil {
-			return err
-		}
-	}
-	if err := mustExist(*db); err != nil {
+	if err := mustExist(fs.db); err != nil {
 		return err
 	}
 	// Read-only, and an older schema as it is: a backup changes nothing
 	// in its source.
-	st, err := store.Open(ctx, *db, store.Options{ReadOnly: true, KeepSchema: true})
+	st, err := store.Open(ctx, fs.db, store.Options{ReadOnly: true, KeepSchema: true})
 	if err != nil {
 		return err
 	}
 	defer st.Close()
-	if err := st.Backup(ctx, *out, *force); err != nil {
+	if err := st.Backup(ctx, fs.out, fs.force); err != nil {
 		return forceHint(err)
 	}
-	fmt.Fprintf(e.stdout, "backed up %s to %s (checked)\n", *db, *out)
+	fmt.Fprintf(e.stdout, "backed up %s to %s (checked)\n", fs.db, fs.out)
 	return nil
 }

@@ -8,85 +8,66 @@ import (
 	"time"
 
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/workspace"
 )
 
 // cmdReport writes a PDF report: the unit audit, an endoscopist's personal
 // report (--operator) or a trainee's logbook (--trainee).
 func cmdReport(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("report", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf [--force]", e.stderr)
-	db := fs.String("db", "", "database file")
-	fromS := fs.String("from", "", "first day of the period (YYYY-MM-DD)")
-	toS := fs.String("to", "", "last day of the period (YYYY-MM-DD)")
-	standard := fs.String("standard", "", "standard profile id (default from unit settings)")
-	operator := fs.String("operator", "", "personal report for this endoscopist; others appear as anonymous peers")
+	fs := newCommand("report", e.stderr).
+		withDB("").withPeriod().withStandard().
+		withOperator("personal report for this endoscopist; others appear as anonymous peers").
+		withOut("PDF file to write").withForce("")
 	trainee := fs.String("trainee", "", "logbook for this trainee")
-	out := fs.String("out", "", "PDF file to write")
-	force := fs.Bool("force", false, "replace the file if it exists (never a database)")
-	if err := parseFlagsOnly(fs, args); err != nil {
+	if err := fs.parseOnly(args); err != nil {
 		return err
 	}
-	if err := need("db", *db); err != nil {
-		return err
-	}
-	if err := need("out", *out); err != nil {
-		return err
-	}
-	from, to, err := periodFlags(*fromS, *toS)
-	if err != nil {
-		return err
-	}
-	if *operator != "" && *trainee != "" {
+	if fs.operator != "" && *trainee != "" {
 		return usagef("--operator and --trainee cannot both be given")
 	}
-	dest := output(*out, *force, *db)
-	if err := mustExist(*db); err != nil {
+	dest := fs.output()
+	if err := mustExist(fs.db); err != nil {
 		return err
 	}
 	if err := dest.Check(); err != nil {
 		return forceHint(err)
 	}
-	a, err := openAudit(ctx, *db, *standard)
+	a, err := openAudit(ctx, fs.db, fs.standard)
 	if err != nil {
 		return err
 	}
-	defer a.st.Close()
-	g, err := a.guideline("")
+	defer a.Store.Close()
+	roster, err := a.Store.Roster(ctx)
 	if err != nil {
 		return err
 	}
-	roster, err := a.st.Roster(ctx)
-	if err != nil {
-		return err
-	}
-	req := workspace.ReportRequest{Kind: report.UnitReport, From: from, To: to, Guideline: g, Now: time.Now()}
+	req := workspace.Request{From: fs.from, To: fs.to, Now: time.Now()}
 	what := "unit audit report"
 	switch {
-	case *operator != "":
-		if err := rosterRole(roster, "operator", *operator, logbook.RoleEndoscopist); err != nil {
+	case fs.operator != "":
+		if err := rosterRole(roster, "operator", fs.operator, logbook.RoleEndoscopist); err != nil {
 			return err
 		}
-		req.Kind, req.SubjectID = report.PersonalReport, *operator
-		what = "personal report for " + *operator
+		req.Whose.OperatorID = fs.operator
+		what = "personal report for " + fs.operator
 	case *trainee != "":
 		if err := rosterRole(roster, "trainee", *trainee, logbook.RoleTrainee); err != nil {
 			return err
 		}
-		req.Kind, req.SubjectID = report.TraineeReport, *trainee
+		req.Whose.TraineeID = *trainee
 		what = "trainee logbook for " + *trainee
 	}
 	var pages int
 	err = dest.Write(func(w io.Writer) error {
 		pc := &workspace.PageCounter{W: w}
-		err := a.shared().WriteReport(ctx, pc, req, nil)
+		err := a.WriteReport(ctx, pc, req, nil)
 		pages = pc.Pages
 		return err
 	})
 	if err != nil {
 		return forceHint(err)
 	}
-	fmt.Fprintf(e.stdout, "wrote %s: %s, %s to %s, %d %s\n", *out, what, *fromS, *toS, pages, plural(pages, "page", "pages"))
+	fmt.Fprintf(e.stdout, "wrote %s: %s, %s to %s, %d %s\n", fs.out, what, fs.fromText, fs.toText, pages, plural(pages, "page", "pages"))
 	return nil
 }
 

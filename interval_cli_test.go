@@ -3,10 +3,9 @@ package main
 import (
 	"encoding/json"
 	"path/filepath"
+	"polypledger/audit"
 	"strings"
 	"testing"
-
-	"polypledger/report"
 )
 
 // TestIntervalAfterImport drives the reading order of clinical-reference §4
@@ -104,14 +103,14 @@ func TestIntervalAfterImport(t *testing.T) {
 	// interval_adherence under the unit's guideline (usmstf-2020): C1, C2
 	// and C3 match their recorded codes; C4 is pending, so it leaves the
 	// denominator and the note counts it (clinical-reference §4).
-	adherence := func() report.Indicator {
+	adherence := func() audit.Indicator {
 		t.Helper()
-		var res report.MetricsResult
+		var res audit.MetricsResult
 		out := must("metrics", "--db", db, "--from", "2025-01-01", "--to", "2025-12-31", "--format", "json")
 		if err := json.Unmarshal([]byte(out), &res); err != nil {
 			t.Fatal(err)
 		}
-		ind, ok := report.Find(res.Unit.Indicators, "interval_adherence")
+		ind, ok := audit.Find(res.Unit.Indicators, "interval_adherence")
 		if !ok {
 			t.Fatal("no interval_adherence")
 		}

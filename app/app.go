@@ -10,6 +10,7 @@
 package app
 
 import (
+	"polypledger/audit"
 	_ "polypledger/internal/plainlocale" // before the UI toolkit reads the locale
 
 	"context"
@@ -30,7 +31,6 @@ import (
 
 	"polypledger/assets"
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/store"
 	"polypledger/workspace"
 )
@@ -63,7 +63,7 @@ type ui struct {
 	startTab string
 
 	st       *store.Store
-	profiles []*report.Profile
+	profiles []*audit.Profile
 	settings store.Settings
 	roster   []logbook.RosterEntry
 
@@ -117,7 +117,7 @@ func (u *ui) open(path string) error {
 // the database open before stays open.
 func (u *ui) openLater(path string, failed func(error)) {
 	var st *store.Store
-	var profiles []*report.Profile
+	var profiles []*audit.Profile
 	u.jobs.run("Opening "+filepath.Base(path), func(ctx context.Context, progress progressFunc) (err error) {
 		st, profiles, err = openUnit(ctx, path)
 		return err
@@ -132,7 +132,7 @@ func (u *ui) openLater(path string, failed func(error)) {
 }
 
 // openUnit opens a database with the unit key, and the standard profiles.
-func openUnit(ctx context.Context, path string) (*store.Store, []*report.Profile, error) {
+func openUnit(ctx context.Context, path string) (*store.Store, []*audit.Profile, error) {
 	st, err := workspace.OpenStore(ctx, path, true)
 	if err != nil {
 		return nil, nil, err
@@ -147,7 +147,7 @@ func openUnit(ctx context.Context, path string) (*store.Store, []*report.Profile
 
 // adopt shows an opened database in place of the one open now. (It must
 // not wait for running jobs: they finish on the UI thread it runs on.)
-func (u *ui) adopt(st *store.Store, profiles []*report.Profile) error {
+func (u *ui) adopt(st *store.Store, profiles []*audit.Profile) error {
 	u.close()
 	u.st, u.profiles = st, profiles
 	if err := u.reloadUnit(); err != nil {
@@ -313,7 +313,7 @@ func (u *ui) tabShown(i int) {
 		u.list.reload()
 	case 1:
 		u.form.refreshRoster()
-		u.win.Canvas().Focus(u.form.id)
+		u.win.Canvas().Focus(u.form.id.focus())
 	case 2:
 		u.inbox.reload()
 	case 3:

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"time"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
@@ -21,7 +22,10 @@ import (
 // number is turned into its pseudonym only when the case is saved, off the
 // UI thread with the save itself, so typing never waits for the database.
 type caseForm struct {
-	u      *ui
+	u *ui
+	// form is the table of the procedure's fields; fields lays them out
+	// and shows their problems.
+	form   *recordForm[logbook.Procedure]
 	fields *fieldSet
 
 	isNew      bool
@@ -37,69 +41,28 @@ type caseForm struct {
 	scroll     *container.Scroll
 	editor     *lesionEditor // the lesion dialog open now, if any
 
-	id, date, patient, age, withdrawal *entry
-	midazolam, fentanyl, pethidine     *entry
-	patientCode                        *widget.Label
-	operator, trainee, comfort         *keySelect
-	operatorIDs, traineeIDs            []string
-	supervision                        *choice[logbook.Supervision]
-	reached, photo, retro, propofol    *choice[logbook.YesNo]
-	aid                                *choice[logbook.YesNo]
-	sex                                *choice[logbook.Sex]
-	indication                         *choice[logbook.Indication]
-	setting                            *choice[logbook.Setting]
-	exclusion                          *choice[logbook.Exclusion]
-	extent                             *choice[logbook.Extent]
-	incomplete                         *choice[logbook.IncompleteReason]
-	adverse                            *choice[logbook.AdverseEvent]
-	interval                           *choice[logbook.Interval]
-	bbps                               [3]*keySelect
-	bbpsTotal                          *widget.Label
+	// The fields the form treats specially: the number is fixed once
+	// stored, the hospital number is coded on save, the people come from
+	// the roster, and the Boston score shows its total.
+	id, patient       *formField[logbook.Procedure]
+	operator, trainee *formField[logbook.Procedure]
+	patientCode       *widget.Label
+	bbpsTotal         *widget.Label
 
 	save, del, fresh *button
 	content          fyne.CanvasObject
 }
 
 func newCaseForm(u *ui) *caseForm {
-	f := &caseForm{u: u, fields: newFieldSet(), isNew: true}
-	ch := f.changed
-	sub := f.submit
-	f.id = submitEntry("e.g. C2026-0142", ch, sub)
-	f.date = submitEntry("YYYY-MM-DD", ch, sub)
-	f.patient = submitEntry("hospital number (only a code made from it is kept)", ch, sub)
+	type P = logbook.Procedure
+	f := &caseForm{u: u, form: newRecordForm[P](), isNew: true}
+	f.fields = f.form.set
+	h := formHooks{changed: f.changed, submit: f.submit}
+	f.id = idField("Procedure number", "procedure_id", "e.g. C2026-0142", h, func(p *P) *string { return &p.ID })
+	f.patient = noteField[P]("Patient", "patient_ref", "hospital number (only a code made from it is kept)", h)
+	f.operator = codeField("Endoscopist", "operator_id", []string(nil), nil, "", h, func(p *P) *string { return &p.OperatorID })
+	f.trainee = codeField("Trainee holding the scope", "trainee_id", []string(nil), nil, noTrainee, h, func(p *P) *string { return &p.TraineeID })
 	f.patientCode = widget.NewLabel("")
-	f.age = submitEntry("years", ch, sub)
-	f.withdrawal = submitEntry("minutes:seconds, e.g. 7:30", ch, sub)
-	f.midazolam = submitEntry("mg", ch, sub)
-	f.fentanyl = submitEntry("µg", ch, sub)
-	f.pethidine = submitEntry("mg", ch, sub)
-	f.operator = newKeySelect(nil, func(string) { ch() })
-	f.trainee = newKeySelect(nil, func(string) { ch() })
-	f.comfort = newKeySelect(append([]string{notRecorded}, comfortWords...), func(string) { ch() })
-	f.supervision = newChoice(logbook.Supervisions, supervisionWords, true, ch)
-	f.reached = newYesNo(false, "", ch)
-	f.photo = newYesNo(false, "", ch)
-	f.retro = newYesNo(true, "Not possible", ch)
-	f.propofol = newYesNo(false, "", ch)
-	f.aid = newYesNo(false, "", ch)
-	f.sex = newChoice(logbook.Sexes, sexWords, false, ch)
-	f.indication = newChoice(logbook.Indications, indicationWords, false, ch)
-	f.setting = newChoice(logbook.Settings, settingWords, true, ch)
-	f.exclusion = newChoice(logbook.Exclusions, exclusionWords, true, ch)
-	f.extent = newChoice(logbook.Extents, extentWords, false, ch)
-	f.incomplete = newChoice(logbook.IncompleteReasons, incompleteWords, true, ch)
-	f.adverse = newChoice(logbook.AdverseEvents, adverseWords, true, ch)
-	f.interval = newChoice(logbook.Intervals, intervalWords, true, ch)
-	for _, s := range []*keySelect{f.operator, f.trainee, f.comfort, &f.supervision.keySelect, &f.reached.keySelect,
-		&f.photo.keySelect, &f.retro.keySelect, &f.propofol.keySelect, &f.aid.keySelect, &f.sex.keySelect,
-		&f.indication.keySelect, &f.setting.keySelect, &f.exclusion.keySelect, &f.extent.keySelect,
-		&f.incomplete.keySelect, &f.adverse.keySelect, &f.interval.keySelect} {
-		s.OnSubmit = sub
-	}
-	for i := range f.bbps {
-		f.bbps[i] = newKeySelect(append([]string{notRecorded}, bostonWords...), func(string) { ch() })
-		f.bbps[i].OnSubmit = sub
-	}
 	f.bbpsTotal = widget.NewLabel("")
 	f.bbpsTotal.Wrapping = fyne.TextWrapWord
 	f.heading = widget.NewLabelWithStyle("New case", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
@@ -110,49 +73,49 @@ func newCaseForm(u *ui) *caseForm {
 	f.progress = widget.NewProgressBarInfinite()
 	f.progress.Stop()
 	f.progress.Hide()
-	f.save = newButton("Save the case  (Enter)", sub)
+	f.save = newButton("Save the case  (Enter)", f.submit)
 	f.save.Importance = widget.HighImportance
 	f.del = newButton("Delete this case…", f.confirmDelete)
 	f.del.Importance = widget.DangerImportance
 	f.fresh = newButton("Start a new case", func() { f.startNew(true) })
 	f.lesionBox = container.NewVBox()
 
-	fs := f.fields
-	left := fs.group("The procedure",
-		fieldRow{"Procedure number", "procedure_id", f.id},
-		fieldRow{"Date", "performed_on", f.date},
-		fieldRow{"Endoscopist", "operator_id", f.operator},
-		fieldRow{"Trainee holding the scope", "trainee_id", f.trainee},
-		fieldRow{"Supervision", "supervision", f.supervision},
-		fieldRow{"Trainee reached the caecum unaided", "trainee_reached_caecum", f.reached},
-		fieldRow{"Patient", "patient_ref", container.NewVBox(f.patient, f.patientCode)},
-		fieldRow{"Age", "age", f.age},
-		fieldRow{"Sex", "sex", f.sex},
-		fieldRow{"Reason for the test", "indication", f.indication},
-		fieldRow{"Setting", "setting", f.setting},
-		fieldRow{"Excluded from detection figures", "exclusion", f.exclusion},
+	fm := f.form
+	left := fm.group("The procedure",
+		f.id,
+		dateField("Date", "performed_on", "YYYY-MM-DD", h, func(p *P) *time.Time { return &p.PerformedOn }),
+		f.operator,
+		f.trainee,
+		codeField("Supervision", "supervision", logbook.Supervisions, supervisionWords, notRecorded, h, func(p *P) *logbook.Supervision { return &p.Supervision }),
+		yesNoField("Trainee reached the caecum unaided", "trainee_reached_caecum", "", h, func(p *P) *logbook.YesNo { return &p.TraineeReachedCaecum }),
+		f.patient.under(f.patientCode),
+		countField("Age", "age", "years", h, func(p *P) *int { return &p.Age }),
+		codeField("Sex", "sex", logbook.Sexes, sexWords, "", h, func(p *P) *logbook.Sex { return &p.Sex }),
+		codeField("Reason for the test", "indication", logbook.Indications, indicationWords, "", h, func(p *P) *logbook.Indication { return &p.Indication }),
+		codeField("Setting", "setting", logbook.Settings, settingWords, notRecorded, h, func(p *P) *logbook.Setting { return &p.Setting }),
+		codeField("Excluded from detection figures", "exclusion", logbook.Exclusions, exclusionWords, notRecorded, h, func(p *P) *logbook.Exclusion { return &p.Exclusion }),
 	)
-	right := fs.group("The examination",
-		fieldRow{"Furthest point reached", "extent", f.extent},
-		fieldRow{"Why it stopped short", "incomplete_reason", f.incomplete},
-		fieldRow{"Photo of the caecum", "caecal_photo", f.photo},
-		fieldRow{"Withdrawal time", "withdrawal_seconds", f.withdrawal},
-		fieldRow{"Boston score, right colon", "bbps_right", f.bbps[0]},
-		fieldRow{"Boston score, transverse", "bbps_transverse", f.bbps[1]},
-		fieldRow{"Boston score, left colon", "bbps_left", container.NewVBox(f.bbps[2], f.bbpsTotal)},
-		fieldRow{"Rectal retroversion", "retroversion", f.retro},
-		fieldRow{"Computer-aided detection used", "detection_aid", f.aid},
+	right := fm.group("The examination",
+		codeField("Furthest point reached", "extent", logbook.Extents, extentWords, "", h, func(p *P) *logbook.Extent { return &p.Extent }),
+		codeField("Why it stopped short", "incomplete_reason", logbook.IncompleteReasons, incompleteWords, notRecorded, h, func(p *P) *logbook.IncompleteReason { return &p.IncompleteReason }),
+		yesNoField("Photo of the caecum", "caecal_photo", "", h, func(p *P) *logbook.YesNo { return &p.CaecalPhoto }),
+		minSecField("Withdrawal time", "withdrawal_seconds", "minutes:seconds, e.g. 7:30", h, func(p *P) *int { return &p.WithdrawalSeconds }),
+		scoreField("Boston score, right colon", "bbps_right", bostonWords, 0, h, func(p *P) *int { return &p.BBPSRight }),
+		scoreField("Boston score, transverse", "bbps_transverse", bostonWords, 0, h, func(p *P) *int { return &p.BBPSTransverse }),
+		scoreField("Boston score, left colon", "bbps_left", bostonWords, 0, h, func(p *P) *int { return &p.BBPSLeft }).under(f.bbpsTotal),
+		yesNoField("Rectal retroversion", "retroversion", "Not possible", h, func(p *P) *logbook.YesNo { return &p.Retroversion }),
+		yesNoField("Computer-aided detection used", "detection_aid", "", h, func(p *P) *logbook.YesNo { return &p.DetectionAid }),
 	)
-	sedation := fs.group("Sedation and comfort",
-		fieldRow{"Midazolam (mg)", "midazolam_mg", f.midazolam},
-		fieldRow{"Fentanyl (µg)", "fentanyl_ug", f.fentanyl},
-		fieldRow{"Pethidine (mg)", "pethidine_mg", f.pethidine},
-		fieldRow{"Propofol", "propofol", f.propofol},
-		fieldRow{"Comfort (nurse's score)", "comfort", f.comfort},
+	sedation := fm.group("Sedation and comfort",
+		doseField("Midazolam (mg)", "midazolam_mg", "mg", h, func(p *P) *float64 { return &p.MidazolamMg }),
+		doseField("Fentanyl (µg)", "fentanyl_ug", "µg", h, func(p *P) *float64 { return &p.FentanylUg }),
+		doseField("Pethidine (mg)", "pethidine_mg", "mg", h, func(p *P) *float64 { return &p.PethidineMg }),
+		yesNoField("Propofol", "propofol", "", h, func(p *P) *logbook.YesNo { return &p.Propofol }),
+		scoreField("Comfort (nurse's score)", "comfort", comfortWords, logbook.MinComfort, h, func(p *P) *int { return &p.Comfort }),
 	)
-	outcome := fs.group("Afterwards",
-		fieldRow{"Complication within 30 days", "adverse_event", f.adverse},
-		fieldRow{"Next colonoscopy advised", "recommended_interval", f.interval},
+	outcome := fm.group("Afterwards",
+		codeField("Complication within 30 days", "adverse_event", logbook.AdverseEvents, adverseWords, notRecorded, h, func(p *P) *logbook.AdverseEvent { return &p.AdverseEvent }),
+		codeField("Next colonoscopy advised", "recommended_interval", logbook.Intervals, intervalWords, notRecorded, h, func(p *P) *logbook.Interval { return &p.RecommendedInterval }),
 	)
 	addLesion := newButton("Add a lesion", func() { f.editLesion(-1) })
 	lesions := container.NewVBox(
@@ -170,71 +133,36 @@ func newCaseForm(u *ui) *caseForm {
 	return f
 }
 
+// noTrainee is the trainee drop-down's first option.
+const noTrainee = "(no trainee)"
+
 // refreshRoster offers the roster's current endoscopists and trainees.
 func (f *caseForm) refreshRoster() {
 	f.fields.fill(f.offerRoster)
 }
 
+// offerRoster offers every endoscopist and trainee on the roster, leaving
+// out the retired unless the case names them.
 func (f *caseForm) offerRoster() {
-	opSel, trSel := f.operatorValue(), f.traineeValue()
-	f.operatorIDs, f.traineeIDs = nil, []string{""}
-	var ops []string
-	trs := []string{"(no trainee)"}
+	cur, _ := f.read()
+	var ops, trs []string
+	labels := map[string]string{}
 	for _, r := range f.u.roster {
-		keep := !r.Retired || r.ID == opSel || r.ID == trSel
-		if !keep {
+		if r.Retired && r.ID != cur.OperatorID && r.ID != cur.TraineeID {
 			continue
 		}
-		label := r.ID
+		labels[r.ID] = r.ID
 		if r.Name != "" {
-			label += " – " + r.Name
+			labels[r.ID] += " – " + r.Name
 		}
 		if r.Role == logbook.RoleTrainee {
-			f.traineeIDs = append(f.traineeIDs, r.ID)
-			trs = append(trs, label)
+			trs = append(trs, r.ID)
 		} else {
-			f.operatorIDs = append(f.operatorIDs, r.ID)
-			ops = append(ops, label)
+			ops = append(ops, r.ID)
 		}
 	}
-	f.operator.SetOptions(ops)
-	f.trainee.SetOptions(trs)
-	f.setOperator(opSel)
-	f.setTrainee(trSel)
-}
-
-func (f *caseForm) operatorValue() string {
-	if i := f.operator.SelectedIndex(); i >= 0 && i < len(f.operatorIDs) {
-		return f.operatorIDs[i]
-	}
-	return ""
-}
-
-func (f *caseForm) traineeValue() string {
-	if i := f.trainee.SelectedIndex(); i >= 0 && i < len(f.traineeIDs) {
-		return f.traineeIDs[i]
-	}
-	return ""
-}
-
-func (f *caseForm) setOperator(id string) {
-	for i, x := range f.operatorIDs {
-		if x == id {
-			f.operator.SetSelectedIndex(i)
-			return
-		}
-	}
-	f.operator.ClearSelected()
-}
-
-func (f *caseForm) setTrainee(id string) {
-	for i, x := range f.traineeIDs {
-		if x == id {
-			f.trainee.SetSelectedIndex(i)
-			return
-		}
-	}
-	f.trainee.SetSelectedIndex(0)
+	f.operator.input.(*choice[string]).setCodes(ops, labels, "")
+	f.trainee.input.(*choice[string]).setCodes(trs, labels, noTrainee)
 }
 
 // say shows a line about the last save above the form; "" hides it.
@@ -254,19 +182,16 @@ func showText(l *widget.Label, text string) {
 // startNew clears the form for a new case. With keep, the date and the
 // endoscopist stay as they were, for the next case of the same list.
 func (f *caseForm) startNew(keep bool) {
-	date, op := f.date.Text, f.operatorValue()
+	cur, _ := f.read()
+	p := logbook.NewProcedure()
+	p.PerformedOn = f.u.today()
+	if keep {
+		p.PerformedOn, p.OperatorID = cur.PerformedOn, cur.OperatorID
+	}
 	f.isNew, f.storedKey, f.lesions = true, "", nil
 	f.heading.SetText("New case")
 	f.say("")
-	f.fill(logbook.NewProcedure())
-	f.fields.fill(func() {
-		if keep {
-			f.date.SetText(date)
-			f.setOperator(op)
-		} else {
-			f.date.SetText(logbook.FormatDate(f.u.today()))
-		}
-	})
+	f.fill(p)
 	f.del.Hide()
 	f.fields.untouched()
 	f.showLesions()
@@ -288,108 +213,33 @@ func (f *caseForm) edit(c logbook.Case) {
 	f.scroll.ScrollToTop()
 }
 
-// fill writes a procedure's values into the widgets (touching none).
+// fill shows a procedure in the form (touching no field): the roster is
+// offered first, so that the case's people are among the choices.
 func (f *caseForm) fill(p logbook.Procedure) {
-	f.fields.fill(func() { f.fillNow(p) })
-}
-
-func (f *caseForm) fillNow(p logbook.Procedure) {
 	f.refreshRoster()
-	f.id.SetText(p.ID)
-	f.id.Enable()
+	f.form.fill(p)
+	id := f.id.input.(*entry)
+	id.Enable()
 	if !f.isNew {
-		f.id.Disable() // the id names the record; edit by deleting and entering anew
+		id.Disable() // the id names the record; edit by deleting and entering anew
 	}
-	f.date.SetText(logbook.FormatDate(p.PerformedOn))
-	f.setOperator(p.OperatorID)
-	f.setTrainee(p.TraineeID)
-	f.supervision.Set(p.Supervision)
-	f.reached.Set(p.TraineeReachedCaecum)
-	f.patient.SetText("")
-	f.age.SetText(logbook.FormatCount(p.Age))
-	f.sex.Set(p.Sex)
-	f.indication.Set(p.Indication)
-	f.setting.Set(p.Setting)
-	f.exclusion.Set(p.Exclusion)
-	f.extent.Set(p.Extent)
-	f.incomplete.Set(p.IncompleteReason)
-	f.photo.Set(p.CaecalPhoto)
-	f.withdrawal.SetText(logbook.FormatMinSec(p.WithdrawalSeconds))
-	for i, v := range []int{p.BBPSRight, p.BBPSTransverse, p.BBPSLeft} {
-		if v >= 0 && v <= 3 {
-			f.bbps[i].SetSelectedIndex(v + 1)
-		} else {
-			f.bbps[i].SetSelectedIndex(0)
-		}
-	}
-	f.retro.Set(p.Retroversion)
-	f.midazolam.SetText(logbook.FormatDose(p.MidazolamMg))
-	f.fentanyl.SetText(logbook.FormatDose(p.FentanylUg))
-	f.pethidine.SetText(logbook.FormatDose(p.PethidineMg))
-	f.propofol.Set(p.Propofol)
-	if p.Comfort >= logbook.MinComfort && p.Comfort <= logbook.MaxComfort {
-		f.comfort.SetSelectedIndex(p.Comfort)
-	} else {
-		f.comfort.SetSelectedIndex(0)
-	}
-	f.aid.Set(p.DetectionAid)
-	f.adverse.Set(p.AdverseEvent)
-	f.interval.Set(p.RecommendedInterval)
 }
 
-// read builds the procedure from the widgets, with the problems of values
-// that could not be read at all (a date that is not a date).
+// read builds the procedure from the form, with the problems of values
+// that could not be read at all (a date that is not a date). The pseudonym
+// is made on save (submit), not here: read runs on every keystroke and
+// must not touch the database.
 func (f *caseForm) read() (logbook.Procedure, logbook.Problems) {
-	var ps logbook.Problems
-	bad := func(field string, err error) {
-		if err != nil {
-			ps = append(ps, logbook.FieldError{Field: field, Reason: err.Error()})
-		}
-	}
 	p := logbook.NewProcedure()
-	p.ID = strings.TrimSpace(f.id.Text)
-	var err error
-	p.PerformedOn, err = logbook.ParseDate(strings.TrimSpace(f.date.Text))
-	bad("performed_on", err)
-	p.OperatorID = f.operatorValue()
-	p.TraineeID = f.traineeValue()
-	p.Supervision = f.supervision.Value()
-	p.TraineeReachedCaecum = f.reached.Value()
-	// The pseudonym is made on save (submit), not here: read runs on every
-	// keystroke and must not touch the database.
+	ps := f.form.read(&p)
 	p.PatientKey = f.storedKey
-	p.Age, err = logbook.ParseCount(strings.TrimSpace(f.age.Text))
-	bad("age", err)
-	p.Sex = f.sex.Value()
-	p.Indication = f.indication.Value()
-	p.Setting = f.setting.Value()
-	p.Exclusion = f.exclusion.Value()
-	p.Extent = f.extent.Value()
-	p.IncompleteReason = f.incomplete.Value()
-	p.CaecalPhoto = f.photo.Value()
-	p.WithdrawalSeconds, err = logbook.ParseMinSec(f.withdrawal.Text)
-	bad("withdrawal_seconds", err)
-	scores := []*int{&p.BBPSRight, &p.BBPSTransverse, &p.BBPSLeft}
-	for i, r := range f.bbps {
-		if k := r.SelectedIndex(); k >= 1 {
-			*scores[i] = k - 1
-		}
-	}
-	p.Retroversion = f.retro.Value()
-	p.MidazolamMg, err = logbook.ParseDose(strings.TrimSpace(f.midazolam.Text))
-	bad("midazolam_mg", err)
-	p.FentanylUg, err = logbook.ParseDose(strings.TrimSpace(f.fentanyl.Text))
-	bad("fentanyl_ug", err)
-	p.PethidineMg, err = logbook.ParseDose(strings.TrimSpace(f.pethidine.Text))
-	bad("pethidine_mg", err)
-	p.Propofol = f.propofol.Value()
-	if i := f.comfort.SelectedIndex(); i > 0 {
-		p.Comfort = i
-	}
-	p.DetectionAid = f.aid.Value()
-	p.AdverseEvent = f.adverse.Value()
-	p.RecommendedInterval = f.interval.Value()
 	return p, ps
+}
+
+// patientText is the hospital number typed, if any.
+func (f *caseForm) patientText() string {
+	t, _ := f.patient.text.Get()
+	return strings.TrimSpace(t)
 }
 
 // current returns the case as the form holds it and every problem the
@@ -437,7 +287,7 @@ func (f *caseForm) changed() {
 	}
 	f.otherProbs.SetText(strings.Join(lines, "\n"))
 	switch {
-	case strings.TrimSpace(f.patient.Text) != "":
+	case f.patientText() != "":
 		showText(f.patientCode, "A code is made from it when the case is saved; the number itself is not kept.")
 	case c.PatientKey != "":
 		showText(f.patientCode, "Kept as "+logbook.ShortCode(c.PatientKey)+". Type a hospital number only to change it.")
@@ -473,7 +323,7 @@ func (f *caseForm) submit() {
 		f.fields.focusFirst(f.u.win.Canvas(), ps)
 		return
 	}
-	ref := strings.TrimSpace(f.patient.Text)
+	ref := f.patientText()
 	isNew := f.isNew
 	f.saving = true
 	f.save.Disable()
@@ -529,7 +379,7 @@ func (f *caseForm) saved(c logbook.Case, isNew bool, err error) {
 	f.startNew(true)
 	f.say(what + ". Ready for the next case.")
 	f.scroll.ScrollToTop()
-	f.u.win.Canvas().Focus(f.id)
+	f.u.win.Canvas().Focus(f.id.focus())
 	f.u.recordsChanged()
 }
 
@@ -538,7 +388,8 @@ func (f *caseForm) confirmDelete() {
 	if f.isNew {
 		return
 	}
-	id := strings.TrimSpace(f.id.Text)
+	cur, _ := f.read()
+	id := cur.ID
 	msg := fmt.Sprintf("Delete case %s and its %d lesions?\nThe change log keeps a copy of what is deleted.", id, len(f.lesions))
 	dialog.ShowConfirm("Delete this case?", msg, func(yes bool) {
 		if yes {

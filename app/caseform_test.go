@@ -15,17 +15,17 @@ import (
 
 // fillValidCase types a complete, valid case into the form.
 func fillValidCase(f *caseForm, id string) {
-	test.Type(f.id, id)
-	f.date.SetText("2026-11-02")
-	f.setOperator("E01")
-	test.Type(f.patient, "rx 4471")
-	f.age.SetText("58")
-	f.sex.Set(logbook.SexFemale)
-	f.indication.Set(logbook.Screening)
-	f.extent.Set(logbook.ExtentCaecum)
-	f.withdrawal.SetText("8:15")
+	test.Type(f.form.entry("procedure_id"), id)
+	f.form.entry("performed_on").SetText("2026-11-02")
+	codeChoice[string](f.form, "operator_id").Set("E01")
+	test.Type(f.form.entry("patient_ref"), "rx 4471")
+	f.form.entry("age").SetText("58")
+	codeChoice[logbook.Sex](f.form, "sex").Set(logbook.SexFemale)
+	codeChoice[logbook.Indication](f.form, "indication").Set(logbook.Screening)
+	codeChoice[logbook.Extent](f.form, "extent").Set(logbook.ExtentCaecum)
+	f.form.entry("withdrawal_seconds").SetText("8:15")
 	for i, v := range []int{3, 2, 2} {
-		f.bbps[i].SetSelectedIndex(v + 1)
+		f.form.scores([]string{"bbps_right", "bbps_transverse", "bbps_left"}[i]).SetSelectedIndex(v + 1)
 	}
 }
 
@@ -51,7 +51,7 @@ func TestEntryValidationAndSave(t *testing.T) {
 			t.Errorf("message beside %s = %q, want %q", field, got, "is required")
 		}
 	}
-	if u.win.Canvas().Focused() != f.id {
+	if u.win.Canvas().Focused() != f.id.focus() {
 		t.Errorf("after a refused save the keyboard is on %T, not the procedure number", u.win.Canvas().Focused())
 	}
 	if n, _ := u.st.CountProcedures(u.ctx, store.ListQuery{}); n != 50 {
@@ -72,16 +72,16 @@ func TestEntryValidationAndSave(t *testing.T) {
 		name, field string
 		set, undo   func()
 	}{
-		{"age not a number", "age", func() { f.age.SetText("fifty") }, func() { f.age.SetText("58") }},
-		{"age out of range", "age", func() { f.age.SetText("12") }, func() { f.age.SetText("58") }},
-		{"withdrawal not m:ss", "withdrawal_seconds", func() { f.withdrawal.SetText("7:75") }, func() { f.withdrawal.SetText("8:15") }},
-		{"date in the future", "performed_on", func() { f.date.SetText("2027-01-01") }, func() { f.date.SetText("2026-11-02") }},
+		{"age not a number", "age", func() { f.form.entry("age").SetText("fifty") }, func() { f.form.entry("age").SetText("58") }},
+		{"age out of range", "age", func() { f.form.entry("age").SetText("12") }, func() { f.form.entry("age").SetText("58") }},
+		{"withdrawal not m:ss", "withdrawal_seconds", func() { f.form.entry("withdrawal_seconds").SetText("7:75") }, func() { f.form.entry("withdrawal_seconds").SetText("8:15") }},
+		{"date in the future", "performed_on", func() { f.form.entry("performed_on").SetText("2027-01-01") }, func() { f.form.entry("performed_on").SetText("2026-11-02") }},
 		{"photo with incomplete extent", "caecal_photo", func() {
-			f.extent.Set(logbook.ExtentIncomplete)
-			f.photo.Set(logbook.Yes)
+			codeChoice[logbook.Extent](f.form, "extent").Set(logbook.ExtentIncomplete)
+			codeChoice[logbook.YesNo](f.form, "caecal_photo").Set(logbook.Yes)
 		}, func() {
-			f.extent.Set(logbook.ExtentCaecum)
-			f.photo.Set(logbook.Unrecorded)
+			codeChoice[logbook.Extent](f.form, "extent").Set(logbook.ExtentCaecum)
+			codeChoice[logbook.YesNo](f.form, "caecal_photo").Set(logbook.Unrecorded)
 		}},
 	}
 	for _, tc := range tests {
@@ -105,7 +105,7 @@ func TestEntryValidationAndSave(t *testing.T) {
 	f.changed()
 
 	// Enter in a field saves (off the UI thread).
-	f.age.TypedKey(&fyne.KeyEvent{Name: fyne.KeyReturn})
+	f.form.entry("age").TypedKey(&fyne.KeyEvent{Name: fyne.KeyReturn})
 	u.jobs.wait()
 	c, err := u.st.Case(u.ctx, "NEW-1")
 	if err != nil {
@@ -118,16 +118,16 @@ func TestEntryValidationAndSave(t *testing.T) {
 	if c.Age != 58 || c.WithdrawalSeconds != 495 || c.BBPSTotal() != 7 || len(c.Lesions) != 1 {
 		t.Errorf("stored case = age %d, withdrawal %d s, BBPS %d, %d lesions", c.Age, c.WithdrawalSeconds, c.BBPSTotal(), len(c.Lesions))
 	}
-	if f.id.Text != "" || f.operatorValue() != "E01" || f.date.Text != "2026-11-02" {
+	if f.form.entry("procedure_id").Text != "" || codeChoice[string](f.form, "operator_id").Value() != "E01" || f.form.entry("performed_on").Text != "2026-11-02" {
 		t.Errorf("after saving, the form should be ready for the next case of the same list")
 	}
 
 	// Editing shows the short code only, never the hospital number.
 	f.edit(c)
-	if f.patient.Text != "" || !strings.HasPrefix(f.patientCode.Text, "Kept as "+logbook.ShortCode(c.PatientKey)+".") {
-		t.Errorf("edit shows patient %q / %q", f.patient.Text, f.patientCode.Text)
+	if f.form.entry("patient_ref").Text != "" || !strings.HasPrefix(f.patientCode.Text, "Kept as "+logbook.ShortCode(c.PatientKey)+".") {
+		t.Errorf("edit shows patient %q / %q", f.form.entry("patient_ref").Text, f.patientCode.Text)
 	}
-	f.age.SetText("59")
+	f.form.entry("age").SetText("59")
 	test.Tap(f.save)
 	u.jobs.wait()
 	if c, _ = u.st.Case(u.ctx, "NEW-1"); c.Age != 59 || c.PatientKey != want {
@@ -169,18 +169,18 @@ func TestLesionEditorValidates(t *testing.T) {
 	if kept || e.fields.message("segment") != "is required" {
 		t.Fatalf("an empty lesion was kept (%v) or says %q beside its segment", kept, e.fields.message("segment"))
 	}
-	e.segment.Set(logbook.Rectum)
-	e.size.SetText("3")
-	e.optical.Set(logbook.OpticalUncertain)
-	e.confidence.Set(logbook.HighConfidence)
+	codeChoice[logbook.Segment](e.form, "segment").Set(logbook.Rectum)
+	e.form.entry("size_mm").SetText("3")
+	codeChoice[logbook.OpticalClass](e.form, "optical_class").Set(logbook.OpticalUncertain)
+	codeChoice[logbook.Confidence](e.form, "confidence").Set(logbook.HighConfidence)
 	if e.fields.message("confidence") == "" || len(e.problems) == 0 {
 		t.Error("an uncertain call with high confidence is accepted")
 	}
-	e.confidence.Set(logbook.LowConfidence)
-	e.retrieved.Set(logbook.Yes)
-	e.sent.Set(logbook.Yes)
-	if e.histology.Value() != logbook.HistPending {
-		t.Errorf("a specimen sent starts as %q, want pending", e.histology.Value())
+	codeChoice[logbook.Confidence](e.form, "confidence").Set(logbook.LowConfidence)
+	codeChoice[logbook.YesNo](e.form, "retrieved").Set(logbook.Yes)
+	codeChoice[logbook.YesNo](e.form, "sent_to_pathology").Set(logbook.Yes)
+	if codeChoice[logbook.Histology](e.form, "histology").Value() != logbook.HistPending {
+		t.Errorf("a specimen sent starts as %q, want pending", codeChoice[logbook.Histology](e.form, "histology").Value())
 	}
 	test.Tap(e.keep)
 	if !kept {
@@ -248,7 +248,7 @@ func TestTypingNeverWaitsForTheDatabase(t *testing.T) {
 	fillValidCase(f, "BUSY-1") // types the hospital number "rx 4471"
 
 	release := holdWriteLock(t, u)
-	returnsAtOnce(t, "a keystroke in the hospital number", func() { test.Type(f.patient, "2") })
+	returnsAtOnce(t, "a keystroke in the hospital number", func() { test.Type(f.form.entry("patient_ref"), "2") })
 	returnsAtOnce(t, "saving the case", f.submit)
 	if !f.saving || !strings.HasPrefix(f.notice.Text, "Saving case BUSY-1") || !f.progress.Visible() {
 		t.Errorf("while the save waits the screen says %q (saving %v)", f.notice.Text, f.saving)

@@ -3,6 +3,7 @@ package app
 import (
 	"time"
 
+	"polypledger/audit"
 	"polypledger/report"
 	"polypledger/workspace"
 )
@@ -16,13 +17,13 @@ var chartOptions = report.ChartOptions{WidthMM: 160, HeightMM: 90, DPI: 96}
 // as provisional), the ADR funnel and the detection-aid comparison; for a
 // trainee the cases by supervision and the CUSUM learning curve from the
 // trainee's first case.
-func figureCharts(figs workspace.Figures, prof *report.Profile, pop workspace.Population, today time.Time) []chartImage {
+func figureCharts(figs audit.Figures, prof *audit.Profile, pop workspace.Population, today time.Time) []chartImage {
 	var out []chartImage
 	add := func(name string, png []byte, err error) {
 		out = append(out, chartImage{name: name, png: png, err: err})
 	}
 	if pop.TraineeID != "" {
-		for _, t := range figs.Data.Trainees {
+		for _, t := range figs.Trainees {
 			if t.TraineeID != pop.TraineeID {
 				continue
 			}
@@ -38,7 +39,7 @@ func figureCharts(figs workspace.Figures, prof *report.Profile, pop workspace.Po
 		name = pop.OperatorID
 	}
 	td := report.TrendData{IndicatorID: "adr", Name: name}
-	for _, q := range figs.Data.Trends.Quarters {
+	for _, q := range figs.Trends.Quarters {
 		inds := q.Metrics.Unit.Indicators
 		if pop.OperatorID != "" {
 			inds = nil
@@ -47,21 +48,21 @@ func figureCharts(figs workspace.Figures, prof *report.Profile, pop workspace.Po
 					inds = o.Indicators
 				}
 			}
-			unit, _ := report.Find(q.Metrics.Unit.Indicators, "adr")
+			unit, _ := audit.Find(q.Metrics.Unit.Indicators, "adr")
 			td.ComparisonName = "unit"
 			td.Comparison = append(td.Comparison, report.TrendPoint{Label: q.Quarter, Indicator: unit})
 		}
-		ind, ok := report.Find(inds, "adr")
+		ind, ok := audit.Find(inds, "adr")
 		if !ok {
-			ind = report.Indicator{ID: "adr", Status: report.TooFew}
+			ind = audit.Indicator{ID: "adr", Status: audit.TooFew}
 		}
 		td.Points = append(td.Points, report.TrendPoint{Label: q.Quarter, Indicator: ind,
-			Provisional: report.ProvisionalNote(ind, q.Unfinished(today))})
+			Provisional: audit.ProvisionalNote(ind, q.Unfinished(today))})
 	}
 	png, err := report.TrendChart(td, chartOptions)
 	add("trend", png, err)
 
-	if f, err := report.NewFunnel(figs.Data.Metrics, "adr"); err == nil {
+	if f, err := audit.NewFunnel(figs.Metrics, "adr"); err == nil {
 		var target *float64
 		if t := prof.Target("adr"); t != nil {
 			target = t.Minimum
@@ -74,7 +75,7 @@ func figureCharts(figs workspace.Figures, prof *report.Profile, pop workspace.Po
 		add("funnel", nil, err)
 	}
 
-	for _, c := range report.AidComparisons(figs.Data.Metrics) {
+	for _, c := range audit.AidComparisons(figs.Metrics) {
 		if c.OperatorID != pop.OperatorID {
 			continue
 		}
@@ -86,7 +87,7 @@ func figureCharts(figs workspace.Figures, prof *report.Profile, pop workspace.Po
 			fd.Reference = t.Minimum
 		}
 		opt := chartOptions
-		opt.Title = "ADR with and without computer-aided detection (difference " + report.FormatValue(c.Difference) + ")"
+		opt.Title = "ADR with and without computer-aided detection (difference " + audit.FormatValue(c.Difference) + ")"
 		png, err := report.ForestChart(fd, opt)
 		add("aid", png, err)
 	}

@@ -8,8 +8,6 @@ import (
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/widget"
-
-	"polypledger/logbook"
 )
 
 // keySelect is a drop-down that is quick from the keyboard: a letter picks
@@ -119,11 +117,35 @@ type choice[T comparable] struct {
 // newChoice makes a choice over codes, labelled by words (the code itself
 // where words has none). optional adds a "not recorded" option first.
 func newChoice[T comparable](codes []T, words map[T]string, optional bool, changed func()) *choice[T] {
-	c := &choice[T]{}
-	var zero T
+	zero := ""
 	if optional {
+		zero = notRecorded
+	}
+	return newChoiceZero(codes, words, zero, changed)
+}
+
+// newChoiceZero makes a choice over codes, labelled by words; zeroWords,
+// when not empty, is a first option standing for the zero code ("(not
+// recorded)", "(no trainee)").
+func newChoiceZero[T comparable](codes []T, words map[T]string, zeroWords string, changed func()) *choice[T] {
+	c := &choice[T]{}
+	c.offer(codes, words, zeroWords)
+	c.init(c.words, func(string) {
+		if changed != nil {
+			changed()
+		}
+	})
+	c.ExtendBaseWidget(c)
+	return c
+}
+
+// offer sets the codes and their words, without touching the drop-down.
+func (c *choice[T]) offer(codes []T, words map[T]string, zeroWords string) {
+	var zero T
+	c.codes, c.words = nil, nil
+	if zeroWords != "" {
 		c.codes = append(c.codes, zero)
-		c.words = append(c.words, notRecorded)
+		c.words = append(c.words, zeroWords)
 	}
 	for _, code := range codes {
 		w, ok := words[code]
@@ -133,13 +155,37 @@ func newChoice[T comparable](codes []T, words map[T]string, optional bool, chang
 		c.codes = append(c.codes, code)
 		c.words = append(c.words, w)
 	}
-	c.init(c.words, func(string) {
-		if changed != nil {
-			changed()
+}
+
+// setCodes offers other codes (the roster's people), keeping the code
+// chosen when it is still offered.
+func (c *choice[T]) setCodes(codes []T, words map[T]string, zeroWords string) {
+	v := c.Value()
+	c.offer(codes, words, zeroWords)
+	c.SetOptions(c.words)
+	c.Set(v)
+}
+
+// wordsOf returns the option's words for code v, "" when no option has it.
+func (c *choice[T]) wordsOf(v T) string {
+	for i, code := range c.codes {
+		if code == v {
+			return c.words[i]
 		}
-	})
-	c.ExtendBaseWidget(c)
-	return c
+	}
+	return ""
+}
+
+// codeOf returns the code of the option worded w, the zero value when no
+// option is.
+func (c *choice[T]) codeOf(w string) T {
+	for i, words := range c.words {
+		if words == w {
+			return c.codes[i]
+		}
+	}
+	var zero T
+	return zero
 }
 
 // Value returns the chosen code, the zero value when nothing or "not
@@ -163,16 +209,4 @@ func (c *choice[T]) Set(v T) {
 		}
 	}
 	c.ClearSelected()
-}
-
-// newYesNo is a yes/no drop-down (not recorded first), with a fourth
-// answer worded naWords when allowNA.
-func newYesNo(allowNA bool, naWords string, changed func()) *choice[logbook.YesNo] {
-	values := []logbook.YesNo{logbook.Yes, logbook.No}
-	words := map[logbook.YesNo]string{logbook.Yes: "Yes", logbook.No: "No"}
-	if allowNA {
-		values = append(values, logbook.NotApplicable)
-		words[logbook.NotApplicable] = naWords
-	}
-	return newChoice(values, words, true, changed)
 }

@@ -55,7 +55,9 @@ func TestDropDownsOpenShowAndFollowTheWindow(t *testing.T) {
 			return c, func() string { return string(c.Value()) }
 		}, 't', "Terminal ileum"},
 		{"yes/no", func() (fyne.Widget, func() string) {
-			c := newYesNo(true, "Not possible", nil)
+			f := yesNoField("Rectal retroversion", "retroversion", "Not possible", formHooks{},
+				func(p *logbook.Procedure) *logbook.YesNo { return &p.Retroversion })
+			c := f.input.(*choice[logbook.YesNo])
 			return c, func() string { return c.Value().String() }
 		}, 'n', "No"},
 		{"plain", func() (fyne.Widget, func() string) {

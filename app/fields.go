@@ -26,6 +26,10 @@ type fieldSet struct {
 	// filling is set while the program itself fills the fields, which
 	// touches none of them.
 	filling bool
+	// filled is the text each column was last filled with: a field shown
+	// a little later by its data binding, as the desktop driver does, is
+	// not touched by it.
+	filled map[string]string
 }
 
 // fill runs set, which fills fields in, without marking them touched.
@@ -38,7 +42,7 @@ func (fs *fieldSet) fill(set func()) {
 
 func newFieldSet() *fieldSet {
 	return &fieldSet{msgs: map[string]*widget.Label{}, inputs: map[string]fyne.Focusable{},
-		names: map[fyne.CanvasObject]string{}, touched: map[string]bool{}}
+		names: map[fyne.CanvasObject]string{}, touched: map[string]bool{}, filled: map[string]string{}}
 }
 
 // untouched forgets which fields were changed and hides the messages again
@@ -61,7 +65,7 @@ func (fs *fieldSet) watch(o fyne.CanvasObject, column, label string) {
 	touch := func(changed *func(string)) {
 		prev := *changed
 		*changed = func(v string) {
-			fs.touched[column] = fs.touched[column] || !fs.filling
+			fs.touched[column] = fs.touched[column] || (!fs.filling && v != fs.filled[column])
 			if prev != nil {
 				prev(v)
 			}

@@ -3,14 +3,13 @@ package app
 import (
 	"image/color"
 	"math"
+	"polypledger/audit"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/canvas"
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
-
-	"polypledger/report"
 )
 
 // figureRow is one indicator on the figures screen, in one row: its name,
@@ -21,7 +20,7 @@ import (
 // reads from its shape and words, never from a colour. A figure on too few
 // cases to judge is greyed.
 type figureRow struct {
-	ind                  report.Indicator
+	ind                  audit.Indicator
 	title, count, note   *widget.Label
 	value, interval      *widget.Label
 	target               *widget.Label
@@ -33,7 +32,7 @@ type figureRow struct {
 
 // newFigureRow lays out one indicator; unfinished says the period is not
 // over yet.
-func newFigureRow(ind report.Indicator, unfinished bool) *figureRow {
+func newFigureRow(ind audit.Indicator, unfinished bool) *figureRow {
 	r := &figureRow{ind: ind}
 	wrap := func(text string, caption bool) *widget.Label {
 		l := widget.NewLabel(text)
@@ -46,17 +45,17 @@ func newFigureRow(ind report.Indicator, unfinished bool) *figureRow {
 		}
 		return l
 	}
-	r.title = wrap(report.IndicatorTitle(ind.ID), false)
+	r.title = wrap(audit.IndicatorTitle(ind.ID), false)
 	r.title.TextStyle.Bold = true
-	r.count = wrap(report.FormatCount(ind), true)
+	r.count = wrap(audit.FormatCount(ind), true)
 	r.note = wrap(ind.Note, true)
-	r.value = widget.NewLabel(report.FormatValue(ind))
+	r.value = widget.NewLabel(audit.FormatValue(ind))
 	r.value.TextStyle.Bold = true
 	r.value.Alignment = fyne.TextAlignTrailing
-	r.interval = widget.NewLabel(report.FormatInterval(ind))
+	r.interval = widget.NewLabel(audit.FormatInterval(ind))
 	r.interval.SizeName = theme.SizeNameCaptionText
 	r.interval.Alignment = fyne.TextAlignTrailing
-	target := report.FormatTarget(ind)
+	target := audit.FormatTarget(ind)
 	if target != "" {
 		target = "target " + target
 	} else {
@@ -66,14 +65,14 @@ func newFigureRow(ind report.Indicator, unfinished bool) *figureRow {
 	r.target.SizeName = theme.SizeNameCaptionText
 	r.target.Alignment = fyne.TextAlignCenter
 	r.verdict = wrap(ind.Status.Words(), false)
-	prov := report.ProvisionalNote(ind, unfinished)
-	if prov != "" && (ind.Status == report.Meets || ind.Status == report.Below) {
+	prov := audit.ProvisionalNote(ind, unfinished)
+	if prov != "" && (ind.Status == audit.Meets || ind.Status == audit.Below) {
 		r.verdict.SetText(ind.Status.Words() + " (provisional)")
 	}
 	r.provisional = wrap(prov, true)
 	r.bar = newIntervalBar(ind)
 	r.shape = newVerdictShape(ind.Status)
-	if ind.Status == report.TooFew {
+	if ind.Status == audit.TooFew {
 		for _, l := range []*widget.Label{r.title, r.count, r.note, r.value, r.interval, r.target, r.verdict, r.provisional} {
 			l.Importance = widget.LowImportance
 		}
@@ -181,10 +180,10 @@ func (stackLayout) MinSize(objs []fyne.CanvasObject) fyne.Size {
 // tick (the aspirational aim as a shorter tick), all in neutral colours.
 type intervalBar struct {
 	widget.BaseWidget
-	ind report.Indicator
+	ind audit.Indicator
 }
 
-func newIntervalBar(ind report.Indicator) *intervalBar {
+func newIntervalBar(ind audit.Indicator) *intervalBar {
 	b := &intervalBar{ind: ind}
 	b.ExtendBaseWidget(b)
 	return b
@@ -195,7 +194,7 @@ func newIntervalBar(ind report.Indicator) *intervalBar {
 // value, interval and target.
 func (b *intervalBar) scale() (lo, hi float64) {
 	ind := b.ind
-	if (ind.Kind == "" || ind.Kind == "proportion") && ind.Scale == 0 {
+	if def, _ := audit.Lookup(ind.ID); def.Percent() {
 		return 0, 1
 	}
 	lo, hi = 0, 0
@@ -242,7 +241,7 @@ func (r *barRenderer) MinSize() fyne.Size { return fyne.NewSize(120, 22) }
 func (r *barRenderer) Refresh() {
 	fg := theme.Color(theme.ColorNameForeground)
 	mid := theme.Color(theme.ColorNamePlaceHolder)
-	if r.b.ind.Status == report.TooFew {
+	if r.b.ind.Status == audit.TooFew {
 		fg = theme.Color(theme.ColorNameDisabled)
 	}
 	r.track.FillColor = theme.Color(theme.ColorNameSeparator)
@@ -311,10 +310,10 @@ func (r *barRenderer) Layout(size fyne.Size) {
 // is reported without a target.
 type verdictShape struct {
 	widget.BaseWidget
-	status report.Status
+	status audit.Status
 }
 
-func newVerdictShape(s report.Status) *verdictShape {
+func newVerdictShape(s audit.Status) *verdictShape {
 	v := &verdictShape{status: s}
 	v.ExtendBaseWidget(v)
 	return v
@@ -325,11 +324,11 @@ func (v *verdictShape) CreateRenderer() fyne.WidgetRenderer {
 	fg := theme.Color(theme.ColorNameForeground)
 	var o fyne.CanvasObject
 	switch v.status {
-	case report.Meets:
+	case audit.Meets:
 		o = &canvas.Circle{FillColor: fg}
-	case report.Below:
+	case audit.Below:
 		o = &canvas.Polygon{FillColor: fg, Sides: 3, Angle: 180}
-	case report.TooFew:
+	case audit.TooFew:
 		o = &canvas.Circle{StrokeColor: theme.Color(theme.ColorNameDisabled), StrokeWidth: 2}
 	default:
 		o = &canvas.Rectangle{FillColor: fg}

@@ -10,8 +10,9 @@ import (
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/widget"
 
+	"polypledger/audit"
 	"polypledger/logbook"
-	"polypledger/report"
+	"polypledger/surveillance"
 	"polypledger/workspace"
 )
 
@@ -39,7 +40,7 @@ type figuresScreen struct {
 	shownFor string
 	// last holds the figures of the last pass, for every population, so
 	// that choosing whose figures redraws without reading the cases again.
-	last    workspace.Figures
+	last    audit.Figures
 	lastFor string
 	// busy is set while figures are being worked out; again asks for
 	// another run once they are, when the choices changed meanwhile.
@@ -143,23 +144,26 @@ func (s *figuresScreen) compute() {
 	}
 	prof := s.u.profiles[i]
 	pop := s.population()
-	audit := &workspace.Audit{Store: s.u.st, Settings: s.u.settings, Profile: prof}
-	g, _ := audit.Guideline("")
+	ws := &workspace.Audit{Store: s.u.st, Settings: s.u.settings, Profile: prof}
+	req := workspace.Request{From: from, To: to, Whose: pop, Now: s.u.now()}
+	g, _ := ws.Guideline("")
 	today := s.u.today()
-	key := logbook.FormatDate(from) + " " + logbook.FormatDate(to) + " " + prof.ID + " " + string(g)
+	// One pass serves the unit and every endoscopist; a trainee's figures
+	// come from a pass over the trainee's own cases.
+	key := logbook.FormatDate(from) + " " + logbook.FormatDate(to) + " " + prof.ID + " " + string(g) + " " + pop.TraineeID
 	reuse := !s.stale && key == s.lastFor
 	cached := s.last
 	s.stale = false
 	s.busy = true
 	s.show.Disable()
-	var figs workspace.Figures
+	var figs audit.Figures
 	var charts []chartImage
 	s.u.jobs.run("Working out the figures", func(ctx context.Context, progress progressFunc) error {
 		if reuse {
 			figs = cached
 		} else {
 			var err error
-			figs, err = audit.ComputeFigures(ctx, from, to, g, func(n int) {
+			figs, err = ws.Figures(ctx, req, func(n int) {
 				progress(-1, fmt.Sprintf("%d cases read", n))
 			})
 			if err != nil {
@@ -190,53 +194,25 @@ func (s *figuresScreen) compute() {
 	})
 }
 
-// indicatorsOf returns the indicators of a population from the figures.
-func indicatorsOf(figs workspace.Figures, pop workspace.Population) ([]report.Indicator, bool) {
-	m := figs.Data.Metrics
-	switch {
-	case pop.TraineeID != "":
-		for _, t := range figs.Data.Trainees {
-			if t.TraineeID == pop.TraineeID {
-				return t.Indicators, true
-			}
-		}
-		return nil, false
-	case pop.OperatorID != "":
-		for _, o := range m.Operators {
-			if o.OperatorID == pop.OperatorID {
-				return o.Indicators, true
-			}
-		}
-		return nil, false
-	}
-	return m.Unit.Indicators, true
-}
-
-// isOpticalID reports whether an indicator belongs to the optical
-// diagnosis panel rather than to the main rows.
-func isOpticalID(id string) bool {
-	return strings.HasPrefix(id, "pivi") || strings.HasPrefix(id, "optical_") || strings.HasPrefix(id, "aid_") ||
-		id == "high_confidence_rate" || strings.HasPrefix(id, "esge2022_")
-}
-
 // display lays out the rows, charts and panels, from the top.
-func (s *figuresScreen) display(figs workspace.Figures, prof *report.Profile, pop workspace.Population, charts []chartImage) {
+func (s *figuresScreen) display(figs audit.Figures, prof *audit.Profile, pop workspace.Population, charts []chartImage) {
 	s.body.RemoveAll()
 	s.rows = map[string]*figureRow{}
 	s.scroll.ScrollToTop()
 	who := s.whose.Selected
-	period := figs.Data.Metrics.From + " to " + figs.Data.Metrics.To
+	period := figs.Metrics.From + " to " + figs.Metrics.To
 	s.shownFor = fmt.Sprintf("%s, %s, %s", who, period, prof.Title)
 	from, to, _ := s.period.read()
-	unfinished := report.PeriodUnfinished(to, s.u.today())
+	unfinished := audit.PeriodUnfinished(to, s.u.today())
 	s.status.Hide()
 	if unfinished {
 		s.status.SetText(fmt.Sprintf("This period ends on %s, after today: cases are still being added, so every figure may change and every verdict is provisional. "+
 			"Choose %q for a period that is over.", logbook.FormatDate(to), quickQuarter))
 		s.status.Show()
 	}
-	inds, ok := indicatorsOf(figs, pop)
-	if !ok || figs.Cases == 0 {
+	inds, ok := pop.Indicators(figs)
+	cases := figs.Completeness.Procedures
+	if !ok || cases == 0 {
 		what := "no procedures"
 		if pop.TraineeID != "" {
 			what = "no procedures with this trainee holding the scope"
@@ -248,17 +224,22 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *report.Profile, po
 		s.body.Add(hint)
 		return
 	}
-	s.message.SetText(fmt.Sprintf("%s  ·  %s procedures of the unit in the period", s.shownFor, groupedCount(figs.Cases)))
-	s.body.Add(cautionBox(report.AuditCaution()))
+	whose := "procedures of the unit in the period"
+	if pop.TraineeID != "" {
+		whose = "procedures with the trainee holding the scope in the period"
+	}
+	s.message.SetText(fmt.Sprintf("%s  ·  %s %s", s.shownFor, groupedCount(cases), whose))
+	s.body.Add(cautionBox(audit.AuditCaution()))
 	s.body.Add(legend())
 
-	var main, optical []report.Indicator
-	var adherence []report.Indicator
+	// The optical-diagnosis and surveillance figures have panels of their
+	// own, with their cautions; the rest are listed by catalogue group.
+	var main, optical, adherence []audit.Indicator
 	for _, ind := range inds {
-		switch {
-		case ind.ID == "interval_adherence":
+		switch def, _ := audit.Lookup(ind.ID); def.Group {
+		case audit.GroupSurveillance:
 			adherence = append(adherence, ind)
-		case isOpticalID(ind.ID):
+		case audit.GroupOptical:
 			optical = append(optical, ind)
 		default:
 			main = append(main, ind)
@@ -276,47 +257,28 @@ func (s *figuresScreen) display(figs workspace.Figures, prof *report.Profile, po
 	if pop.TraineeID == "" {
 		s.body.Add(heading("Optical diagnosis and resect-and-discard eligibility"))
 		s.addRows(optical, unfinished)
-		detail := figs.Data.Detail(pop.OperatorID)
+		detail := figs.Detail(pop.OperatorID)
 		if detail.Optical != nil {
-			s.body.Add(eligibilityPanel(detail.Optical.Eligibility))
+			s.body.Add(discardPanel(detail.Optical.Discard))
 		}
-		s.body.Add(cautionBox(report.EligibilityCaution()))
+		s.body.Add(cautionBox(audit.DiscardCaution()))
 		s.body.Add(heading("Surveillance intervals under " + figs.Guideline.Title()))
 		s.addRows(adherence, unfinished)
-		s.body.Add(cautionBox(report.IntervalCaution(figs.Guideline)))
+		s.body.Add(cautionBox(surveillance.IntervalCaution(figs.Guideline)))
 	}
 }
 
-// addGroups adds the indicators under the report's group headings.
-func (s *figuresScreen) addGroups(inds []report.Indicator, unfinished bool) {
-	used := map[string]bool{}
-	for _, g := range report.IndicatorGroups() {
-		var group []report.Indicator
-		for _, id := range g.IDs {
-			if ind, ok := report.Find(inds, id); ok {
-				group = append(group, ind)
-				used[id] = true
-			}
-		}
-		if len(group) > 0 {
-			s.body.Add(heading(g.Title))
-			s.addRows(group, unfinished)
-		}
-	}
-	var rest []report.Indicator
-	for _, ind := range inds {
-		if !used[ind.ID] {
-			rest = append(rest, ind)
-		}
-	}
-	if len(rest) > 0 {
-		s.body.Add(heading("Other figures"))
-		s.addRows(rest, unfinished)
+// addGroups adds the indicators under the catalogue's group headings, as
+// the report lists them.
+func (s *figuresScreen) addGroups(inds []audit.Indicator, unfinished bool) {
+	for _, g := range audit.Grouped(inds) {
+		s.body.Add(heading(g.Title))
+		s.addRows(g.Indicators, unfinished)
 	}
 }
 
 // addRows adds one row per indicator with a line between rows.
-func (s *figuresScreen) addRows(inds []report.Indicator, unfinished bool) {
+func (s *figuresScreen) addRows(inds []audit.Indicator, unfinished bool) {
 	for i, ind := range inds {
 		if i > 0 {
 			s.body.Add(widget.NewSeparator())
@@ -341,12 +303,10 @@ func heading(text string) fyne.CanvasObject {
 }
 
 // groupedCount prints a count with thousands separated.
-func groupedCount(n int) string {
-	return report.FormatCases(report.Indicator{Kind: "count", Denominator: n})
-}
+func groupedCount(n int) string { return audit.GroupThousands(int64(n)) }
 
-// eligibilityPanel lists each eligibility threshold in words.
-func eligibilityPanel(e report.EligibilityFigures) fyne.CanvasObject {
+// discardPanel lists each eligibility threshold in words.
+func discardPanel(e audit.DiscardFigures) fyne.CanvasObject {
 	box := container.NewVBox()
 	box.Add(para(fmt.Sprintf("Rule set: %s. Local minimum: %d cases behind a figure.", e.RuleSet, e.MinCases)))
 	for _, c := range e.Checks {
@@ -361,7 +321,7 @@ func eligibilityPanel(e report.EligibilityFigures) fyne.CanvasObject {
 		}
 		strategy := strings.ReplaceAll(c.Strategy, "_", " ")
 		line := para(fmt.Sprintf("%s – %s: %s %s from %s – %s",
-			strategy, c.Rule, report.FormatValue(c.Figure), report.FormatInterval(c.Figure), report.FormatCount(c.Figure), verdict))
+			strategy, c.Rule, audit.FormatValue(c.Figure), audit.FormatInterval(c.Figure), audit.FormatCount(c.Figure), verdict))
 		if !c.EnoughCases {
 			line.Importance = widget.LowImportance
 		}

@@ -7,13 +7,15 @@ import (
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/widget"
 
+	"polypledger/audit"
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/workspace"
 )
 
-// TestFiguresMatchMetrics checks that every row shows the figure the
-// metrics command computes for the same data, period and standard.
+// TestFiguresMatchMetrics checks that every row shows the figure
+// workspace.Audit.Figures computes for the same request — the path the
+// metrics command and the reports take — for the unit, two endoscopists
+// and a trainee.
 func TestFiguresMatchMetrics(t *testing.T) {
 	u := newTestUI(t, 1500)
 	s := u.figures
@@ -21,31 +23,27 @@ func TestFiguresMatchMetrics(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	audit, err := workspace.NewAudit(u.ctx, u.st, "", u.profiles)
+	ws, err := workspace.NewAudit(u.ctx, u.st, "", u.profiles)
 	if err != nil {
 		t.Fatal(err)
 	}
-	g, _ := audit.Guideline("")
-	want, err := audit.ComputeMetrics(u.ctx, from, to, g)
-	if err != nil {
-		t.Fatal(err)
-	}
-	for i, label := range s.whose.Options {
-		if i > 2 {
-			break // the unit and the first two endoscopists
+	trainee := -1
+	for i, p := range s.whoIDs {
+		if p.TraineeID != "" && trainee < 0 {
+			trainee = i
 		}
+	}
+	for _, i := range []int{0, 1, 2, trainee} {
+		label := s.whose.Options[i]
 		s.whose.SetSelected(label)
 		s.compute()
 		u.jobs.wait()
-		inds := want.Unit.Indicators
-		if pop := s.population(); pop.OperatorID != "" {
-			inds = nil
-			for _, o := range want.Operators {
-				if o.OperatorID == pop.OperatorID {
-					inds = o.Indicators
-				}
-			}
+		pop := s.population()
+		figs, err := ws.Figures(u.ctx, workspace.Request{From: from, To: to, Whose: pop}, nil)
+		if err != nil {
+			t.Fatal(err)
 		}
+		inds, _ := pop.Indicators(figs)
 		if len(inds) == 0 || len(s.rows) != len(inds) {
 			t.Fatalf("%s: %d rows for %d indicators", label, len(s.rows), len(inds))
 		}
@@ -55,16 +53,16 @@ func TestFiguresMatchMetrics(t *testing.T) {
 				t.Errorf("%s: no row for %s", label, ind.ID)
 				continue
 			}
-			if got := r.value.Text; got != report.FormatValue(ind) {
-				t.Errorf("%s %s: row shows %q, metrics gives %q", label, ind.ID, got, report.FormatValue(ind))
+			if got := r.value.Text; got != audit.FormatValue(ind) {
+				t.Errorf("%s %s: row shows %q, metrics gives %q", label, ind.ID, got, audit.FormatValue(ind))
 			}
-			if got := r.count.Text; got != report.FormatCount(ind) {
-				t.Errorf("%s %s: row counts %q, metrics %q", label, ind.ID, got, report.FormatCount(ind))
+			if got := r.count.Text; got != audit.FormatCount(ind) {
+				t.Errorf("%s %s: row counts %q, metrics %q", label, ind.ID, got, audit.FormatCount(ind))
 			}
 			if r.ind.Status != ind.Status || !strings.HasPrefix(r.verdict.Text, ind.Status.Words()) {
 				t.Errorf("%s %s: verdict %q, metrics %s", label, ind.ID, r.verdict.Text, ind.Status)
 			}
-			if ind.Status == report.TooFew && r.value.Importance != widget.LowImportance {
+			if ind.Status == audit.TooFew && r.value.Importance != widget.LowImportance {
 				t.Errorf("%s %s: too few cases but not greyed", label, ind.ID)
 			}
 			if ind.Note != "" && r.note.Text != ind.Note {
@@ -122,7 +120,7 @@ func TestQuickPeriodsAreOver(t *testing.T) {
 		t.Errorf("a period not over says nothing: %q", s.status.Text)
 	}
 	for id, r := range s.rows {
-		if (r.ind.Status == report.Meets || r.ind.Status == report.Below) && !strings.Contains(r.verdict.Text, "provisional") {
+		if (r.ind.Status == audit.Meets || r.ind.Status == audit.Below) && !strings.Contains(r.verdict.Text, "provisional") {
 			t.Errorf("%s: verdict %q of a period not over is not marked provisional", id, r.verdict.Text)
 		}
 	}

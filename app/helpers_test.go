@@ -61,3 +61,14 @@ type timeValue = time.Time
 
 // cell names a table cell.
 func cell(row, col int) widget.TableCellID { return widget.TableCellID{Row: row, Col: col} }
+
+// entry is the entry of the form's field for column.
+func (rf *recordForm[R]) entry(column string) *entry { return rf.field(column).input.(*entry) }
+
+// scores is the score drop-down of the form's field for column.
+func (rf *recordForm[R]) scores(column string) *keySelect { return rf.field(column).input.(*keySelect) }
+
+// codeChoice is the code drop-down of the form's field for column.
+func codeChoice[T comparable, R any](rf *recordForm[R], column string) *choice[T] {
+	return rf.field(column).input.(*choice[T])
+}

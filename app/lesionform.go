@@ -3,6 +3,7 @@ package app
 import (
 	"fmt"
 	"strings"
+	"time"
 	"unicode"
 
 	"fyne.io/fyne/v2"
@@ -58,6 +59,17 @@ func lowerFirst(w string) string {
 		return w
 	}
 	r[0] = unicode.ToLower(r[0])
+	return string(r)
+}
+
+// upperFirst capitalises the first letter of words, for a choice or a
+// heading.
+func upperFirst(w string) string {
+	r := []rune(w)
+	if len(r) == 0 {
+		return w
+	}
+	r[0] = unicode.ToUpper(r[0])
 	return string(r)
 }
 
@@ -132,35 +144,30 @@ func (f *caseForm) editLesion(i int) {
 	size := f.u.win.Canvas().Size()
 	d.Resize(fyne.NewSize(min(680, size.Width-40), min(680, size.Height-40)))
 	d.Show()
-	f.u.win.Canvas().Focus(ed.segment)
+	f.u.win.Canvas().Focus(ed.firstInput())
 }
 
 // lesionEditor is the form for one lesion, validated as the import does.
 type lesionEditor struct {
-	u      *ui
-	base   logbook.Lesion
+	u    *ui
+	base logbook.Lesion
+	// form is the table of the lesion's fields; fields lays them out and
+	// shows their problems.
+	form   *recordForm[logbook.Lesion]
 	fields *fieldSet
+	ready  bool // every field is made
 
-	segment               *choice[logbook.Segment]
-	size, reported        *entry
-	paris                 *choice[logbook.Paris]
-	optical, aidClass     *choice[logbook.OpticalClass]
-	confidence            *choice[logbook.Confidence]
-	imaging               *choice[logbook.Imaging]
-	resection             *choice[logbook.Resection]
-	retrieved, sent, tatt *choice[logbook.YesNo]
-	histology             *choice[logbook.Histology]
-	dysplasia             *choice[logbook.Dysplasia]
-	keep                  *button
-	message               *widget.Label
-	onDone                func(keep bool)
-	content               fyne.CanvasObject
-	problems              logbook.Problems
+	keep     *button
+	message  *widget.Label
+	onDone   func(keep bool)
+	content  fyne.CanvasObject
+	problems logbook.Problems
 }
 
 func newLesionEditor(u *ui, l logbook.Lesion) *lesionEditor {
-	e := &lesionEditor{u: u, base: l, fields: newFieldSet()}
-	ch := e.changed
+	type L = logbook.Lesion
+	e := &lesionEditor{u: u, base: l, form: newRecordForm[L]()}
+	e.fields = e.form.set
 	done := func() {
 		if len(e.problems) > 0 {
 			// Show every problem and give the keyboard to the first.
@@ -174,52 +181,36 @@ func newLesionEditor(u *ui, l logbook.Lesion) *lesionEditor {
 			e.onDone(true)
 		}
 	}
-	e.segment = newChoice(logbook.Segments, segmentWords, false, ch)
-	e.size = submitEntry("mm", ch, done)
-	e.paris = newChoice(logbook.ParisClasses, parisWords, true, ch)
-	e.optical = newChoice(logbook.OpticalClasses, opticalWords, true, ch)
-	e.confidence = newChoice(logbook.Confidences, confidenceWords, true, ch)
-	e.imaging = newChoice(logbook.ImagingModes, imagingWords, true, ch)
-	e.aidClass = newChoice(logbook.OpticalClasses, opticalWords, true, ch)
-	e.resection = newChoice(logbook.Resections, resectionWords, true, ch)
-	e.retrieved = newYesNo(false, "", ch)
-	e.sent = newYesNo(false, "", func() {
-		// A specimen sent is waiting for its result until one is entered.
-		if e.sent.Value() == logbook.Yes && e.histology.Value() == "" {
-			e.histology.Set(logbook.HistPending)
+	h := formHooks{changed: e.changed, submit: done}
+	histology := codeField("Histology", "histology", logbook.Histologies, histologyWords, notRecorded, h, func(l *L) *logbook.Histology { return &l.Histology })
+	// A specimen sent is waiting for its result until one is entered.
+	sent := yesNoField("Sent to pathology", "sent_to_pathology", "", formHooks{changed: func() {
+		if cur, _ := e.read(); cur.SentToPathology == logbook.Yes && cur.Histology == "" {
+			histology.text.Set(histology.input.(*choice[logbook.Histology]).wordsOf(logbook.HistPending))
 		}
-		ch()
-	})
-	e.tatt = newYesNo(false, "", ch)
-	e.histology = newChoice(logbook.Histologies, histologyWords, true, ch)
-	e.dysplasia = newChoice(logbook.Dysplasias, dysplasiaWords, true, ch)
-	e.reported = submitEntry("YYYY-MM-DD", ch, done)
-	for _, s := range []*keySelect{&e.segment.keySelect, &e.paris.keySelect, &e.optical.keySelect, &e.confidence.keySelect,
-		&e.imaging.keySelect, &e.aidClass.keySelect, &e.resection.keySelect, &e.retrieved.keySelect, &e.sent.keySelect,
-		&e.tatt.keySelect, &e.histology.keySelect, &e.dysplasia.keySelect} {
-		s.OnSubmit = done
-	}
+		e.changed()
+	}, submit: done}, func(l *L) *logbook.YesNo { return &l.SentToPathology })
 
-	fs := e.fields
-	form := fs.group("Where and what",
-		fieldRow{"Segment", "segment", e.segment},
-		fieldRow{"Size (mm)", "size_mm", e.size},
-		fieldRow{"Paris class", "paris", e.paris},
-		fieldRow{"Optical diagnosis", "optical_class", e.optical},
-		fieldRow{"Confidence", "confidence", e.confidence},
-		fieldRow{"Imaging used", "imaging", e.imaging},
-		fieldRow{"Computer-aided call", "aid_class", e.aidClass},
+	fm := e.form
+	form := fm.group("Where and what",
+		codeField("Segment", "segment", logbook.Segments, segmentWords, "", h, func(l *L) *logbook.Segment { return &l.Segment }),
+		countField("Size (mm)", "size_mm", "mm", h, func(l *L) *int { return &l.SizeMM }),
+		codeField("Paris class", "paris", logbook.ParisClasses, parisWords, notRecorded, h, func(l *L) *logbook.Paris { return &l.Paris }),
+		codeField("Optical diagnosis", "optical_class", logbook.OpticalClasses, opticalWords, notRecorded, h, func(l *L) *logbook.OpticalClass { return &l.OpticalClass }),
+		codeField("Confidence", "confidence", logbook.Confidences, confidenceWords, notRecorded, h, func(l *L) *logbook.Confidence { return &l.Confidence }),
+		codeField("Imaging used", "imaging", logbook.ImagingModes, imagingWords, notRecorded, h, func(l *L) *logbook.Imaging { return &l.Imaging }),
+		codeField("Computer-aided call", "aid_class", logbook.OpticalClasses, opticalWords, notRecorded, h, func(l *L) *logbook.OpticalClass { return &l.AidClass }),
 	)
-	removal := fs.group("Removal and pathology",
-		fieldRow{"Resection", "resection", e.resection},
-		fieldRow{"Retrieved", "retrieved", e.retrieved},
-		fieldRow{"Sent to pathology", "sent_to_pathology", e.sent},
-		fieldRow{"Tattoo", "tattoo", e.tatt},
-		fieldRow{"Histology", "histology", e.histology},
-		fieldRow{"Dysplasia", "dysplasia", e.dysplasia},
-		fieldRow{"Result reported on", "reported_on", e.reported},
+	removal := fm.group("Removal and pathology",
+		codeField("Resection", "resection", logbook.Resections, resectionWords, notRecorded, h, func(l *L) *logbook.Resection { return &l.Resection }),
+		yesNoField("Retrieved", "retrieved", "", h, func(l *L) *logbook.YesNo { return &l.Retrieved }),
+		sent,
+		yesNoField("Tattoo", "tattoo", "", h, func(l *L) *logbook.YesNo { return &l.Tattoo }),
+		histology,
+		codeField("Dysplasia", "dysplasia", logbook.Dysplasias, dysplasiaWords, notRecorded, h, func(l *L) *logbook.Dysplasia { return &l.Dysplasia }),
+		dateField("Result reported on", "reported_on", "YYYY-MM-DD", h, func(l *L) *time.Time { return &l.ReportedOn }),
 	)
-	fs.fill(func() { e.set(l) })
+	fm.fill(l)
 
 	e.keep = newButton("Keep this lesion  (Enter)", done)
 	e.keep.Importance = widget.HighImportance
@@ -237,27 +228,14 @@ func newLesionEditor(u *ui, l logbook.Lesion) *lesionEditor {
 	if l.Segment != "" {
 		e.fields.revealAll = true // an existing lesion's problems show at once
 	}
+	e.ready = true
 	e.changed()
 	return e
 }
 
-// set writes a lesion's values into the widgets.
-func (e *lesionEditor) set(l logbook.Lesion) {
-	e.segment.Set(l.Segment)
-	e.size.SetText(logbook.FormatCount(l.SizeMM))
-	e.paris.Set(l.Paris)
-	e.optical.Set(l.OpticalClass)
-	e.confidence.Set(l.Confidence)
-	e.imaging.Set(l.Imaging)
-	e.aidClass.Set(l.AidClass)
-	e.resection.Set(l.Resection)
-	e.retrieved.Set(l.Retrieved)
-	e.sent.Set(l.SentToPathology)
-	e.tatt.Set(l.Tattoo)
-	e.histology.Set(l.Histology)
-	e.dysplasia.Set(l.Dysplasia)
-	e.reported.SetText(logbook.FormatDate(l.ReportedOn))
-}
+// firstInput is the lesion form's first field (the segment), which gets
+// the keyboard when the form opens.
+func (e *lesionEditor) firstInput() fyne.Focusable { return e.form.fields[0].focus() }
 
 // lesion returns the lesion as the editor holds it (values that cannot be
 // read are left not recorded; changed reports them).
@@ -266,34 +244,17 @@ func (e *lesionEditor) lesion() logbook.Lesion {
 	return l
 }
 
+// read builds the lesion from the form, with the problems of values that
+// could not be read at all.
 func (e *lesionEditor) read() (logbook.Lesion, logbook.Problems) {
-	var ps logbook.Problems
 	l := logbook.NewLesion()
 	l.ProcedureID, l.LesionNo = e.base.ProcedureID, e.base.LesionNo
-	var err error
-	l.Segment = e.segment.Value()
-	if l.SizeMM, err = logbook.ParseCount(strings.TrimSpace(e.size.Text)); err != nil {
-		ps = append(ps, logbook.FieldError{Field: "size_mm", Reason: err.Error()})
-	}
-	l.Paris = e.paris.Value()
-	l.OpticalClass = e.optical.Value()
-	l.Confidence = e.confidence.Value()
-	l.Imaging = e.imaging.Value()
-	l.AidClass = e.aidClass.Value()
-	l.Resection = e.resection.Value()
-	l.Retrieved = e.retrieved.Value()
-	l.SentToPathology = e.sent.Value()
-	l.Tattoo = e.tatt.Value()
-	l.Histology = e.histology.Value()
-	l.Dysplasia = e.dysplasia.Value()
-	if l.ReportedOn, err = logbook.ParseDate(strings.TrimSpace(e.reported.Text)); err != nil {
-		ps = append(ps, logbook.FieldError{Field: "reported_on", Reason: err.Error()})
-	}
+	ps := e.form.read(&l)
 	return l, ps
 }
 
 func (e *lesionEditor) changed() {
-	if e.dysplasia == nil || e.reported == nil {
+	if !e.ready {
 		return
 	}
 	l, ps := e.read()

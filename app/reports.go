@@ -11,6 +11,7 @@ import (
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/widget"
 
+	"polypledger/audit"
 	"polypledger/logbook"
 	"polypledger/report"
 	"polypledger/workspace"
@@ -72,7 +73,7 @@ func newReportScreen(u *ui) *reportScreen {
 		"from the trainee's first case. Reports of a period not yet over say that their verdicts are provisional.")
 	note.Wrapping = fyne.TextWrapWord
 	body := container.NewVBox(heading("Make a PDF report"), form, container.NewHBox(r.make), r.result,
-		container.NewHBox(r.openBtn), note, cautionBox(report.AuditCaution()))
+		container.NewHBox(r.openBtn), note, cautionBox(audit.AuditCaution()))
 	r.content = container.NewVScroll(container.NewPadded(body))
 	return r
 }
@@ -127,31 +128,35 @@ func (r *reportScreen) refreshPeople() {
 }
 
 // request reads the screen's choices.
-func (r *reportScreen) request() (workspace.ReportRequest, *report.Profile, error) {
+func (r *reportScreen) request() (workspace.Request, *audit.Profile, error) {
 	from, to, err := r.period.read()
 	if err != nil {
-		return workspace.ReportRequest{}, nil, err
+		return workspace.Request{}, nil, err
 	}
 	i := r.standard.SelectedIndex()
 	if i < 0 || i >= len(r.u.profiles) {
-		return workspace.ReportRequest{}, nil, fmt.Errorf("choose a standard")
+		return workspace.Request{}, nil, fmt.Errorf("choose a standard")
 	}
-	req := workspace.ReportRequest{Kind: r.kindValue(), From: from, To: to, Now: r.u.now()}
-	if req.Kind != report.UnitReport {
+	req := workspace.Request{From: from, To: to, Now: r.u.now()}
+	if kind := r.kindValue(); kind != report.UnitReport {
 		j := r.person.SelectedIndex()
 		if j < 0 || j >= len(r.personID) {
 			return req, nil, fmt.Errorf("choose who the report is for")
 		}
-		req.SubjectID = r.personID[j]
+		if kind == report.TraineeReport {
+			req.Whose.TraineeID = r.personID[j]
+		} else {
+			req.Whose.OperatorID = r.personID[j]
+		}
 	}
 	return req, r.u.profiles[i], nil
 }
 
 // fileName suggests a file name for the report.
-func fileName(req workspace.ReportRequest) string {
+func fileName(req workspace.Request) string {
 	who := "unit"
-	if req.SubjectID != "" {
-		who = req.SubjectID
+	if id := req.Whose.OperatorID + req.Whose.TraineeID; id != "" {
+		who = id
 	}
 	return fmt.Sprintf("audit-%s-%s-to-%s.pdf", strings.ToLower(who), logbook.FormatDate(req.From), logbook.FormatDate(req.To))
 }
@@ -173,13 +178,12 @@ func (r *reportScreen) makeReport(path string, done func(error)) {
 		showText(r.result, err.Error())
 		return
 	}
-	audit := &workspace.Audit{Store: r.u.st, Settings: r.u.settings, Profile: prof}
-	req.Guideline, _ = audit.Guideline("")
+	ws := &workspace.Audit{Store: r.u.st, Settings: r.u.settings, Profile: prof}
 	r.openBtn.Hide()
 	r.make.Disable()
 	showText(r.result, "Making the report…")
 	r.u.jobs.run("Making the report", func(ctx context.Context, progress progressFunc) error {
-		return audit.WriteReportFile(ctx, path, req, func(n int) { progress(-1, fmt.Sprintf("%d cases read", n)) })
+		return ws.WriteReportFile(ctx, path, req, func(n int) { progress(-1, fmt.Sprintf("%d cases read", n)) })
 	}, func(err error) {
 		r.make.Enable()
 		switch {

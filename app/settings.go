@@ -11,9 +11,10 @@ import (
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
+	"polypledger/audit"
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/store"
+	"polypledger/surveillance"
 )
 
 // unitScreen is the "Unit settings" screen: the unit's name, the roster
@@ -39,7 +40,7 @@ func newUnitScreen(u *ui) *unitScreen {
 	s.name = newEntry("the unit's name, printed on every report")
 	s.standard = newKeySelect(nil, nil)
 	var gls []string
-	for _, g := range report.Guidelines {
+	for _, g := range surveillance.Guidelines {
 		gls = append(gls, g.Title())
 	}
 	s.guideline = newKeySelect(gls, nil)
@@ -99,13 +100,13 @@ func (s *unitScreen) load() {
 	s.standard.SetOptions(stds)
 	s.standard.SetSelectedIndex(sel)
 	s.guideline.ClearSelected()
-	for i, g := range report.Guidelines {
+	for i, g := range surveillance.Guidelines {
 		if string(g) == st.DefaultGuideline {
 			s.guideline.SetSelectedIndex(i)
 		}
 	}
 	s.rules.ClearSelected()
-	for i, r := range report.RuleSets {
+	for i, r := range audit.RuleSets {
 		if r == st.EligibilityRules {
 			s.rules.SetSelectedIndex(i)
 		}
@@ -197,10 +198,10 @@ func (s *unitScreen) save() {
 		st.DefaultStandard = s.u.profiles[i].ID
 	}
 	if i := s.guideline.SelectedIndex(); i >= 0 {
-		st.DefaultGuideline = string(report.Guidelines[i])
+		st.DefaultGuideline = string(surveillance.Guidelines[i])
 	}
 	if i := s.rules.SelectedIndex(); i >= 0 {
-		st.EligibilityRules = report.RuleSets[i]
+		st.EligibilityRules = audit.RuleSets[i]
 	}
 	n, err := strconv.Atoi(strings.TrimSpace(s.minCases.Text))
 	if err != nil || n < 1 {

@@ -11,8 +11,8 @@ import (
 	"fyne.io/fyne/v2/test"
 	"fyne.io/fyne/v2/widget"
 
+	"polypledger/audit"
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/store"
 	"polypledger/workspace"
 )
@@ -121,7 +121,7 @@ func TestChoosingWhoseFiguresStartsAtTheTop(t *testing.T) {
 	if s.scroll.Offset.Y != 0 {
 		t.Errorf("after choosing another endoscopist the figures stay scrolled to %v", s.scroll.Offset.Y)
 	}
-	if !strings.HasPrefix(s.shownFor, s.whose.Options[1]) || s.last.Cases != before.Cases {
+	if !strings.HasPrefix(s.shownFor, s.whose.Options[1]) || s.last.Completeness != before.Completeness {
 		t.Errorf("figures shown for %q", s.shownFor)
 	}
 }
@@ -183,8 +183,8 @@ func TestFigureRowShowsNoteStrictAndVerdict(t *testing.T) {
 	v, target := 0.10, 0.10
 	// Discomfort must stay below 10% (JAG certification KPI, Siau 2023),
 	// so exactly 10% does not meet it and the target prints "<".
-	ind := report.Indicator{ID: "comfort_discomfort", Numerator: 30, Denominator: 300, Value: &v, Target: &target,
-		Maximum: true, Strict: true, Status: report.Below, Note: "12 without a comfort score left out."}
+	ind := audit.Indicator{ID: "comfort_discomfort", Numerator: 30, Denominator: 300, Value: &v, Target: &target,
+		Maximum: true, Strict: true, Status: audit.Below, Note: "12 without a comfort score left out."}
 	r := newFigureRow(ind, false)
 	if r.note.Text != ind.Note || !r.note.Visible() {
 		t.Errorf("note shown as %q", r.note.Text)

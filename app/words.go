@@ -2,7 +2,6 @@ package app
 
 import (
 	"polypledger/logbook"
-	"polypledger/report"
 )
 
 // The plain words the screens use for each stored code. The codes stay as
@@ -45,34 +44,31 @@ var incompleteWords = map[logbook.IncompleteReason]string{
 	logbook.ReasonOther:         "Other reason",
 }
 
-// supervisionWords are the report's own words for the supervision levels,
-// so that screens and reports say the same.
-var supervisionWords = map[logbook.Supervision]string{
-	logbook.Independent:        report.SupervisionWords(logbook.Independent),
-	logbook.SupervisedHandsOn:  report.SupervisionWords(logbook.SupervisedHandsOn),
-	logbook.SupervisedObserved: report.SupervisionWords(logbook.SupervisedObserved),
+// supervisionWords, intervalWords and histologyWords are logbook's words
+// for those codes, so that screens, reasons and reports say the same.
+var (
+	supervisionWords = choiceWords(logbook.Supervisions)
+	intervalWords    = choiceWords(logbook.Intervals)
+	histologyWords   = choiceWords(logbook.Histologies)
+)
+
+// choiceWords maps each code of set to logbook's words for it, starting
+// with a capital as a choice in a drop-down does.
+func choiceWords[T interface {
+	~string
+	Words() string
+}](set []T) map[T]string {
+	m := make(map[T]string, len(set))
+	for _, c := range set {
+		m[c] = upperFirst(c.Words())
+	}
+	return m
 }
 
 var adverseWords = map[logbook.AdverseEvent]string{
 	logbook.AdverseNone:     "None",
 	logbook.Perforation:     "Perforation",
 	logbook.BleedingTreated: "Bleeding that needed treatment",
-}
-
-var intervalWords = map[logbook.Interval]string{
-	logbook.Interval2to6m:     "2 to 6 months",
-	logbook.Interval3to6m:     "3 to 6 months",
-	logbook.Interval6m:        "6 months",
-	logbook.Interval1y:        "1 year",
-	logbook.Interval3y:        "3 years",
-	logbook.Interval3to5y:     "3 to 5 years",
-	logbook.Interval5to10y:    "5 to 10 years",
-	logbook.Interval7to10y:    "7 to 10 years",
-	logbook.Interval10y:       "10 years",
-	logbook.IntervalScreening: "Back to screening",
-	logbook.IntervalRepeat:    "Repeat the colonoscopy",
-	logbook.IntervalOutside:   "Outside the guideline",
-	logbook.IntervalPending:   "Waiting for histology",
 }
 
 var segmentWords = map[logbook.Segment]string{
@@ -106,21 +102,6 @@ var resectionWords = map[logbook.Resection]string{
 	logbook.ResectionNone: "Not removed", logbook.ColdSnare: "Cold snare", logbook.HotSnare: "Hot snare",
 	logbook.ColdForceps: "Cold forceps", logbook.EMREnBloc: "EMR in one piece", logbook.EMRPiecemeal: "EMR in pieces",
 	logbook.ESD: "ESD", logbook.BiopsyOnly: "Biopsy only",
-}
-
-var histologyWords = map[logbook.Histology]string{
-	logbook.HistPending:        "Waiting for the result",
-	logbook.TubularAdenoma:     "Tubular adenoma",
-	logbook.TubulovillousAdeno: "Tubulovillous adenoma",
-	logbook.VillousAdenoma:     "Villous adenoma",
-	logbook.HistSSL:            "Sessile serrated lesion",
-	logbook.HistSSLDysplasia:   "Sessile serrated lesion with dysplasia",
-	logbook.HistTSA:            "Traditional serrated adenoma",
-	logbook.HistHyperplastic:   "Hyperplastic",
-	logbook.Adenocarcinoma:     "Adenocarcinoma",
-	logbook.HistNormal:         "Normal tissue",
-	logbook.HistInflammatory:   "Inflammatory",
-	logbook.HistOther:          "Other",
 }
 
 var dysplasiaWords = map[logbook.Dysplasia]string{

@@ -223,33 +223,6 @@ const (
 	IntervalPending   Interval = "pending"
 )
 
-// intervalWords are the plain words for each interval code.
-var intervalWords = map[Interval]string{
-	Interval2to6m:     "2 to 6 months",
-	Interval3to6m:     "3 to 6 months",
-	Interval6m:        "6 months",
-	Interval1y:        "1 year",
-	Interval3y:        "3 years",
-	Interval3to5y:     "3 to 5 years",
-	Interval5to10y:    "5 to 10 years",
-	Interval7to10y:    "7 to 10 years",
-	Interval10y:       "10 years",
-	IntervalScreening: "back to screening",
-	IntervalRepeat:    "repeat the colonoscopy",
-	IntervalOutside:   "outside the guideline",
-	IntervalPending:   "waiting for histology",
-}
-
-// Words returns the interval in plain words ("3 years", "back to
-// screening") for text meant to be read; files and JSON keep the code.
-// An unknown code is returned as it is.
-func (i Interval) Words() string {
-	if w, ok := intervalWords[i]; ok {
-		return w
-	}
-	return string(i)
-}
-
 // Role is a roster entry's role in the unit.
 type Role string
 

@@ -15,9 +15,26 @@ func (h Histology) IsAdenoma() bool {
 	return false
 }
 
+// IsAdenomaNotCancer reports the adenomas the surveillance tables count:
+// tubular, tubulovillous or villous (an adenocarcinoma takes a procedure
+// outside every table).
+func (h Histology) IsAdenomaNotCancer() bool {
+	return h == TubularAdenoma || h == TubulovillousAdeno || h == VillousAdenoma
+}
+
 // IsSSL reports whether histology is a sessile serrated lesion (with or
 // without dysplasia); TSA is not included.
 func (h Histology) IsSSL() bool { return h == HistSSL || h == HistSSLDysplasia }
+
+// IsSSLOrTSA reports a serrated lesion with neoplastic potential: an SSL
+// (with or without dysplasia) or a traditional serrated adenoma — the
+// serrated column of the optical-diagnosis class table, and what the
+// stricter PIVI 2 reading counts as positive.
+func (h Histology) IsSSLOrTSA() bool { return h.IsSSL() || h == HistTSA }
+
+// IsSerrated reports a serrated polyp in the umbrella sense: SSL (with or
+// without dysplasia), TSA or hyperplastic polyp.
+func (h Histology) IsSerrated() bool { return h.IsSSLOrTSA() || h == HistHyperplastic }
 
 // IsFinal reports whether a pathology result has been recorded (neither
 // empty nor pending).
@@ -54,6 +71,20 @@ func (e Extent) IsComplete() bool {
 
 // IsDiminutive reports a lesion of at most 5 mm (common practice).
 func (l Lesion) IsDiminutive() bool { return l.SizeMM >= 1 && l.SizeMM <= 5 }
+
+// HasNoSpecimen reports a lesion that will never have histology: not
+// retrieved, not sent to pathology, or left in place (resection none)
+// without being sent. Such a lesion is never awaiting histology, whatever
+// its histology field says (clinical-reference §4 step 1).
+func (l Lesion) HasNoSpecimen() bool {
+	return l.Retrieved == No || l.SentToPathology == No || (l.Resection == ResectionNone && l.SentToPathology != Yes)
+}
+
+// AwaitsHistology reports a lesion whose histology is still to come: no
+// final histology, and a specimen that was sent (or, where sending is not
+// recorded, may have been). Every figure and interval that counts lesions
+// awaiting histology uses this one rule.
+func (l Lesion) AwaitsHistology() bool { return !l.Histology.IsFinal() && !l.HasNoSpecimen() }
 
 // IsLarge reports a lesion of 10 mm or more (common practice).
 func (l Lesion) IsLarge() bool { return l.SizeMM >= 10 }

@@ -207,3 +207,61 @@ func TestNewRecordsStartNotRecorded(t *testing.T) {
 		t.Errorf("NewLesion().SizeMM = %d, want NotRecorded", l.SizeMM)
 	}
 }
+
+// TestHistologyTableGroups checks the groups the guideline tables and the
+// optical-diagnosis audit read, histology by histology (clinical-reference
+// §1, §3 and §4): the adenomas the tables count leave cancer out; SSL with
+// or without dysplasia; SSL or TSA; the serrated umbrella adds hyperplastic
+// polyps.
+func TestHistologyTableGroups(t *testing.T) {
+	for _, c := range []struct {
+		h                                  Histology
+		adenomaNotCancer, ssl, sslTSA, srr bool
+	}{
+		{HistPending, false, false, false, false},
+		{TubularAdenoma, true, false, false, false},
+		{TubulovillousAdeno, true, false, false, false},
+		{VillousAdenoma, true, false, false, false},
+		{HistSSL, false, true, true, true},
+		{HistSSLDysplasia, false, true, true, true},
+		{HistTSA, false, false, true, true},
+		{HistHyperplastic, false, false, false, true},
+		{Adenocarcinoma, false, false, false, false},
+		{HistNormal, false, false, false, false},
+		{HistInflammatory, false, false, false, false},
+		{HistOther, false, false, false, false},
+	} {
+		if c.h.IsAdenomaNotCancer() != c.adenomaNotCancer || c.h.IsSSL() != c.ssl || c.h.IsSSLOrTSA() != c.sslTSA || c.h.IsSerrated() != c.srr {
+			t.Errorf("%s: IsAdenomaNotCancer %v IsSSL %v IsSSLOrTSA %v IsSerrated %v", c.h,
+				c.h.IsAdenomaNotCancer(), c.h.IsSSL(), c.h.IsSSLOrTSA(), c.h.IsSerrated())
+		}
+	}
+}
+
+// TestSpecimenRules checks which lesions will never have histology and
+// which still await it (clinical-reference §4 step 1): not retrieved, not
+// sent, or left in place without being sent means no specimen; a lesion
+// with a specimen and no final histology awaits it.
+func TestSpecimenRules(t *testing.T) {
+	for _, c := range []struct {
+		name                string
+		retrieved, sent     YesNo
+		resection           Resection
+		histology           Histology
+		noSpecimen, awaited bool
+	}{
+		{"sent, pending", Yes, Yes, ColdSnare, HistPending, false, true},
+		{"sent, reported", Yes, Yes, ColdSnare, TubularAdenoma, false, false},
+		{"sending not recorded", Unrecorded, Unrecorded, ColdSnare, "", false, true},
+		{"not retrieved", No, No, ColdSnare, "", true, false},
+		{"not sent", Yes, No, ColdSnare, "", true, false},
+		{"not sent, pending written anyway", Yes, No, ColdSnare, HistPending, true, false},
+		{"left in place", Unrecorded, Unrecorded, ResectionNone, "", true, false},
+		{"left in place, biopsy sent", Unrecorded, Yes, ResectionNone, HistPending, false, true},
+	} {
+		l := Lesion{Retrieved: c.retrieved, SentToPathology: c.sent, Resection: c.resection, Histology: c.histology}
+		if l.HasNoSpecimen() != c.noSpecimen || l.AwaitsHistology() != c.awaited {
+			t.Errorf("%s: no specimen %v, awaits %v", c.name, l.HasNoSpecimen(), l.AwaitsHistology())
+		}
+	}
+}

@@ -6,6 +6,7 @@ import (
 	"image/color"
 	"image/png"
 	"math"
+	"polypledger/audit"
 
 	xfont "golang.org/x/image/font"
 	"gonum.org/v1/plot"
@@ -82,26 +83,26 @@ const (
 	shadeLightGrey
 )
 
+// shades are the colours of the shades, in their order: black, then the
+// Okabe–Ito orange, sky blue, bluish green, blue, vermilion and reddish
+// purple, then two greys.
+var shades = [...]color.RGBA{
+	{0x00, 0x00, 0x00, 0xFF},
+	{0xE6, 0x9F, 0x00, 0xFF},
+	{0x56, 0xB4, 0xE9, 0xFF},
+	{0x00, 0x9E, 0x73, 0xFF},
+	{0x00, 0x72, 0xB2, 0xFF},
+	{0xD5, 0x5E, 0x00, 0xFF},
+	{0xCC, 0x79, 0xA7, 0xFF},
+	{0x88, 0x88, 0x88, 0xFF},
+	{0xE2, 0xE2, 0xE2, 0xFF},
+}
+
 func (s shade) rgba() color.RGBA {
-	switch s {
-	case shadeOrange:
-		return color.RGBA{0xE6, 0x9F, 0x00, 0xFF}
-	case shadeSkyBlue:
-		return color.RGBA{0x56, 0xB4, 0xE9, 0xFF}
-	case shadeGreen:
-		return color.RGBA{0x00, 0x9E, 0x73, 0xFF}
-	case shadeBlue:
-		return color.RGBA{0x00, 0x72, 0xB2, 0xFF}
-	case shadeVermilion:
-		return color.RGBA{0xD5, 0x5E, 0x00, 0xFF}
-	case shadePurple:
-		return color.RGBA{0xCC, 0x79, 0xA7, 0xFF}
-	case shadeGrey:
-		return color.RGBA{0x88, 0x88, 0x88, 0xFF}
-	case shadeLightGrey:
-		return color.RGBA{0xE2, 0xE2, 0xE2, 0xFF}
+	if s < 0 || int(s) >= len(shades) {
+		return shades[shadeBlack]
 	}
-	return color.RGBA{0, 0, 0, 0xFF}
+	return shades[s]
 }
 
 // Line dash patterns, so that lines differ without colour.
@@ -168,16 +169,16 @@ type mark struct {
 // verdictMark is the mark of a verdict: a filled circle meets the target, a
 // downward triangle is below it, an open circle has too few cases to judge
 // and a filled square is reported without a target.
-func verdictMark(s Status) mark {
+func verdictMark(s audit.Status) mark {
 	switch s {
-	case Meets:
+	case audit.Meets:
 		return mark{draw.CircleGlyph{}, shadeBlue, s.Words()}
-	case Below:
+	case audit.Below:
 		return mark{downTriangle{}, shadeVermilion, s.Words()}
-	case TooFew:
+	case audit.TooFew:
 		return mark{thickRing{}, shadeGrey, s.Words()}
 	}
-	return mark{draw.BoxGlyph{}, shadeBlack, Reported.Words()}
+	return mark{draw.BoxGlyph{}, shadeBlack, audit.Reported.Words()}
 }
 
 // chartFont is the chart typeface (Liberation Sans, shipped with the
@@ -459,7 +460,7 @@ func (countTicks) Ticks(lo, hi float64) []plot.Tick {
 			continue
 		}
 		if t.Label != "" {
-			t.Label = groupThousands(int64(t.Value))
+			t.Label = audit.GroupThousands(int64(t.Value))
 		}
 		out = append(out, t)
 	}
@@ -486,32 +487,38 @@ func (cv curve) Plot(c draw.Canvas, p *plot.Plot) {
 }
 
 // axisScale is how an indicator's values are drawn: the factor from the
-// stored value to the axis and the axis unit.
-func axisScale(ind Indicator) (factor float64, unit string) {
-	switch ind.Kind {
-	case KindMean:
-		return 1, "minutes"
-	case KindRatio, "kappa":
-		return 1, ""
-	case KindMedian:
-		return 1, doseUnit(ind.ID)
-	case KindPerYear:
-		return 1, "per year"
-	case KindDifference:
-		return 100, "percentage points"
+// stored value to the axis and the axis unit, as the catalogue's Scaler
+// prints them.
+func axisScale(id string) (factor float64, unit string) {
+	s := scaler(id)
+	return s.Factor, s.Axis
+}
+
+// scaler is how the values of indicator id print.
+func scaler(id string) audit.Scaler {
+	d, _ := audit.Lookup(id)
+	return d.Scaler()
+}
+
+// axisBounds are the ends an axis of an indicator's values may not pass:
+// 0 and 100 for a percentage, 0 below a mean; NaN where there is none.
+func axisBounds(id string) (floor, ceil float64) {
+	d, _ := audit.Lookup(id)
+	switch {
+	case d.Percent():
+		return 0, 100
+	case d.Kind == audit.KindMean:
+		return 0, math.NaN()
 	}
-	if ind.Scale > 0 {
-		return float64(ind.Scale), fmt.Sprintf("per %d", ind.Scale)
-	}
-	return 100, "%"
+	return math.NaN(), math.NaN()
 }
 
 // axisUnit is a short axis label naming only the unit of an indicator's
 // values ("per cent", "minutes"), for a vertical axis whose chart title
 // already names the indicator: a long rotated label would squeeze the
 // data area of a short chart.
-func axisUnit(ind Indicator) string {
-	_, unit := axisScale(ind)
+func axisUnit(id string) string {
+	_, unit := axisScale(id)
 	switch unit {
 	case "%":
 		return "per cent"
@@ -522,12 +529,12 @@ func axisUnit(ind Indicator) string {
 }
 
 // axisTitle is an indicator's axis label with its unit.
-func axisTitle(id string, ind Indicator) string {
-	_, unit := axisScale(ind)
+func axisTitle(id string) string {
+	_, unit := axisScale(id)
 	if unit == "" {
-		return IndicatorTitle(id)
+		return audit.IndicatorTitle(id)
 	}
-	return IndicatorTitle(id) + " (" + unit + ")"
+	return audit.IndicatorTitle(id) + " (" + unit + ")"
 }
 
 // span tracks the range of values a chart must show.

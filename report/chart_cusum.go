@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"math"
+	"polypledger/audit"
 
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
@@ -15,7 +16,7 @@ import (
 // (unacceptable, dashed) and −h0 (acceptable, dotted) and the zero line.
 // The parameters are printed in the axis label, since they are a local
 // choice.
-func CUSUMChart(c CUSUMResult, opt ChartOptions) ([]byte, error) {
+func CUSUMChart(c audit.CUSUMResult, opt ChartOptions) ([]byte, error) {
 	opt = opt.withDefaults(85)
 	pr := c.Params
 	yLabel := fmt.Sprintf("CUSUM (success −%.3f, failure +%.3f)", c.S, 1-c.S)

@@ -2,6 +2,7 @@ package report
 
 import (
 	"math"
+	"polypledger/audit"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
@@ -12,7 +13,7 @@ import (
 // "peer 3") and its figure.
 type ForestRow struct {
 	Label     string
-	Indicator Indicator
+	Indicator audit.Indicator
 }
 
 // ForestData is what ForestChart draws: one figure per row with its 95%
@@ -33,20 +34,13 @@ type ForestData struct {
 // is opt.Highlight is ringed. Rows without a value show no mark.
 func ForestChart(f ForestData, opt ChartOptions) ([]byte, error) {
 	opt = opt.withDefaults(30 + 6.5*float64(len(f.Rows)))
-	var sample Indicator
-	for _, r := range f.Rows {
-		if r.Indicator.ID != "" {
-			sample = r.Indicator
-			break
-		}
-	}
-	factor, _ := axisScale(sample)
-	p := newPlot(opt.title(IndicatorTitle(f.IndicatorID)), axisTitle(f.IndicatorID, sample), "")
+	factor, _ := axisScale(f.IndicatorID)
+	p := newPlot(opt.title(audit.IndicatorTitle(f.IndicatorID)), axisTitle(f.IndicatorID), "")
 	n := len(f.Rows)
 	labels := make([]string, n)
 	xs := newSpan()
 	var pts []chartPoint
-	seen := map[Status]bool{}
+	seen := map[audit.Status]bool{}
 	for i, r := range f.Rows {
 		y := float64(n - 1 - i)
 		labels[n-1-i] = r.Label
@@ -68,10 +62,7 @@ func ForestChart(f ForestData, opt ChartOptions) ([]byte, error) {
 	if f.Reference != nil {
 		xs.add(*f.Reference * factor)
 	}
-	floor, ceil := math.NaN(), math.NaN()
-	if factor == 100 && sample.Kind != KindDifference {
-		floor, ceil = 0, 100
-	}
+	floor, ceil := axisBounds(f.IndicatorID)
 	p.X.Min, p.X.Max = xs.padded(10, floor, ceil)
 	p.Y.Min, p.Y.Max = -0.6, float64(n)-0.4
 	p.Y.Tick.Marker = nominalTicks{labels: labels}
@@ -82,7 +73,7 @@ func ForestChart(f ForestData, opt ChartOptions) ([]byte, error) {
 	}
 	p.Add(&points{pts: pts, horizontal: true})
 	var legend []legendItem
-	for _, s := range []Status{Meets, Below, TooFew, Reported} {
+	for _, s := range []audit.Status{audit.Meets, audit.Below, audit.TooFew, audit.Reported} {
 		if seen[s] {
 			legend = append(legend, markItem(verdictMark(s), ""))
 		}

@@ -3,6 +3,8 @@ package report
 import (
 	"fmt"
 	"math"
+	"polypledger/audit"
+	"polypledger/stats"
 
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
@@ -13,7 +15,7 @@ import (
 // labels are the points' OperatorID, so a caller that must not name others
 // (the personal report) relabels the points first.
 type FunnelData struct {
-	Funnel Funnel
+	Funnel audit.Funnel
 	// Target is the standard profile's target, drawn as a reference line;
 	// nil draws none.
 	Target *float64
@@ -22,11 +24,11 @@ type FunnelData struct {
 // funnel point marks: a circle within the 95% limits, an upward triangle
 // above them and a downward triangle below; a point beyond the 99.8% limit
 // is ringed as well.
-func funnelMark(s Side) mark {
+func funnelMark(s stats.Side) mark {
 	switch s {
-	case SideAbove:
+	case stats.SideAbove:
 		return mark{upTriangle{}, shadeGreen, "above the 95% limit"}
-	case SideBelow:
+	case stats.SideBelow:
 		return mark{downTriangle{}, shadeVermilion, "below the 95% limit"}
 	}
 	return mark{thickRing{}, shadeBlue, "within the 95% limits"}
@@ -40,8 +42,8 @@ func funnelMark(s Side) mark {
 func FunnelChart(f FunnelData, opt ChartOptions) ([]byte, error) {
 	opt = opt.withDefaults(defaultChartHeightMM)
 	fn := f.Funnel
-	title := opt.title("Funnel plot: " + IndicatorTitle(fn.IndicatorID))
-	p := newPlot(title, "Cases in the denominator (procedures)", IndicatorTitle(fn.IndicatorID)+" (%)")
+	title := opt.title("Funnel plot: " + audit.IndicatorTitle(fn.IndicatorID))
+	p := newPlot(title, "Cases in the denominator (procedures)", audit.IndicatorTitle(fn.IndicatorID)+" (%)")
 
 	maxN, minN := 10, math.MaxInt
 	for _, pt := range fn.Points {
@@ -79,7 +81,7 @@ func FunnelChart(f FunnelData, opt ChartOptions) ([]byte, error) {
 	for _, pt := range fn.Points {
 		m := funnelMark(pt.Outside95)
 		cp := chartPoint{X: float64(pt.N), Y: 100 * pt.Rate, Lo: math.NaN(), Hi: math.NaN(), Mark: m,
-			Ring: pt.Outside998 != SideWithin, Label: pt.OperatorID}
+			Ring: pt.Outside998 != stats.SideWithin, Label: pt.OperatorID}
 		if opt.Highlight != "" && pt.OperatorID == opt.Highlight {
 			cp.Radius, cp.Bold = vg.Points(4.5), true
 		}
@@ -112,7 +114,7 @@ func FunnelChart(f FunnelData, opt ChartOptions) ([]byte, error) {
 		legend = append(legend, lineItem(fmt.Sprintf("standard's target %.1f%%", 100**f.Target), target))
 	}
 	legend = append(legend,
-		markItem(funnelMark(SideWithin), ""), markItem(funnelMark(SideAbove), ""), markItem(funnelMark(SideBelow), ""),
+		markItem(funnelMark(stats.SideWithin), ""), markItem(funnelMark(stats.SideAbove), ""), markItem(funnelMark(stats.SideBelow), ""),
 		legendItem{"ringed: beyond the 99.8% limit", glyphThumb{ringStyle()}},
 	)
 	return render(p, legend, opt)

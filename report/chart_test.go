@@ -7,11 +7,12 @@ import (
 	"image/color"
 	"image/png"
 	"math"
-	"strings"
 	"testing"
 	"time"
 
+	"polypledger/audit"
 	"polypledger/logbook"
+	"polypledger/stats"
 )
 
 // decodePNG decodes chart bytes and checks the pixel size the options ask
@@ -71,23 +72,23 @@ func nearByte(a uint32, b uint8) bool { return math.Abs(float64(a)-float64(b)) <
 
 // chartFixtures are small literal figures for every chart function.
 func chartFixtures() map[string]func(ChartOptions) ([]byte, error) {
-	ind := func(id string, k, n int, target float64) Indicator {
-		i := Proportion(id, k, n)
+	ind := func(id string, k, n int, target float64) audit.Indicator {
+		i := audit.Proportion(id, k, n)
 		t := target
-		i.Judge(&Target{Minimum: &t}, 30)
+		i.Judge(&audit.Target{Minimum: &t}, 30)
 		return i
 	}
-	res := MetricsResult{Unit: PopulationResult{Indicators: []Indicator{ind("adr", 90, 300, 0.35)}}}
+	res := audit.MetricsResult{Unit: audit.PopulationResult{Indicators: []audit.Indicator{ind("adr", 90, 300, 0.35)}}}
 	for i, k := range []int{40, 15, 35} {
-		res.Operators = append(res.Operators, OperatorResult{OperatorID: []string{"E01", "E02", "E03"}[i], Indicators: []Indicator{ind("adr", k, 100, 0.35)}})
+		res.Operators = append(res.Operators, audit.OperatorResult{OperatorID: []string{"E01", "E02", "E03"}[i], Indicators: []audit.Indicator{ind("adr", k, 100, 0.35)}})
 	}
-	funnel, err := NewFunnel(res, "adr")
+	funnel, err := audit.NewFunnel(res, "adr")
 	if err != nil {
 		panic(err)
 	}
 	target := 0.35
-	tp := CUSUMParams{P0: 0.1, P1: 0.2, Alpha: 0.1, Beta: 0.1}
-	prog, err := NewTraineeProgress(&Profile{ID: "t", MinCases: 30}, tp, MetricsOptions{})
+	tp := stats.CUSUMParams{P0: 0.1, P1: 0.2, Alpha: 0.1, Beta: 0.1}
+	prog, err := audit.NewTraineeProgress(&audit.Profile{ID: "t", MinCases: 30}, tp, audit.MetricsOptions{})
 	if err != nil {
 		panic(err)
 	}
@@ -169,8 +170,8 @@ func TestFunnelMarksBySide(t *testing.T) {
 	if !hasColour(img, shadeVermilion.rgba()) {
 		t.Error("no vermilion mark for the point below the limit")
 	}
-	marks := map[Side]mark{SideWithin: funnelMark(SideWithin), SideAbove: funnelMark(SideAbove), SideBelow: funnelMark(SideBelow)}
-	seen := map[string]Side{}
+	marks := map[stats.Side]mark{stats.SideWithin: funnelMark(stats.SideWithin), stats.SideAbove: funnelMark(stats.SideAbove), stats.SideBelow: funnelMark(stats.SideBelow)}
+	seen := map[string]stats.Side{}
 	for s, m := range marks {
 		key := typeName(m.glyph)
 		if other, dup := seen[key]; dup {
@@ -181,9 +182,9 @@ func TestFunnelMarksBySide(t *testing.T) {
 }
 
 func TestVerdictMarksDifferInShapeAndWords(t *testing.T) {
-	seen := map[string]Status{}
-	words := map[string]Status{}
-	for _, s := range []Status{Meets, Below, TooFew, Reported} {
+	seen := map[string]audit.Status{}
+	words := map[string]audit.Status{}
+	for _, s := range []audit.Status{audit.Meets, audit.Below, audit.TooFew, audit.Reported} {
 		m := verdictMark(s)
 		if other, dup := seen[typeName(m.glyph)]; dup {
 			t.Errorf("%s and %s share the marker shape %s", s, other, typeName(m.glyph))
@@ -194,8 +195,8 @@ func TestVerdictMarksDifferInShapeAndWords(t *testing.T) {
 		}
 		words[m.words] = s
 	}
-	if verdictMark(TooFew).words != "too few cases to judge" {
-		t.Errorf("too few: legend says %q", verdictMark(TooFew).words)
+	if verdictMark(audit.TooFew).words != "too few cases to judge" {
+		t.Errorf("too few: legend says %q", verdictMark(audit.TooFew).words)
 	}
 }
 
@@ -203,21 +204,21 @@ func typeName(v any) string { return fmt.Sprintf("%T", v) }
 
 func TestAxisScale(t *testing.T) {
 	cases := []struct {
-		ind    Indicator
+		id     string
 		factor float64
 		unit   string
 	}{
-		{Indicator{ID: "adr"}, 100, "%"},
-		{Indicator{ID: "perforation", Scale: 1000}, 1000, "per 1000"},
-		{Indicator{ID: "withdrawal_negative", Kind: KindMean}, 1, "minutes"},
-		{Indicator{ID: "sedation_fentanyl_median_under70", Kind: KindMedian}, 1, "µg"},
-		{Indicator{ID: "adr_aid_difference", Kind: KindDifference}, 100, "percentage points"},
-		{Indicator{ID: "optical_kappa", Kind: "kappa"}, 1, ""},
+		{"adr", 100, "%"},
+		{"perforation", 1000, "per 1000"},
+		{"withdrawal_negative", 1, "minutes"},
+		{"sedation_fentanyl_median_under70", 1, "µg"},
+		{"adr_aid_difference", 100, "percentage points"},
+		{"optical_kappa", 1, ""},
 	}
 	for _, c := range cases {
-		f, u := axisScale(c.ind)
+		f, u := axisScale(c.id)
 		if f != c.factor || u != c.unit {
-			t.Errorf("%s: factor %v unit %q, want %v %q", c.ind.ID, f, u, c.factor, c.unit)
+			t.Errorf("%s: factor %v unit %q, want %v %q", c.id, f, u, c.factor, c.unit)
 		}
 	}
 }
@@ -244,34 +245,6 @@ func TestSpanPadded(t *testing.T) {
 		lo, hi := s.padded(c.min, c.floor, c.ceil)
 		if math.Abs(lo-c.lo) > 1e-9 || math.Abs(hi-c.hi) > 1e-9 {
 			t.Errorf("%s: [%v, %v], want [%v, %v]", c.name, lo, hi, c.lo, c.hi)
-		}
-	}
-}
-
-func TestFormatValueUnits(t *testing.T) {
-	v := func(x float64) *float64 { return &x }
-	cases := []struct {
-		ind  Indicator
-		want string
-	}{
-		{Indicator{ID: "adr", Value: v(0.3126)}, "31.3%"},
-		{Indicator{ID: "perforation", Scale: 1000, Value: v(0.0005)}, "0.5 per 1000"},
-		{Indicator{ID: "sedation_fentanyl_median_70plus", Kind: KindMedian, Value: v(50)}, "50 µg"},
-		{Indicator{ID: "sedation_midazolam_median_under70", Kind: KindMedian, Value: v(2.5)}, "2.5 mg"},
-		{Indicator{ID: "withdrawal_negative", Kind: KindMean, Value: v(8.04)}, "8.0 min"},
-		{Indicator{ID: "adr"}, "–"},
-	}
-	for _, c := range cases {
-		if got := FormatValue(c.ind); got != c.want {
-			t.Errorf("%s: %q, want %q", c.ind.ID, got, c.want)
-		}
-	}
-}
-
-func TestIndicatorTitleCoversEveryIndicator(t *testing.T) {
-	for _, id := range IndicatorIDs() {
-		if IndicatorTitle(id) == strings.ReplaceAll(id, "_", " ") {
-			t.Errorf("indicator %s has no printed title", id)
 		}
 	}
 }

@@ -3,6 +3,7 @@ package report
 import (
 	"math"
 
+	"polypledger/audit"
 	"polypledger/logbook"
 
 	"gonum.org/v1/plot"
@@ -18,7 +19,7 @@ import (
 // still waiting for histology does not read as a fall.
 type TrendPoint struct {
 	Label       string
-	Indicator   Indicator
+	Indicator   audit.Indicator
 	Provisional string
 }
 
@@ -45,17 +46,13 @@ type TrendData struct {
 // dashed line with square marks.
 func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 	opt = opt.withDefaults(80)
-	var sample Indicator
-	if len(t.Points) > 0 {
-		sample = t.Points[0].Indicator
-	}
-	factor, _ := axisScale(sample)
-	p := newPlot(opt.title(IndicatorTitle(t.IndicatorID)+" by quarter"), "Quarter", axisUnit(sample))
+	factor, _ := axisScale(t.IndicatorID)
+	p := newPlot(opt.title(audit.IndicatorTitle(t.IndicatorID)+" by quarter"), "Quarter", axisUnit(t.IndicatorID))
 	labels := make([]string, len(t.Points))
 	ys := newSpan()
 	var pts []chartPoint
 	var line plotter.XYs
-	seen := map[Status]bool{}
+	seen := map[audit.Status]bool{}
 	provisional := false
 	var target *float64
 	for i, tp := range t.Points {
@@ -98,12 +95,7 @@ func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 	if target != nil {
 		ys.add(*target * factor)
 	}
-	floor, ceil := math.NaN(), math.NaN()
-	if factor == 100 && sample.Kind != KindDifference {
-		floor, ceil = 0, 100
-	} else if sample.Kind == KindMean {
-		floor = 0
-	}
+	floor, ceil := axisBounds(t.IndicatorID)
 	p.Y.Min, p.Y.Max = ys.padded(10, floor, ceil)
 	p.X.Min, p.X.Max = -0.5, math.Max(0.5, float64(len(t.Points))-0.5)
 	p.X.Tick.Marker = nominalTicks{labels: labels, max: 12}
@@ -112,7 +104,7 @@ func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 	mainSty := lineStyle(shadeBlack, 1, nil)
 	cmpSty := lineStyle(shadeGrey, 1, dashed())
 	if target != nil {
-		p.Add(refLine{at: *target * factor, sty: targetSty, below: true, label: "target " + valueText(sample, target)})
+		p.Add(refLine{at: *target * factor, sty: targetSty, below: true, label: "target " + scaler(t.IndicatorID).Format(*target)})
 	}
 	p.Add(curve{cmpLine, cmpSty}, &points{pts: cmpPts}, curve{line, mainSty}, &points{pts: pts})
 
@@ -127,7 +119,7 @@ func TrendChart(t TrendData, opt ChartOptions) ([]byte, error) {
 	if target != nil {
 		legend = append(legend, lineItem("standard's target", targetSty))
 	}
-	for _, s := range []Status{Meets, Below, TooFew, Reported} {
+	for _, s := range []audit.Status{audit.Meets, audit.Below, audit.TooFew, audit.Reported} {
 		if seen[s] {
 			legend = append(legend, markItem(verdictMark(s), ""))
 		}
@@ -173,23 +165,23 @@ func (c comboThumb) Thumbnail(cv *draw.Canvas) {
 
 // TraineeCasesChart draws a trainee's cumulative cases month by month: the
 // total and each supervision level, told apart by dash pattern and mark.
-func TraineeCasesChart(months []MonthCount, opt ChartOptions) ([]byte, error) {
+func TraineeCasesChart(months []audit.MonthCount, opt ChartOptions) ([]byte, error) {
 	opt = opt.withDefaults(80)
 	p := newPlot(opt.title("Cumulative cases by supervision level"), "Month", "Cumulative cases")
 	labels := make([]string, len(months))
 	type series struct {
 		name  string
-		count func(MonthCount) int
+		count func(audit.MonthCount) int
 		sty   draw.LineStyle
 		glyph draw.GlyphDrawer
 		col   shade
 	}
 	all := []series{
-		{"all cases", func(m MonthCount) int { return m.Total }, lineStyle(shadeBlack, 1.4, nil), draw.CircleGlyph{}, shadeBlack},
-		{SupervisionWords(logbook.Independent), func(m MonthCount) int { return m.Independent }, lineStyle(shadeBlue, 1.1, dashed()), draw.BoxGlyph{}, shadeBlue},
-		{SupervisionWords(logbook.SupervisedHandsOn), func(m MonthCount) int { return m.SupervisedHandsOn }, lineStyle(shadeVermilion, 1.1, dotted()), upTriangle{}, shadeVermilion},
-		{SupervisionWords(logbook.SupervisedObserved), func(m MonthCount) int { return m.SupervisedObserved }, lineStyle(shadeGreen, 1.1, dashDot()), downTriangle{}, shadeGreen},
-		{"supervision not recorded", func(m MonthCount) int { return m.Unrecorded }, lineStyle(shadeGrey, 1, dashed()), thickRing{}, shadeGrey},
+		{"all cases", func(m audit.MonthCount) int { return m.Total }, lineStyle(shadeBlack, 1.4, nil), draw.CircleGlyph{}, shadeBlack},
+		{logbook.Independent.Words(), func(m audit.MonthCount) int { return m.Independent }, lineStyle(shadeBlue, 1.1, dashed()), draw.BoxGlyph{}, shadeBlue},
+		{logbook.SupervisedHandsOn.Words(), func(m audit.MonthCount) int { return m.SupervisedHandsOn }, lineStyle(shadeVermilion, 1.1, dotted()), upTriangle{}, shadeVermilion},
+		{logbook.SupervisedObserved.Words(), func(m audit.MonthCount) int { return m.SupervisedObserved }, lineStyle(shadeGreen, 1.1, dashDot()), downTriangle{}, shadeGreen},
+		{"supervision not recorded", func(m audit.MonthCount) int { return m.Unrecorded }, lineStyle(shadeGrey, 1, dashed()), thickRing{}, shadeGrey},
 	}
 	ys := newSpan()
 	ys.add(0)

@@ -11,7 +11,9 @@ import (
 
 	"github.com/jung-kurt/gofpdf"
 
+	"polypledger/audit"
 	"polypledger/logbook"
+	"polypledger/surveillance"
 )
 
 // ReportKind is which PDF report is written.
@@ -38,11 +40,11 @@ type ReportFonts struct {
 // ReportInput is everything WritePDF prints: the computed figures and the
 // context a reader needs to trust them.
 type ReportInput struct {
-	Kind        ReportKind
-	UnitName    string
-	Profile     *Profile
-	Guideline   Guideline
-	Eligibility EligibilitySettings
+	Kind      ReportKind
+	UnitName  string
+	Profile   *audit.Profile
+	Guideline surveillance.Guideline
+	Discard   audit.DiscardSettings
 	// From and To are the period asked for, both days included.
 	From, To time.Time
 	// GeneratedOn is printed on the cover and stored as the PDF's creation
@@ -54,7 +56,7 @@ type ReportInput struct {
 	// SubjectID is the endoscopist of a personal report or the trainee of a
 	// trainee logbook.
 	SubjectID string
-	Data      ReportData
+	Data      audit.Figures
 	Fonts     ReportFonts
 }
 
@@ -120,7 +122,7 @@ const (
 // footerCaution is printed at the foot of every page.
 func footerCaution() string {
 	return "These figures support audit and appraisal. Surveillance intervals and eligibility figures are suggestions under the " +
-		"named guideline for the responsible clinician to confirm; local policy decides. " + notDevice +
+		"named guideline for the responsible clinician to confirm; local policy decides. " + surveillance.NotDevice +
 		" No patient identifiers: procedure ids and short codes only."
 }
 
@@ -158,7 +160,7 @@ func newDoc(in ReportInput) *doc {
 	d := &doc{pdf: pdf, in: in}
 	if !in.GeneratedOn.IsZero() {
 		d.today = logbook.Today(in.GeneratedOn)
-		d.unfinished = PeriodUnfinished(in.To, d.today)
+		d.unfinished = audit.PeriodUnfinished(in.To, d.today)
 	}
 	switch in.Kind {
 	case UnitReport:
@@ -507,9 +509,9 @@ func (d *doc) keyValues(rows [][2]string, labelW float64) {
 // verdictText prints a verdict with a shape before the words, so that it
 // reads without colour (● meets, ▼ below, ○ too few, ■ reported), and says
 // "provisional" when it may still change (ProvisionalNote).
-func (d *doc) verdictText(ind Indicator) string {
-	s := VerdictShape(ind.Status) + " " + ind.Status.Words()
-	if (ind.Status == Meets || ind.Status == Below) && d.provisional(ind) != "" {
+func (d *doc) verdictText(ind audit.Indicator) string {
+	s := audit.VerdictShape(ind.Status) + " " + ind.Status.Words()
+	if (ind.Status == audit.Meets || ind.Status == audit.Below) && d.provisional(ind) != "" {
 		s += " (provisional)"
 	}
 	return s
@@ -517,11 +519,13 @@ func (d *doc) verdictText(ind Indicator) string {
 
 // provisional returns why an indicator's verdict may still change in this
 // report's period, or "".
-func (d *doc) provisional(ind Indicator) string { return ProvisionalNote(ind, d.unfinished) }
+func (d *doc) provisional(ind audit.Indicator) string {
+	return audit.ProvisionalNote(ind, d.unfinished)
+}
 
 // shortVerdict is a value and verdict shape for dense tables; a figure that
 // may still change gets "◊" (provisional) instead of its shape.
-func (d *doc) shortVerdict(ind Indicator) string {
+func (d *doc) shortVerdict(ind audit.Indicator) string {
 	if ind.Value == nil {
 		return "–"
 	}
@@ -529,10 +533,10 @@ func (d *doc) shortVerdict(ind Indicator) string {
 	switch {
 	case d.provisional(ind) != "":
 		return v + " ◊"
-	case ind.Status == Reported:
+	case ind.Status == audit.Reported:
 		return v
 	}
-	return v + " " + VerdictShape(ind.Status)
+	return v + " " + audit.VerdictShape(ind.Status)
 }
 
 // noteRow returns the note row printed under an indicator's row: cases
@@ -540,9 +544,9 @@ func (d *doc) shortVerdict(ind Indicator) string {
 // has none. The indicator's own Note is marked on its value (notedValue)
 // and printed under the table (indicatorNotes). A period not yet over is said
 // once above each table (periodNote), not on every row.
-func (d *doc) noteRow(ind Indicator) []string {
+func (d *doc) noteRow(ind audit.Indicator) []string {
 	var parts []string
-	if h := HistologyAwaitedNote(ind); h != "" {
+	if h := audit.HistologyAwaitedNote(ind); h != "" {
 		parts = append(parts, "provisional: "+h)
 	}
 	if few := fewCasesNote(ind, d.in.Profile.MinCases); few != "" {
@@ -556,12 +560,12 @@ func (d *doc) noteRow(ind Indicator) []string {
 
 // fewCasesNote flags a figure reported without a target on fewer cases
 // than the profile's minimum: it is shown, but it is too small to rely on.
-func fewCasesNote(ind Indicator, minCases int) string {
-	if ind.Status != Reported || ind.Kind == KindPerYear || ind.Denominator == 0 || ind.Denominator >= minCases {
+func fewCasesNote(ind audit.Indicator, minCases int) string {
+	if ind.Status != audit.Reported || ind.Kind == audit.KindPerYear || ind.Denominator == 0 || ind.Denominator >= minCases {
 		return ""
 	}
 	return fmt.Sprintf("only %s %s: too few to rely on (the standard judges from %d)",
-		groupThousands(int64(ind.Denominator)), CountNoun(ind.ID), minCases)
+		audit.GroupThousands(int64(ind.Denominator)), audit.CountNoun(ind.ID), minCases)
 }
 
 // periodNote says, above an indicator table, that the period is not over
@@ -575,7 +579,7 @@ func (d *doc) periodNote() {
 
 // withNotes returns rows for inds, each followed by its note row when it
 // has one.
-func (d *doc) withNotes(inds []Indicator, row func(Indicator) []string) [][]string {
+func (d *doc) withNotes(inds []audit.Indicator, row func(audit.Indicator) []string) [][]string {
 	var out [][]string
 	for _, ind := range inds {
 		out = append(out, row(ind))
@@ -587,8 +591,8 @@ func (d *doc) withNotes(inds []Indicator, row func(Indicator) []string) [][]stri
 }
 
 // indicatorRow is the standard row of an indicator table.
-func (d *doc) indicatorRow(ind Indicator) []string {
-	return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), d.verdictText(ind)}
+func (d *doc) indicatorRow(ind audit.Indicator) []string {
+	return []string{audit.IndicatorTitle(ind.ID), audit.FormatCases(ind), notedValue(ind), audit.FormatInterval(ind), audit.FormatTarget(ind), d.verdictText(ind)}
 }
 
 // indicatorColumns are the columns of indicatorRow.

@@ -10,18 +10,20 @@ import (
 	"time"
 
 	"polypledger/assets"
+	"polypledger/audit"
 	"polypledger/demo"
 	"polypledger/logbook"
+	"polypledger/surveillance"
 )
 
 // testProfile returns a shipped profile by id.
-func testProfile(t testing.TB, id string) *Profile {
+func testProfile(t testing.TB, id string) *audit.Profile {
 	t.Helper()
-	ps, err := LoadProfiles(assets.Standards, os.DirFS(t.TempDir()))
+	ps, err := audit.LoadProfiles(assets.Standards, os.DirFS(t.TempDir()))
 	if err != nil {
 		t.Fatal(err)
 	}
-	p, err := FindProfile(ps, id)
+	p, err := audit.FindProfile(ps, id)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -39,16 +41,16 @@ func demoNames() map[string]string {
 
 // demoReportData runs a report pass over n invented demo cases in the
 // period, filtered by keep when it is set.
-func demoReportData(t testing.TB, p *Profile, n int, from, to time.Time, keep func(*logbook.Case) bool) ReportData {
+func demoReportData(t testing.TB, p *audit.Profile, n int, from, to time.Time, keep func(*logbook.Case) bool) audit.Figures {
 	t.Helper()
-	pass, err := NewReportPass(p, ReportPassOptions{From: from, To: to, Extra: []AccumulatorFactory{
-		OpticalAuditFactory(DefaultGuideline, DefaultEligibilitySettings()),
-		AdherenceFactory(DefaultGuideline, p.Target("interval_adherence"), p.MinCases),
-	}})
+	pass, err := audit.NewPass(p, audit.PassOptions{From: from, To: to, Guideline: surveillance.DefaultGuideline,
+		Discard: audit.DefaultDiscardSettings()})
 	if err != nil {
 		t.Fatal(err)
 	}
-	rec := func(c *logbook.Case) logbook.Interval { return Suggest(DefaultGuideline, c).Interval }
+	rec := func(c *logbook.Case) logbook.Interval {
+		return surveillance.Suggest(surveillance.DefaultGuideline, c).Interval
+	}
 	err = demo.Generate(demo.Options{Procedures: n, Seed: 7, Key: []byte("invented test key"), Recommend: rec}, func(c *logbook.Case) error {
 		if keep == nil || keep(c) {
 			pass.Add(c)
@@ -62,10 +64,10 @@ func demoReportData(t testing.TB, p *Profile, n int, from, to time.Time, keep fu
 }
 
 // testInput is a report input over data with the test fonts.
-func testInput(kind ReportKind, p *Profile, subject string, from, to time.Time, data ReportData) ReportInput {
+func testInput(kind ReportKind, p *audit.Profile, subject string, from, to time.Time, data audit.Figures) ReportInput {
 	return ReportInput{
-		Kind: kind, UnitName: demo.UnitName, Profile: p, Guideline: DefaultGuideline,
-		Eligibility: DefaultEligibilitySettings(), From: from, To: to,
+		Kind: kind, UnitName: demo.UnitName, Profile: p, Guideline: surveillance.DefaultGuideline,
+		Discard: audit.DefaultDiscardSettings(), From: from, To: to,
 		GeneratedOn: time.Date(2026, 11, 2, 0, 0, 0, 0, time.UTC), Names: demoNames(), SubjectID: subject,
 		Data: data, Fonts: ReportFonts{Regular: assets.FontRegular(), Bold: assets.FontBold()},
 	}

@@ -7,6 +7,7 @@ import (
 	"testing"
 	"time"
 
+	"polypledger/audit"
 	"polypledger/logbook"
 )
 
@@ -107,7 +108,7 @@ func TestPersonalCoverStatesTheSubjectsTotals(t *testing.T) {
 	}
 	pages := pdfPages(t, writeTestPDF(t, testInput(PersonalReport, p, "E03", period2025From, period2025To, data), "personal.pdf"))
 	cover := oneLine(pages[0])
-	want := regexp.MustCompile(groupThousands(int64(own)) + ` procedures and [\d,]+ lesions by this endoscopist`)
+	want := regexp.MustCompile(audit.GroupThousands(int64(own)) + ` procedures and [\d,]+ lesions by this endoscopist`)
 	if !want.MatchString(cover) {
 		t.Errorf("the personal cover does not state E03's own %d procedures:\n%s", own, cover)
 	}

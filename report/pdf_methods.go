@@ -2,43 +2,11 @@ package report
 
 import (
 	"fmt"
+	"polypledger/audit"
+	"polypledger/surveillance"
 	"sort"
 	"strings"
 )
-
-// indicatorDefinitions state how each figure is counted, in the words of
-// the methods page (clinical-reference §2–§5).
-func indicatorDefinitions() [][2]string {
-	return [][2]string{
-		{"adr", "Detection-eligible procedures with at least one adenoma (tubular, tubulovillous or villous adenoma, or adenocarcinoma) over detection-eligible procedures. adr_male and adr_female split it by recorded sex F and M."},
-		{"adr_stool_test_positive", "The same count over procedures for a positive stool test (FIT or FOBT) in the profile's age range and exclusions."},
-		{"ssldr", "Eligible procedures with at least one sessile serrated lesion (SSL, with or without dysplasia; not TSA) over eligible procedures."},
-		{"pdr", "Eligible procedures with at least one polypectomy (cold or hot snare, cold forceps, EMR en bloc or piecemeal, ESD; not biopsy only)."},
-		{"aadr", "Eligible procedures with an advanced adenoma: an adenoma of 10 mm or more, tubulovillous or villous, with high-grade dysplasia, or adenocarcinoma."},
-		{"apc", "Adenomas over eligible procedures, a mean count; the interval is the exact Poisson interval on the adenoma count divided by the procedures."},
-		{"proximal_sdr", "Eligible procedures with a serrated lesion (SSL, TSA, or hyperplastic polyp of 10 mm or more) proximal to the descending colon."},
-		{"cir", "Procedures reaching the caecum, terminal ileum or an anastomosis over every procedure in the period, whatever age, indication or exclusion. Where the profile's source defines the rate with photo documentation (BSG/JAG 2016: \"unadjusted caecal intubation with photo documentation\"), a complete procedure counts only when the caecal landmarks were photographed; the other standards measure photo documentation as its own figure."},
-		{"cir_adjusted", "As the caecal intubation rate (with the same photo rule), with procedures stopped for obstruction, poor preparation or severe colitis left out of the denominator."},
-		{"caecal_photo", "Complete procedures with photo documentation of the caecal landmarks over complete procedures."},
-		{"prep_adequate", "Outpatient procedures with every Boston segment scored 2 or more over outpatient procedures with all three segments scored; prep_recorded gives the share of all procedures scored, so missing scores cannot flatter the figure. prep_adequate_total6 is ESGE's rule (Boston total 6 or more, inpatients excluded)."},
-		{"withdrawal_negative", "Mean withdrawal time in minutes over eligible, complete, timed procedures with no polypectomy and no biopsy; Student t interval. withdrawal_timed is the share of those procedures timed; withdrawal_6min_share the share of at least 6 minutes."},
-		{"retroversion", "Procedures with rectal retroversion recorded as done over those where it applied."},
-		{"retrieval", "Polypectomies with the lesion retrieved over polypectomies (lesion level)."},
-		{"tattoo_large", "Lesions of 20 mm or more, or called deep invasive, outside the rectum and caecum, that were tattooed (lesion level)."},
-		{"cold_snare_small", "Polypectomies of lesions of 3–9 mm done by cold snare over polypectomies of 3–9 mm lesions (lesion level)."},
-		{"comfort_discomfort", "Procedures with a Gloucester comfort score of 4 or 5 over procedures with a score; a maximum. The JAG standard asks for below 10%, a strict maximum: exactly 10% does not meet it. comfort_recorded is the share of procedures scored."},
-		{"perforation", "Perforations within 30 days per 1000 procedures; bleeding is bleeding needing intervention per 100 procedures with a polypectomy. Both use the exact Clopper–Pearson interval, as rare events. Where a standard asks for below 1 per 1000 or below 1 per 100, its profile marks the maximum strict, so exactly at the limit does not meet it."},
-		{"Sedation medians", "Median doses of midazolam (mg), fentanyl (µg) and pethidine (mg) over procedures with the dose recorded, under 70 and from 70 years; an even count takes the mean of the two middle values."},
-		{"volume", "Procedures in the period scaled to 365 days. It is a count, not a rate, so the minimum number of cases does not apply to it. It is judged per endoscopist only, and only over a period of at least a year (the last day on or after the first day plus one year less one day); over a shorter period, such as a quarter, it is reported with a note."},
-		{"adr_with_aid", "ADR over eligible procedures with computer-aided detection used, and without it; procedures with its use not recorded are in neither group. The difference (with minus without) has Newcombe's hybrid score interval and is never judged."},
-		{"Optical diagnosis figures", "Lesions with an optical class other than uncertain and a final histology. Positive is adenoma histology (cancer included); a call of adenoma or deep invasive predicts positive, hyperplastic or SSL predicts negative. Sensitivity, specificity, predictive values and accuracy have Wilson intervals; kappa is Cohen's, with the Fleiss–Cohen–Everitt large-sample standard error (see Statistical methods). The same figures are given for the computer-aided class where recorded."},
-		{"high_confidence_rate", "Diminutive lesions (5 mm or less) called with high confidence over diminutive lesions given an optical class."},
-		{"pivi2_npv", "PIVI 2 (diagnose and leave): diminutive rectosigmoid polyps called hyperplastic with high confidence whose histology is not an adenoma, over such polyps with histology, in every procedure of the period. pivi2_npv_neoplasia also counts SSL and TSA as positive."},
-		{"pivi1_agreement", "PIVI 1 (resect and discard): procedures with at least one diminutive polyp called adenoma, hyperplastic or SSL with high confidence, every lesion with histology, passing the exam gate. Interval A replaces each such polyp by its call (adenoma as tubular adenoma with low-grade dysplasia); interval B uses histology for all. Agreement is the same interval category; disagreements are split into optical shorter, optical longer (the unsafe direction) and optical outside the guideline."},
-		{"interval_adherence", "Procedures whose recorded recommended interval equals the interval worked out under the guideline, over procedures with a recorded recommendation. A procedure whose worked-out interval still awaits histology has no interval yet: it is left out, and the figure's note says how many were."},
-		{"unassisted_caecal_intubation", "Trainee cases where the trainee reached the caecum without the trainer taking over, over trainee cases with the outcome recorded."},
-	}
-}
 
 // methods prints the methods pages: the profile, every definition, the
 // statistics and the published sources.
@@ -60,14 +28,14 @@ func (d *doc) methods() {
 	if p.Notes != "" {
 		d.para("Notes: " + p.Notes)
 	}
-	e := p.Eligible
+	e := p.Detection
 	age := "any age"
 	if e.MinAge > 0 {
 		age = fmt.Sprintf("age %d or over", e.MinAge)
 	}
 	d.para(fmt.Sprintf("Detection-eligible procedures: %s; indication %s; exclusion %s. Stool-test-positive population: "+
 		"indication stool_test_positive, age %d or over, exclusion %s. Minimum cases for a verdict: %d.",
-		age, codeList(e.Indications), codeList(e.Exclusions), p.StoolTest.MinAge, codeList(p.StoolTest.Exclusions), p.MinCases))
+		age, audit.CodeList(e.Indications), audit.CodeList(e.Exclusions), p.StoolTest.MinAge, audit.CodeList(p.StoolTest.Exclusions), p.MinCases))
 	ids := make([]string, 0, len(p.Targets))
 	for id := range p.Targets {
 		ids = append(ids, id)
@@ -76,31 +44,19 @@ func (d *doc) methods() {
 	var rows [][]string
 	for _, id := range ids {
 		t := p.Targets[id]
-		ind := Indicator{ID: id}
-		ind.Kind, _ = indicatorKind(id)
-		if ind.Kind == "proportion" {
-			ind.Kind = ""
-		}
-		if id == "perforation" {
-			ind.Scale = 1000
-		} else if id == "bleeding" {
-			ind.Scale = 100
-		}
+		sc := scaler(id)
 		ask := ""
 		switch {
 		case t.Minimum != nil:
-			ask = targetSign(false, t.Strict) + " " + valueText(ind, t.Minimum)
+			ask = audit.TargetSign(false, t.Strict) + " " + sc.Format(*t.Minimum)
 		case t.Maximum != nil:
-			ask = targetSign(true, t.Strict) + " " + valueText(ind, t.Maximum)
-		}
-		if u := doseUnit(id); u != "" && ask != "" {
-			ask += " " + u
+			ask = audit.TargetSign(true, t.Strict) + " " + sc.Format(*t.Maximum)
 		}
 		aim := ""
 		if t.Aspirational != nil {
-			aim = valueText(ind, t.Aspirational)
+			aim = sc.Format(*t.Aspirational)
 		}
-		rows = append(rows, []string{IndicatorTitle(id), ask, aim, t.Source})
+		rows = append(rows, []string{audit.IndicatorTitle(id), ask, aim, t.Source})
 	}
 	if len(rows) > 0 {
 		d.subheading("Targets this profile sets", 20)
@@ -119,8 +75,19 @@ func (d *doc) methods() {
 	}
 
 	d.subheading("Definitions", 30)
-	for _, def := range indicatorDefinitions() {
-		d.definition(def[0], def[1])
+	for _, def := range audit.Catalogue() {
+		if def.Method == "" {
+			continue // the method of the first figure of its family covers it
+		}
+		term := def.Title
+		if def.MethodTerm != "" {
+			term = def.MethodTerm
+		}
+		text := def.Method
+		if def.Source != audit.SourceProfile && def.Source != audit.SourceCommon {
+			text += " Source: " + strings.TrimSuffix(def.Source, ".") + "."
+		}
+		d.definition(term, text)
 	}
 	d.definition("Boston Bowel Preparation Scale", "Right, transverse and left colon each scored 0–3 after cleansing (Lai EJ et al., Gastrointest Endosc 2009;69:620–625); adequate when every segment scores 2 or more (US Multi-Society Task Force, Johnson DA et al., Gastroenterology 2014;147:903–924).")
 	d.definition("Size groups", "Diminutive 5 mm or less, small 6–9 mm, large 10 mm or more; rectosigmoid is rectum or sigmoid; proximal is caecum to splenic flexure (common practice).")
@@ -140,14 +107,14 @@ func (d *doc) methods() {
 	}
 
 	d.subheading("Optical diagnosis and surveillance sources", 30)
-	d.definition("PIVI", PIVISource)
+	d.definition("PIVI", audit.PIVISource)
 	d.definition("ESGE 2019", "Bisschops R et al., Endoscopy 2019;51:1155–1179, recommendation 4: optical diagnosis may replace histology for diminutive polyps only under strictly controlled conditions; it sets no numeric threshold.")
-	if in.Eligibility.withDefaults().RuleSet == RuleSetESGE2022 {
+	if in.Discard.WithDefaults().RuleSet == audit.RuleSetESGE2022 {
 		d.definition("ESGE 2022", "Sensitivity and specificity for adenoma of high-confidence calls: for diagnose-and-leave over "+
 			"diminutive rectosigmoid polyps only (at least 80% and 90%), for resect-and-discard over diminutive polyps anywhere "+
-			"(at least 80% and 80%). "+ESGE2022Source)
+			"(at least 80% and 80%). "+audit.ESGE2022Source)
 	}
-	for _, g := range Guidelines {
+	for _, g := range surveillance.Guidelines {
 		mark := ""
 		if g == in.Guideline {
 			mark = " (used in this report)"
@@ -171,7 +138,7 @@ func (d *doc) methods() {
 
 	d.subheading("Privacy and cautions", 20)
 	d.para("The report carries procedure ids and patient short codes (derived from a keyed pseudonym) only; no patient name " +
-		"or hospital number is stored or printed. " + AuditCaution() + " " + EligibilityCaution())
+		"or hospital number is stored or printed. " + audit.AuditCaution() + " " + audit.DiscardCaution())
 	if in.Kind == PersonalReport {
 		d.para("In this personal report every other endoscopist is shown only as an anonymous peer, numbered by procedure volume.")
 	}
@@ -183,16 +150,7 @@ func (d *doc) definition(term, text string) {
 	d.space(9)
 	d.pdf.SetX(marginL)
 	d.pdf.SetFont("go", "B", 8)
-	w := d.pdf.GetStringWidth(term + ": ")
-	if w > 70 {
-		w = 70
-	}
-	label := strings.ReplaceAll(term, "_", " ")
-	if t, ok := indicatorTitles[term]; ok {
-		label = t
-	}
-	d.pdf.SetFont("go", "B", 8)
-	d.pdf.MultiCell(contentW, 3.7, label, "", "L", false)
+	d.pdf.MultiCell(contentW, 3.7, term, "", "L", false)
 	d.pdf.SetFont("go", "", 8)
 	d.pdf.SetX(marginL + 4)
 	d.pdf.MultiCell(contentW-4, 3.7, text, "", "L", false)

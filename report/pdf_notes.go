@@ -1,6 +1,7 @@
 package report
 
 import (
+	"polypledger/audit"
 	"strings"
 )
 
@@ -11,19 +12,19 @@ import (
 const noteMark = "†"
 
 // notedValue is FormatValue followed by noteMark when the figure has a Note.
-func notedValue(ind Indicator) string {
+func notedValue(ind audit.Indicator) string {
 	if ind.Note == "" {
-		return FormatValue(ind)
+		return audit.FormatValue(ind)
 	}
-	return noteMark + " " + FormatValue(ind)
+	return noteMark + " " + audit.FormatValue(ind)
 }
 
 // indicatorNotes prints under a table of one population's figures the Note
 // of every figure that has one, after the figure's printed name.
-func (d *doc) indicatorNotes(inds []Indicator) {
+func (d *doc) indicatorNotes(inds []audit.Indicator) {
 	labels := make([]string, len(inds))
 	for i, ind := range inds {
-		labels[i] = IndicatorTitle(ind.ID)
+		labels[i] = audit.IndicatorTitle(ind.ID)
 	}
 	d.labelledNotes(labels, inds)
 }
@@ -33,10 +34,10 @@ func (d *doc) indicatorNotes(inds []Indicator) {
 // row that has one, after the population's label.
 func (d *doc) populationNotes(pops [][2]any) {
 	labels := make([]string, 0, len(pops))
-	inds := make([]Indicator, 0, len(pops))
+	inds := make([]audit.Indicator, 0, len(pops))
 	for _, p := range pops {
 		id, _ := p[0].(string)
-		ind, _ := p[1].(Indicator)
+		ind, _ := p[1].(audit.Indicator)
 		labels = append(labels, d.populationLabel(id))
 		inds = append(inds, ind)
 	}
@@ -46,7 +47,7 @@ func (d *doc) populationNotes(pops [][2]any) {
 // labelledNotes prints "† label: note" for every figure with a Note, in one
 // paragraph of small text; figures with the same note share one entry
 // ("† label; label: note"). Nothing is printed when no figure has a note.
-func (d *doc) labelledNotes(labels []string, inds []Indicator) {
+func (d *doc) labelledNotes(labels []string, inds []audit.Indicator) {
 	var notes []string
 	who := map[string][]string{}
 	for i, ind := range inds {
@@ -77,10 +78,10 @@ func (d *doc) labelledNotes(labels []string, inds []Indicator) {
 }
 
 // pick returns the figures of inds with the ids, in the order of ids.
-func pick(inds []Indicator, ids []string) []Indicator {
-	var out []Indicator
+func pick(inds []audit.Indicator, ids []string) []audit.Indicator {
+	var out []audit.Indicator
 	for _, id := range ids {
-		if ind, ok := Find(inds, id); ok {
+		if ind, ok := audit.Find(inds, id); ok {
 			out = append(out, ind)
 		}
 	}
@@ -93,15 +94,15 @@ func pick(inds []Indicator, ids []string) []Indicator {
 // to every row.
 func (d *doc) overviewNotes(ids []string) {
 	m := d.in.Data.Metrics
-	pops := []OperatorResult{{OperatorID: "", Indicators: m.Unit.Indicators}}
+	pops := []audit.OperatorResult{{OperatorID: "", Indicators: m.Unit.Indicators}}
 	pops = append(pops, m.Operators...)
 	var labels []string
-	var inds []Indicator
+	var inds []audit.Indicator
 	for _, id := range ids {
 		var notes []string
 		who := map[string][]string{}
 		for _, p := range pops {
-			ind, ok := Find(p.Indicators, id)
+			ind, ok := audit.Find(p.Indicators, id)
 			if !ok || ind.Note == "" {
 				continue
 			}
@@ -115,12 +116,12 @@ func (d *doc) overviewNotes(ids []string) {
 			who[ind.Note] = append(who[ind.Note], name)
 		}
 		for _, n := range notes {
-			label := IndicatorTitle(id)
+			label := audit.IndicatorTitle(id)
 			if len(who[n]) < len(pops) {
 				label += " (" + strings.Join(who[n], ", ") + ")"
 			}
 			labels = append(labels, label)
-			inds = append(inds, Indicator{Note: n})
+			inds = append(inds, audit.Indicator{Note: n})
 		}
 	}
 	d.labelledNotes(labels, inds)

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"polypledger/audit"
 	"strings"
 	"testing"
 	"time"
@@ -45,13 +46,13 @@ func TestReportsPrintStrictAndNotes(t *testing.T) {
 			methods += oneLine(pg) + " "
 		}
 	}
-	adherence, _ := Find(data.Metrics.Unit.Indicators, "interval_adherence")
+	adherence, _ := audit.Find(data.Metrics.Unit.Indicators, "interval_adherence")
 	tests := []struct {
 		name, text, want string
 	}{
 		{"strict discomfort target", summary, "< 10.0%"},
-		{"caecal intubation note", summary, noteMark + " Caecal intubation rate (CIR); CIR, adjusted for obstruction, prep, colitis: " + cirPhotoNote},
-		{"unit volume note", summary, volumeUnitNote},
+		{"caecal intubation note", summary, noteMark + " Caecal intubation rate (CIR); CIR, adjusted for obstruction, prep, colitis: " + audit.CIRPhotoNote},
+		{"unit volume note", summary, audit.VolumeUnitNote},
 		{"adherence note on the summary page", summary, adherence.Note},
 		{"the summary holds every indicator", summary, "Surveillance interval adherence"},
 		{"a quarter's volume is not judged", personal, "volume is judged over a year or more (target ≥ 100 per year); this period is shorter"},

@@ -6,6 +6,7 @@ import (
 	"slices"
 	"strconv"
 
+	"polypledger/audit"
 	"polypledger/logbook"
 )
 
@@ -27,7 +28,7 @@ func anonymise(in ReportInput) ReportInput {
 		if o.OperatorID == subject {
 			continue
 		}
-		v, _ := Find(o.Indicators, "volume")
+		v, _ := audit.Find(o.Indicators, "volume")
 		peers = append(peers, vol{o.OperatorID, v.Numerator})
 	}
 	slices.SortFunc(peers, func(a, b vol) int {
@@ -42,29 +43,29 @@ func anonymise(in ReportInput) ReportInput {
 		label[p.id] = "peer " + strconv.Itoa(i+1)
 		order[p.id] = i + 1
 	}
-	relabel := func(ops []OperatorResult) []OperatorResult {
-		out := make([]OperatorResult, 0, len(ops))
+	relabel := func(ops []audit.OperatorResult) []audit.OperatorResult {
+		out := make([]audit.OperatorResult, 0, len(ops))
 		for _, o := range ops {
 			l, ok := label[o.OperatorID]
 			if !ok {
 				continue
 			}
-			out = append(out, OperatorResult{OperatorID: l, Indicators: o.Indicators})
+			out = append(out, audit.OperatorResult{OperatorID: l, Indicators: o.Indicators})
 		}
-		slices.SortStableFunc(out, func(a, b OperatorResult) int {
+		slices.SortStableFunc(out, func(a, b audit.OperatorResult) int {
 			return cmp.Compare(orderOf(order, label, a.OperatorID), orderOf(order, label, b.OperatorID))
 		})
 		return out
 	}
 	src := in.Data
-	var d ReportData
+	var d audit.Figures
 	d.Metrics = src.Metrics
 	d.Metrics.Operators = relabel(src.Metrics.Operators)
-	d.Trends = TrendsResult{Standard: src.Trends.Standard}
+	d.Trends = audit.TrendsResult{Standard: src.Trends.Standard}
 	for _, q := range src.Trends.Quarters {
 		m := q.Metrics
 		m.Operators = relabel(q.Metrics.Operators)
-		d.Trends.Quarters = append(d.Trends.Quarters, QuarterResult{Quarter: q.Quarter, Metrics: m})
+		d.Trends.Quarters = append(d.Trends.Quarters, audit.QuarterResult{Quarter: q.Quarter, Metrics: m})
 	}
 	for _, s := range src.Trends.RollingADR {
 		if s.OperatorID == "" || s.OperatorID == subject {
@@ -74,7 +75,7 @@ func anonymise(in ReportInput) ReportInput {
 	for _, p := range src.Details {
 		switch p.OperatorID {
 		case "":
-			u := PopulationDetail{}
+			u := audit.PopulationDetail{}
 			if p.Optical != nil {
 				o := *p.Optical
 				o.PIVI1.Disagreements = nil
@@ -86,7 +87,7 @@ func anonymise(in ReportInput) ReportInput {
 		}
 	}
 	d.Completeness = src.Completeness
-	d.OperatorCompleteness = map[string]Completeness{}
+	d.OperatorCompleteness = map[string]audit.Completeness{}
 	if c, ok := src.OperatorCompleteness[subject]; ok {
 		d.OperatorCompleteness[subject] = c
 	}
@@ -111,13 +112,13 @@ func orderOf(order map[string]int, label map[string]string, l string) int {
 
 // subjectResult returns the subject's indicators, if they have any
 // procedure in the period.
-func (d *doc) subjectResult() (OperatorResult, bool) {
+func (d *doc) subjectResult() (audit.OperatorResult, bool) {
 	for _, o := range d.in.Data.Metrics.Operators {
 		if o.OperatorID == d.in.SubjectID {
 			return o, true
 		}
 	}
-	return OperatorResult{}, false
+	return audit.OperatorResult{}, false
 }
 
 // personalReport lays out one endoscopist's own report.
@@ -138,9 +139,9 @@ func (d *doc) personalReport() {
 		{"Unit", 17, "R"}, {"Target", 17, "R"}, {"Verdict", 32, "L"}}
 	d.periodNote()
 	d.compact = true
-	d.table(cols, d.groupedRows(me.Indicators, func(ind Indicator) []string {
-		u, _ := Find(unit, ind.ID)
-		return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), d.verdictText(ind)}
+	d.table(cols, d.groupedRows(me.Indicators, func(ind audit.Indicator) []string {
+		u, _ := audit.Find(unit, ind.ID)
+		return []string{audit.IndicatorTitle(ind.ID), audit.FormatCases(ind), notedValue(ind), audit.FormatInterval(ind), audit.FormatValue(u), audit.FormatTarget(ind), d.verdictText(ind)}
 	}))
 	d.indicatorNotes(me.Indicators)
 	d.compact = false
@@ -156,7 +157,7 @@ func (d *doc) personalReport() {
 
 // trainee returns the subject's progress, nil when they held the scope for
 // no case in the period.
-func (d *doc) trainee() *TraineeResult {
+func (d *doc) trainee() *audit.TraineeResult {
 	for i := range d.in.Data.Trainees {
 		if d.in.Data.Trainees[i].TraineeID == d.in.SubjectID {
 			return &d.in.Data.Trainees[i]
@@ -177,7 +178,7 @@ func (d *doc) traineeReport() {
 	periodStart := d.in.From.Format("2006-01")
 	if tr.CasesBefore > 0 {
 		d.note(fmt.Sprintf("From the trainee's first case, so that the running total counts every case: %s cases before the period "+
-			"and %s in it.", groupThousands(int64(tr.CasesBefore)), groupThousands(int64(tr.CasesInPeriod))))
+			"and %s in it.", audit.GroupThousands(int64(tr.CasesBefore)), audit.GroupThousands(int64(tr.CasesInPeriod))))
 	}
 	var rows [][]string
 	group := ""
@@ -191,10 +192,10 @@ func (d *doc) traineeReport() {
 			group = g
 		}
 		rows = append(rows, []string{m.Month, strconv.Itoa(m.Independent), strconv.Itoa(m.SupervisedHandsOn),
-			strconv.Itoa(m.SupervisedObserved), strconv.Itoa(m.Unrecorded), strconv.Itoa(m.Total), groupThousands(int64(m.Cumulative))})
+			strconv.Itoa(m.SupervisedObserved), strconv.Itoa(m.Unrecorded), strconv.Itoa(m.Total), audit.GroupThousands(int64(m.Cumulative))})
 	}
-	d.table([]column{{"Month", 30, "L"}, {SupervisionWords(logbook.Independent), 25, "R"}, {SupervisionWords(logbook.SupervisedHandsOn), 28, "R"},
-		{SupervisionWords(logbook.SupervisedObserved), 28, "R"}, {SupervisionWords(""), 25, "R"}, {"Total", 20, "R"}, {"Running total", 24, "R"}}, rows)
+	d.table([]column{{"Month", 30, "L"}, {logbook.Independent.Words(), 25, "R"}, {logbook.SupervisedHandsOn.Words(), 28, "R"},
+		{logbook.SupervisedObserved.Words(), 28, "R"}, {logbook.Supervision("").Words(), 25, "R"}, {"Total", 20, "R"}, {"Running total", 24, "R"}}, rows)
 	d.chart(80, func(o ChartOptions) ([]byte, error) { return TraineeCasesChart(tr.Months, o) }, ChartOptions{})
 
 	d.newPage("Learning curve: unassisted caecal intubation (CUSUM)", true)

@@ -2,61 +2,21 @@ package report
 
 import (
 	"fmt"
+	"polypledger/audit"
+	"polypledger/stats"
+	"polypledger/surveillance"
 	"slices"
 	"strconv"
 	"strings"
 )
 
-// IndicatorGroup is a heading and the indicators under it.
-type IndicatorGroup struct {
-	Title string
-	IDs   []string
-}
-
-// IndicatorGroups orders the indicators under headings, as the reports'
-// tables and the app's figures screen show them; ids no group names go
-// under "Other figures".
-func IndicatorGroups() []IndicatorGroup {
-	return []IndicatorGroup{
-		{"Detection (detection-eligible procedures)", []string{"adr", "adr_male", "adr_female", "adr_stool_test_positive", "ssldr", "pdr", "aadr", "apc", "proximal_sdr"}},
-		{"Completion and bowel preparation", []string{"cir", "cir_adjusted", "caecal_photo", "prep_adequate", "prep_recorded", "prep_adequate_total6", "retroversion"}},
-		{"Withdrawal", []string{"withdrawal_negative", "withdrawal_timed", "withdrawal_6min_share"}},
-		{"Polypectomy", []string{"retrieval", "tattoo_large", "cold_snare_small"}},
-		{"Comfort and safety", []string{"comfort_discomfort", "comfort_recorded", "perforation", "bleeding"}},
-		{"Sedation (median dose)", []string{"sedation_midazolam_median_under70", "sedation_midazolam_median_70plus", "sedation_fentanyl_median_under70", "sedation_fentanyl_median_70plus", "sedation_pethidine_median_under70", "sedation_pethidine_median_70plus"}},
-		{"Volume and computer-aided detection", []string{"volume", "adr_with_aid", "adr_without_aid", "adr_aid_difference"}},
-		{"Optical diagnosis against pathology (lesions)", []string{"pivi1_agreement", "pivi2_npv", "pivi2_npv_neoplasia", "high_confidence_rate", "optical_sensitivity", "optical_specificity", "optical_ppv", "optical_npv", "optical_accuracy", "optical_kappa", "aid_sensitivity", "aid_specificity", "aid_ppv", "aid_npv", "aid_accuracy", "aid_kappa", "optical_aid_kappa"}},
-		{"Surveillance", []string{"interval_adherence"}},
-	}
-}
-
-// groupedRows returns the rows of an indicator table in group order, with
-// group headings and each indicator's note row.
-func (d *doc) groupedRows(inds []Indicator, row func(Indicator) []string) [][]string {
+// groupedRows returns the rows of an indicator table under the catalogue's
+// group headings (audit.Grouped), with each indicator's note row.
+func (d *doc) groupedRows(inds []audit.Indicator, row func(audit.Indicator) []string) [][]string {
 	var out [][]string
-	used := map[string]bool{}
-	for _, g := range IndicatorGroups() {
-		var group []Indicator
-		for _, id := range g.IDs {
-			if ind, ok := Find(inds, id); ok {
-				group = append(group, ind)
-				used[id] = true
-			}
-		}
-		if len(group) > 0 {
-			out = append(out, []string{groupMark + g.Title})
-			out = append(out, d.withNotes(group, row)...)
-		}
-	}
-	var rest []Indicator
-	for _, ind := range inds {
-		if !used[ind.ID] {
-			rest = append(rest, ind)
-		}
-	}
-	if len(rest) > 0 {
-		out = append(out, []string{groupMark + "Other figures"})
-		out = append(out, d.withNotes(rest, row)...)
+	for _, g := range audit.Grouped(inds) {
+		out = append(out, []string{groupMark + g.Title})
+		out = append(out, d.withNotes(g.Indicators, row)...)
 	}
 	return out
 }
@@ -119,7 +79,7 @@ func (d *doc) cover() {
 		[2]string{"Standard", in.Profile.Title + " (" + in.Profile.ID + ")"},
 		[2]string{"Source", in.Profile.Source},
 		[2]string{"Surveillance guideline", in.Guideline.Title() + " (" + string(in.Guideline) + ")"},
-		[2]string{"Optical diagnosis rules", eligibilityText(in.Eligibility)},
+		[2]string{"Optical diagnosis rules", discardRulesText(in.Discard)},
 		[2]string{"Generated on", formatDay(in.GeneratedOn)},
 	)
 	c := in.Data.Completeness
@@ -133,18 +93,18 @@ func (d *doc) cover() {
 			inds = nil
 		}
 		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures and %s lesions by this endoscopist in the period "+
-			"(the unit's: %s procedures)", groupThousands(int64(c.Procedures)), groupThousands(int64(c.Lesions)),
-			groupThousands(int64(in.Data.Completeness.Procedures)))})
+			"(the unit's: %s procedures)", audit.GroupThousands(int64(c.Procedures)), audit.GroupThousands(int64(c.Lesions)),
+			audit.GroupThousands(int64(in.Data.Completeness.Procedures)))})
 	case TraineeReport:
 		before := 0
 		if tr := d.trainee(); tr != nil {
 			before = tr.CasesBefore
 		}
 		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures and %s lesions with the trainee holding the scope in the period; "+
-			"%s earlier procedures since the trainee's first case count in the learning curve", groupThousands(int64(c.Procedures)),
-			groupThousands(int64(c.Lesions)), groupThousands(int64(before)))})
+			"%s earlier procedures since the trainee's first case count in the learning curve", audit.GroupThousands(int64(c.Procedures)),
+			audit.GroupThousands(int64(c.Lesions)), audit.GroupThousands(int64(before)))})
 	default:
-		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures, %s lesions", groupThousands(int64(c.Procedures)), groupThousands(int64(c.Lesions)))})
+		rows = append(rows, [2]string{"Records", fmt.Sprintf("%s procedures, %s lesions", audit.GroupThousands(int64(c.Procedures)), audit.GroupThousands(int64(c.Lesions)))})
 		rows = append(rows, [2]string{"Endoscopists", strconv.Itoa(len(in.Data.Metrics.Operators)) + " with at least one procedure in the period"})
 	}
 	d.keyValues(rows, 42)
@@ -160,7 +120,7 @@ func (d *doc) cover() {
 		return []string{field, strconv.Itoa(k), fmt.Sprintf("%d %s", n, of), pct(k, n)}
 	}
 	complete := 0
-	if ind, ok := Find(inds, "cir"); ok {
+	if ind, ok := audit.Find(inds, "cir"); ok {
 		complete = int(ind.Numerator)
 	}
 	if in.Kind == TraineeReport {
@@ -188,19 +148,19 @@ func (d *doc) cover() {
 		line("Procedures awaiting any histology", c.PendingProcedures, c.Procedures, "procedures"),
 	)
 	d.table([]column{{"Field not recorded", 90, "L"}, {"Missing", 22, "R"}, {"Of", 40, "R"}, {"Share", 28, "R"}}, tbl)
-	if adr, ok := Find(inds, "adr"); ok && adr.AwaitingHistology > 0 && in.Kind != TraineeReport {
+	if adr, ok := audit.Find(inds, "adr"); ok && adr.AwaitingHistology > 0 && in.Kind != TraineeReport {
 		d.note(fmt.Sprintf("%d detection-eligible procedures still await histology. Until it is reported they count as "+
 			"having no adenoma, so detection rates may rise once results arrive.", adr.AwaitingHistology))
 	}
 	d.pdf.Ln(2)
-	d.boxed(AuditCaution() + " " + IntervalCaution(in.Guideline))
+	d.boxed(audit.AuditCaution() + " " + surveillance.IntervalCaution(in.Guideline))
 }
 
-// eligibilityText describes the unit's optical-diagnosis settings.
-func eligibilityText(s EligibilitySettings) string {
-	s = s.withDefaults()
+// discardRulesText describes the unit's optical-diagnosis settings.
+func discardRulesText(s audit.DiscardSettings) string {
+	s = s.WithDefaults()
 	rules := "PIVI thresholds (ASGE 2011)"
-	if s.RuleSet == RuleSetESGE2022 {
+	if s.RuleSet == audit.RuleSetESGE2022 {
 		rules = "ESGE 2022 competence standards"
 	}
 	return fmt.Sprintf("%s; at least %d cases before a figure is judged (a local choice)", rules, s.MinCases)
@@ -230,29 +190,28 @@ func (d *doc) operatorOverview() {
 	d.note("Key figures per endoscopist: value and verdict mark (● meets, ▼ below, ○ too few cases to judge). " +
 		"Each endoscopist's page gives cases, intervals and targets.")
 	cols := []column{{"Endoscopist", 40, "L"}, {"Procedures", 17, "R"}}
-	short := map[string]string{"adr": "ADR", "cir": "CIR", "prep_adequate": "Prep adequate", "withdrawal_negative": "Withdrawal",
-		"pivi1_agreement": "PIVI 1 agreement", "pivi2_npv": "PIVI 2 NPV", "interval_adherence": "Interval adherence"}
 	for _, id := range overviewIDs() {
-		cols = append(cols, column{short[id], 17.5, "R"})
+		def, _ := audit.Lookup(id)
+		cols = append(cols, column{def.Short, 17.5, "R"})
 	}
 	var rows [][]string
-	line := func(label string, inds []Indicator) []string {
+	line := func(label string, inds []audit.Indicator) []string {
 		r := []string{label, ""}
-		if v, ok := Find(inds, "volume"); ok {
+		if v, ok := audit.Find(inds, "volume"); ok {
 			r[1] = fmt.Sprintf("%.0f", v.Numerator)
 		}
 		for _, id := range overviewIDs() {
-			ind, _ := Find(inds, id)
+			ind, _ := audit.Find(inds, id)
 			r = append(r, d.shortVerdict(ind))
 		}
 		return r
 	}
 	rows = append(rows, line("Whole unit", d.in.Data.Metrics.Unit.Indicators))
 	forest := []ForestRow{{Label: "unit"}}
-	forest[0].Indicator, _ = Find(d.in.Data.Metrics.Unit.Indicators, "adr")
+	forest[0].Indicator, _ = audit.Find(d.in.Data.Metrics.Unit.Indicators, "adr")
 	for _, o := range d.in.Data.Metrics.Operators {
 		rows = append(rows, line(d.name(o.OperatorID), o.Indicators))
-		adr, _ := Find(o.Indicators, "adr")
+		adr, _ := audit.Find(o.Indicators, "adr")
 		forest = append(forest, ForestRow{Label: o.OperatorID, Indicator: adr})
 	}
 	d.table(cols, rows)
@@ -267,7 +226,7 @@ func (d *doc) operatorOverview() {
 
 // funnelData builds the funnel of an indicator with the profile's target.
 func (d *doc) funnelData(id string) (FunnelData, error) {
-	f, err := NewFunnel(d.in.Data.Metrics, id)
+	f, err := audit.NewFunnel(d.in.Data.Metrics, id)
 	if err != nil {
 		return FunnelData{}, err
 	}
@@ -290,10 +249,10 @@ func (d *doc) funnels(highlight string) {
 		"pooled rate; dashed and dotted curves are the 95% and 99.8% exact binomial control limits around it " +
 		"(Spiegelhalter 2005). A point outside the 99.8% limits is unlikely to differ by chance alone; it is a prompt to look " +
 		"at the records, not a verdict.")
-	for _, id := range FunnelIDs() {
+	for _, id := range audit.FunnelIDs() {
 		fd, err := d.funnelData(id)
 		if err != nil {
-			d.subheading(IndicatorTitle(id), 10)
+			d.subheading(audit.IndicatorTitle(id), 10)
 			d.note("No funnel plot: " + err.Error() + ".")
 			continue
 		}
@@ -301,9 +260,9 @@ func (d *doc) funnels(highlight string) {
 		d.chart(92, func(o ChartOptions) ([]byte, error) { return FunnelChart(fd, o) }, ChartOptions{Highlight: highlight})
 		var out []string
 		for _, p := range fd.Funnel.Points {
-			if p.Outside95 != SideWithin {
+			if p.Outside95 != stats.SideWithin {
 				s := fmt.Sprintf("%s %s the 95%% limit (%d/%d, %.1f%%", p.OperatorID, p.Outside95, p.K, p.N, 100*p.Rate)
-				if p.Outside998 != SideWithin {
+				if p.Outside998 != stats.SideWithin {
 					s += fmt.Sprintf("; also %s the 99.8%% limit", p.Outside998)
 				}
 				out = append(out, s+")")
@@ -325,14 +284,14 @@ func scorecardIDs() []string {
 }
 
 // scorecard prints an operator's figures beside the unit's.
-func (d *doc) scorecard(inds []Indicator, ids []string) {
+func (d *doc) scorecard(inds []audit.Indicator, ids []string) {
 	unit := d.in.Data.Metrics.Unit.Indicators
 	cols := []column{{"Indicator", 48, "L"}, {"Cases", 22, "R"}, {"Value", 18, "R"}, {"95% interval", 26, "R"},
 		{"Unit", 17, "R"}, {"Target", 17, "R"}, {"Verdict", 32, "L"}}
 	chosen := pick(inds, ids)
-	d.table(cols, d.withNotes(chosen, func(ind Indicator) []string {
-		u, _ := Find(unit, ind.ID)
-		return []string{IndicatorTitle(ind.ID), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatValue(u), FormatTarget(ind), d.verdictText(ind)}
+	d.table(cols, d.withNotes(chosen, func(ind audit.Indicator) []string {
+		u, _ := audit.Find(unit, ind.ID)
+		return []string{audit.IndicatorTitle(ind.ID), audit.FormatCases(ind), notedValue(ind), audit.FormatInterval(ind), audit.FormatValue(u), audit.FormatTarget(ind), d.verdictText(ind)}
 	}))
 	d.indicatorNotes(chosen)
 }
@@ -351,11 +310,11 @@ func (d *doc) quarterSeries(operatorID, id string) []TrendPoint {
 				}
 			}
 		}
-		ind, ok := Find(inds, id)
+		ind, ok := audit.Find(inds, id)
 		if !ok {
-			ind = Indicator{ID: id, Status: TooFew}
+			ind = audit.Indicator{ID: id, Status: audit.TooFew}
 		}
-		out = append(out, TrendPoint{Label: q.Quarter, Indicator: ind, Provisional: ProvisionalNote(ind, q.Unfinished(d.today))})
+		out = append(out, TrendPoint{Label: q.Quarter, Indicator: ind, Provisional: audit.ProvisionalNote(ind, q.Unfinished(d.today))})
 	}
 	return out
 }
@@ -384,7 +343,7 @@ func (d *doc) unitTrends() {
 
 // operatorPage prints one endoscopist's scorecard, quarterly ADR and place
 // on the ADR funnel.
-func (d *doc) operatorPage(o OperatorResult) {
+func (d *doc) operatorPage(o audit.OperatorResult) {
 	d.newPage("Endoscopist "+d.name(o.OperatorID), true)
 	d.periodNote()
 	d.scorecard(o.Indicators, scorecardIDs())
@@ -404,13 +363,13 @@ func (d *doc) aidComparison() {
 	cols := []column{{"Population", 48, "L"}, {"With aid", 40, "R"}, {"Without aid", 40, "R"}, {"Difference [95% interval]", 52, "R"}}
 	var rows [][]string
 	var forest []ForestRow
-	for _, c := range AidComparisons(d.in.Data.Metrics) {
+	for _, c := range audit.AidComparisons(d.in.Data.Metrics) {
 		label := "Whole unit"
 		if c.OperatorID != "" {
 			label = d.name(c.OperatorID)
 		}
-		diff := FormatValue(c.Difference)
-		if iv := FormatInterval(c.Difference); iv != "" {
+		diff := audit.FormatValue(c.Difference)
+		if iv := audit.FormatInterval(c.Difference); iv != "" {
 			diff += " " + iv
 		}
 		rows = append(rows, []string{label, aidCell(c.With), aidCell(c.Without), diff})
@@ -426,17 +385,17 @@ func (d *doc) aidComparison() {
 	d.chart(min(150, 30+6.5*float64(len(forest))), func(o ChartOptions) ([]byte, error) { return ForestChart(fd, o) }, ChartOptions{})
 }
 
-func aidCell(ind Indicator) string {
+func aidCell(ind audit.Indicator) string {
 	if ind.Denominator == 0 {
 		return "no procedures"
 	}
-	return FormatCases(ind) + "  " + FormatValue(ind)
+	return audit.FormatCases(ind) + "  " + audit.FormatValue(ind)
 }
 
 // opticalPopulations are the populations of the optical section: the unit
 // then every operator with its detail.
-func (d *doc) opticalPopulations() []PopulationDetail {
-	var out []PopulationDetail
+func (d *doc) opticalPopulations() []audit.PopulationDetail {
+	var out []audit.PopulationDetail
 	for _, p := range d.in.Data.Details {
 		if p.Optical != nil {
 			out = append(out, p)
@@ -489,7 +448,7 @@ func (d *doc) optical() {
 		a := o.PIVI1.Agreement
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(a.Denominator), strconv.Itoa(o.PIVI1.Agree),
 			strconv.Itoa(o.PIVI1.Shorter), strconv.Itoa(o.PIVI1.Longer), strconv.Itoa(o.PIVI1.Outside),
-			strings.TrimSpace(d.shortVerdict(a) + " " + FormatInterval(a))})
+			strings.TrimSpace(d.shortVerdict(a) + " " + audit.FormatInterval(a))})
 		label := "unit"
 		if p.OperatorID != "" {
 			label = p.OperatorID
@@ -498,7 +457,7 @@ func (d *doc) optical() {
 		p2 = append(p2, ForestRow{Label: label, Indicator: o.PIVI2.NPV})
 	}
 	d.table(cols, rows)
-	piviT := PIVIThreshold
+	piviT := audit.PIVIThreshold
 	fd := ForestData{IndicatorID: "pivi1_agreement", Rows: p1, Reference: &piviT, ReferenceLabel: "PIVI threshold 90%"}
 	d.chart(min(140, 30+6.5*float64(len(p1))), func(o ChartOptions) ([]byte, error) { return ForestChart(fd, o) }, ChartOptions{})
 
@@ -512,7 +471,7 @@ func (d *doc) optical() {
 		n := p.Optical.PIVI2.NPV
 		nn := p.Optical.PIVI2.NPVNeoplasia
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(n.Denominator),
-			strings.TrimSpace(FormatValue(n) + " " + FormatInterval(n)), d.verdictText(n), FormatValue(nn)})
+			strings.TrimSpace(audit.FormatValue(n) + " " + audit.FormatInterval(n)), d.verdictText(n), audit.FormatValue(nn)})
 	}
 	d.table(cols, rows)
 	fd2 := ForestData{IndicatorID: "pivi2_npv", Rows: p2, Reference: &piviT, ReferenceLabel: "PIVI threshold 90%"}
@@ -523,7 +482,7 @@ func (d *doc) optical() {
 }
 
 // opticalTables prints the unit's 2×2 and three-class tables.
-func (d *doc) opticalTables(o *OpticalDetail) {
+func (d *doc) opticalTables(o *audit.OpticalDetail) {
 	d.subheading("Whole unit: calls against histology", 30)
 	t := o.Endoscopist.Table
 	d.table([]column{{"Endoscopist's call", 50, "L"}, {"Histology adenoma", 35, "R"}, {"Histology not adenoma", 38, "R"}, {"Total", 25, "R"}},
@@ -547,14 +506,14 @@ func (d *doc) opticalTables(o *OpticalDetail) {
 }
 
 // withInterval prints a value with its 95% interval under it.
-func withInterval(ind Indicator) string {
-	if iv := FormatInterval(ind); iv != "" {
-		return FormatValue(ind) + "\n" + iv
+func withInterval(ind audit.Indicator) string {
+	if iv := audit.FormatInterval(ind); iv != "" {
+		return audit.FormatValue(ind) + "\n" + iv
 	}
-	return FormatValue(ind)
+	return audit.FormatValue(ind)
 }
 
-func kappaText(k Kappa) string {
+func kappaText(k stats.Kappa) string {
 	if k.N == 0 || k.Kappa != k.Kappa {
 		return "not defined"
 	}
@@ -562,12 +521,12 @@ func kappaText(k Kappa) string {
 }
 
 // eligibility prints the threshold checks per population.
-func (d *doc) eligibility(pops []PopulationDetail) {
+func (d *doc) eligibility(pops []audit.PopulationDetail) {
 	d.subheading("Eligibility for resect-and-discard and diagnose-and-leave", 40)
-	s := d.in.Eligibility.withDefaults()
+	s := d.in.Discard.WithDefaults()
 	d.note(fmt.Sprintf("Rule set: %s. A threshold is met on the value when the point estimate reaches it, and on the lower limit "+
 		"when the lower end of the 95%% interval does too; fewer than %d cases (the unit's local minimum) are not judged.",
-		eligibilityText(s), s.MinCases))
+		discardRulesText(s), s.MinCases))
 	cols := []column{{"Population", 40, "L"}, {"Strategy", 30, "L"}, {"Figure", 30, "R"}, {"Threshold", 16, "R"},
 		{"Met on value", 18, "C"}, {"Met on lower limit", 24, "C"}, {"Enough cases", 22, "C"}}
 	var rows [][]string
@@ -578,9 +537,9 @@ func (d *doc) eligibility(pops []PopulationDetail) {
 		return "no"
 	}
 	for _, p := range pops {
-		for _, c := range p.Optical.Eligibility.Checks {
+		for _, c := range p.Optical.Discard.Checks {
 			rows = append(rows, []string{d.populationLabel(p.OperatorID), strings.ReplaceAll(c.Strategy, "_", " "),
-				FormatCases(c.Figure) + " " + FormatValue(c.Figure), fmt.Sprintf("%.0f%%", 100*c.Threshold),
+				audit.FormatCases(c.Figure) + " " + audit.FormatValue(c.Figure), fmt.Sprintf("%.0f%%", 100*c.Threshold),
 				yes(c.MetOnValue), yes(c.MetOnLowerLimit), fmt.Sprintf("%s (%d)", yes(c.EnoughCases), c.Cases)})
 		}
 	}
@@ -589,30 +548,30 @@ func (d *doc) eligibility(pops []PopulationDetail) {
 		{"Specimens saved", 28, "R"}, {"Interval shorter", 22, "R"}, {"Interval longer", 22, "R"}}
 	rows = nil
 	for _, p := range pops {
-		e := p.Optical.Eligibility
+		e := p.Optical.Discard
 		rows = append(rows, []string{d.populationLabel(p.OperatorID), strconv.Itoa(e.DiscardEligible), strconv.Itoa(e.LeaveEligible),
 			strconv.Itoa(e.SpecimensSaved), strconv.Itoa(e.IntervalShorter), strconv.Itoa(e.IntervalLonger)})
 	}
 	d.table(cols, rows)
-	d.boxed(EligibilityCaution())
+	d.boxed(audit.DiscardCaution())
 }
 
 // disagreements lists the procedures whose optical-based interval would
 // have been longer (the unsafe direction) or outside the guideline.
-func (d *doc) disagreements(pops []PopulationDetail) {
+func (d *doc) disagreements(pops []audit.PopulationDetail) {
 	// The unit report lists the unit's procedures; a personal report only
 	// the subject's own.
 	want := ""
 	if d.in.Kind == PersonalReport {
 		want = d.in.SubjectID
 	}
-	var list []IntervalDisagreement
+	var list []audit.IntervalDisagreement
 	for _, p := range pops {
 		if p.OperatorID != want {
 			continue
 		}
 		for _, x := range p.Optical.PIVI1.Disagreements {
-			if x.Kind != PIVI1OpticalShorter {
+			if x.Kind != audit.PIVI1OpticalShorter {
 				list = append(list, x)
 			}
 		}
@@ -627,19 +586,19 @@ func (d *doc) disagreements(pops []PopulationDetail) {
 	d.disagreementTable(list, 60)
 }
 
-func (d *doc) disagreementTable(list []IntervalDisagreement, limit int) {
+func (d *doc) disagreementTable(list []audit.IntervalDisagreement, limit int) {
 	cols := []column{{"Procedure", 26, "L"}, {"Patient code", 28, "L"}, {"Endoscopist", 22, "L"}, {"Date", 22, "L"},
 		{"Optical interval", 24, "L"}, {"Histology interval", 26, "L"}, {"Direction", 32, "L"}}
-	slices.SortStableFunc(list, func(a, b IntervalDisagreement) int { return strings.Compare(string(a.Kind), string(b.Kind)) })
+	slices.SortStableFunc(list, func(a, b audit.IntervalDisagreement) int { return strings.Compare(string(a.Kind), string(b.Kind)) })
 	var rows [][]string
 	for i, x := range list {
 		if i == limit {
 			break
 		}
 		dir := "optical longer (unsafe)"
-		if x.Kind == PIVI1OpticalOutside {
+		if x.Kind == audit.PIVI1OpticalOutside {
 			dir = "optical outside guideline"
-		} else if x.Kind == PIVI1OpticalShorter {
+		} else if x.Kind == audit.PIVI1OpticalShorter {
 			dir = "optical shorter"
 		}
 		rows = append(rows, []string{x.ProcedureID, x.Patient, x.OperatorID, x.PerformedOn, string(x.Optical), string(x.Histology), dir})
@@ -654,7 +613,7 @@ func (d *doc) disagreementTable(list []IntervalDisagreement, limit int) {
 // first procedures whose recorded interval differs.
 func (d *doc) adherence() {
 	inds := [][2]any{}
-	unit, ok := Find(d.in.Data.Metrics.Unit.Indicators, "interval_adherence")
+	unit, ok := audit.Find(d.in.Data.Metrics.Unit.Indicators, "interval_adherence")
 	if !ok {
 		return
 	}
@@ -663,15 +622,15 @@ func (d *doc) adherence() {
 		"procedures with a recorded recommendation; those whose interval still awaits histology are left out and counted in a note. Codes are compared as written, so a range and a single value differ.", d.in.Guideline.Title()))
 	inds = append(inds, [2]any{"", unit})
 	for _, o := range d.in.Data.Metrics.Operators {
-		if ind, ok := Find(o.Indicators, "interval_adherence"); ok {
+		if ind, ok := audit.Find(o.Indicators, "interval_adherence"); ok {
 			inds = append(inds, [2]any{o.OperatorID, ind})
 		}
 	}
 	var rows [][]string
 	var forest []ForestRow
 	for _, x := range inds {
-		id, ind := x[0].(string), x[1].(Indicator)
-		rows = append(rows, []string{d.populationLabel(id), FormatCases(ind), notedValue(ind), FormatInterval(ind), FormatTarget(ind), d.verdictText(ind)})
+		id, ind := x[0].(string), x[1].(audit.Indicator)
+		rows = append(rows, []string{d.populationLabel(id), audit.FormatCases(ind), notedValue(ind), audit.FormatInterval(ind), audit.FormatTarget(ind), d.verdictText(ind)})
 		label := "unit"
 		if id != "" {
 			label = id
@@ -685,17 +644,17 @@ func (d *doc) adherence() {
 		fd.Reference, fd.ReferenceLabel = t, "target"
 	}
 	d.chart(min(140, 30+6.5*float64(len(forest))), func(o ChartOptions) ([]byte, error) { return ForestChart(fd, o) }, ChartOptions{})
-	var list []AdherenceMismatch
+	var list []audit.AdherenceMismatch
 	for _, p := range d.in.Data.Details {
 		if p.OperatorID == "" || d.in.Kind == PersonalReport {
 			list = append(list, p.Mismatches...)
 		}
 	}
 	d.mismatchTable(list, 40)
-	d.boxed(IntervalCaution(d.in.Guideline))
+	d.boxed(surveillance.IntervalCaution(d.in.Guideline))
 }
 
-func (d *doc) mismatchTable(list []AdherenceMismatch, limit int) {
+func (d *doc) mismatchTable(list []audit.AdherenceMismatch, limit int) {
 	d.subheading("Procedures whose recorded interval differs", 30)
 	if len(list) == 0 {
 		d.note("None in this period.")

@@ -2,6 +2,7 @@ package report
 
 import (
 	"io"
+	"polypledger/audit"
 	"testing"
 	"time"
 )
@@ -17,7 +18,7 @@ var benchPeriod = [2]time.Time{time.Date(2024, 11, 1, 0, 0, 0, 0, time.UTC), tim
 
 func benchReport(b *testing.B, n int, withPass bool) {
 	p := testProfile(b, "asge-acg-2024")
-	var data ReportData
+	var data audit.Figures
 	if !withPass {
 		data = demoReportData(b, p, n, benchPeriod[0], benchPeriod[1], nil)
 	}

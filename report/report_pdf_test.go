@@ -7,8 +7,10 @@ import (
 	"testing"
 	"time"
 
+	"polypledger/audit"
 	"polypledger/demo"
 	"polypledger/logbook"
+	"polypledger/surveillance"
 )
 
 var (
@@ -57,7 +59,7 @@ func TestUnitReportSections(t *testing.T) {
 		// Every method and source the issue names.
 		"Wilson score interval", "Clopper–Pearson", "Garwood", "Newcombe", "Student t", "Spiegelhalter", "Cohen's kappa",
 		"PIVI", "Bolsin S, Colson M", "Lai EJ", p.Source,
-		USMSTF2020.Source(), ESGE2020.Source(), BSG2020.Source(),
+		surveillance.USMSTF2020.Source(), surveillance.ESGE2020.Source(), surveillance.BSG2020.Source(),
 	}
 	for _, s := range want {
 		if !strings.Contains(all, oneLine(s)) {
@@ -173,7 +175,7 @@ func TestTraineeLogbook(t *testing.T) {
 
 func TestWritePDFRefusesBadInput(t *testing.T) {
 	p := testProfile(t, "asge-acg-2024")
-	base := testInput(UnitReport, p, "", period2025From, period2025To, ReportData{})
+	base := testInput(UnitReport, p, "", period2025From, period2025To, audit.Figures{})
 	cases := []struct {
 		name   string
 		change func(*ReportInput)

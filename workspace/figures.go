@@ -4,67 +4,91 @@ import (
 	"context"
 	"time"
 
+	"polypledger/audit"
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/store"
+	"polypledger/surveillance"
 )
 
-// Figures is everything a screen of figures or a report shows for one
-// period, computed in one streaming pass (report.ReportPass): the
-// indicators of the unit and every operator with the optical-diagnosis and
-// interval figures, the quarterly trends, every trainee's progress and the
-// data completeness.
-type Figures struct {
-	Guideline report.Guideline
-	Data      report.ReportData
-	// Cases is how many procedures of the period were read.
-	Cases int
+// Request is what a figures screen, the metrics command or a report asks
+// for; the command line and the app fill in the same fields and go through
+// Audit.Figures (and Audit.WriteReport), so that the same request gives
+// the same figures on every path.
+type Request struct {
+	// From and To bound the period, both days included; a zero time
+	// leaves that end open.
+	From, To time.Time
+	// Whose figures: the whole unit, one endoscopist (every case of the
+	// period is read, for the comparison with the unit and the peers) or
+	// one trainee (the cases the trainee held the scope for, from the
+	// trainee's first case).
+	Whose Population
+	// Guideline is the surveillance guideline of PIVI 1 and interval
+	// adherence; "" means the unit's default (Audit.Guideline).
+	Guideline surveillance.Guideline
+	// Now is when the request is made: a report prints it on its cover and
+	// calls the figures of a period not yet over provisional.
+	Now time.Time
+	// MetricsOnly asks for the indicators alone, without trends or
+	// trainees' progress (the metrics command).
+	MetricsOnly bool
+}
+
+// Population chooses whose figures are looked at: the whole unit (both ids
+// empty), one accountable endoscopist, or one trainee (the cases the trainee
+// held the scope for).
+type Population struct {
+	OperatorID string
+	TraineeID  string
+}
+
+// Indicators returns the population's indicators from figures computed for
+// a request of that population, and whether it had any: the unit's, the
+// endoscopist's (false without a procedure in the period) or the trainee's
+// own (false when the trainee held the scope for no case in the period).
+// The metrics command's --operator and the figures screen both pick a
+// population's figures with it.
+func (p Population) Indicators(f audit.Figures) ([]audit.Indicator, bool) {
+	switch {
+	case p.TraineeID != "":
+		for _, t := range f.Trainees {
+			if t.TraineeID == p.TraineeID {
+				return t.Indicators, true
+			}
+		}
+		return nil, false
+	case p.OperatorID != "":
+		for _, o := range f.Metrics.Operators {
+			if o.OperatorID == p.OperatorID {
+				return o.Indicators, true
+			}
+		}
+		return nil, false
+	}
+	return f.Metrics.Unit.Indicators, true
 }
 
 // progressEvery is how many cases pass between progress reports.
 const progressEvery = 5000
 
-// ComputeFigures reads the period's cases once (both ends included; a zero
-// time leaves that end open) and feeds every accumulator the figures
-// screen needs, then each trainee's earlier cases, so that every learning
-// curve runs from the trainee's first case. progress, when set, is called
-// with the number of cases read so far every few thousand cases;
-// cancelling ctx stops the pass.
-func (a *Audit) ComputeFigures(ctx context.Context, from, to time.Time, g report.Guideline, progress func(cases int)) (Figures, error) {
-	roster, err := a.Store.Roster(ctx)
+// Figures computes what req asks for in one streaming pass (audit.Pass)
+// under the audit's profile, guideline and resect-and-discard settings:
+// the period's cases — for a trainee only those the trainee held the scope
+// for, and then the trainee's earlier cases, so that the learning curve
+// runs from the first case. progress, when set, is called with the number
+// of the period's cases read so far every few thousand cases; cancelling
+// ctx stops the pass.
+func (a *Audit) Figures(ctx context.Context, req Request, progress func(cases int)) (audit.Figures, error) {
+	g := req.Guideline
+	if g == "" {
+		g, _ = a.Guideline("")
+	}
+	pass, err := audit.NewPass(a.Profile, audit.PassOptions{From: req.From, To: req.To, Guideline: g,
+		Discard: a.Discard(), MetricsOnly: req.MetricsOnly})
 	if err != nil {
-		return Figures{}, err
+		return audit.Figures{}, err
 	}
-	var trainees []string
-	for _, r := range roster {
-		if r.Role == logbook.RoleTrainee {
-			trainees = append(trainees, r.ID)
-		}
-	}
-	return a.figures(ctx, store.CaseFilter{From: from, To: to}, from, to, g, trainees, progress)
-}
-
-// ReportFigures computes what the report req asks for shows, the same for
-// the command line and the app: the unit audit and a personal report read
-// every case of the period (a personal report compares with the unit and
-// anonymous peers); a trainee's logbook reads the cases the trainee held
-// the scope for, from the trainee's first case to the period's end.
-func (a *Audit) ReportFigures(ctx context.Context, req ReportRequest, progress func(cases int)) (Figures, error) {
-	if req.Kind == report.TraineeReport {
-		f := store.CaseFilter{From: req.From, To: req.To, TraineeID: req.SubjectID}
-		return a.figures(ctx, f, req.From, req.To, req.Guideline, []string{req.SubjectID}, progress)
-	}
-	return a.figures(ctx, store.CaseFilter{From: req.From, To: req.To}, req.From, req.To, req.Guideline, nil, progress)
-}
-
-// figures feeds the cases selected by f to a report pass over from–to, and
-// then the cases of each of trainees before from.
-func (a *Audit) figures(ctx context.Context, f store.CaseFilter, from, to time.Time, g report.Guideline, trainees []string,
-	progress func(cases int)) (Figures, error) {
-	pass, err := report.NewReportPass(a.Profile, report.ReportPassOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
-	if err != nil {
-		return Figures{}, err
-	}
+	trainee := req.Whose.TraineeID
 	n := 0
 	count := func(c *logbook.Case) {
 		pass.Add(c)
@@ -73,19 +97,16 @@ func (a *Audit) figures(ctx context.Context, f store.CaseFilter, from, to time.T
 			progress(n)
 		}
 	}
-	if err := StreamCases(ctx, a.Store, f, count); err != nil {
-		return Figures{}, err
+	if err := StreamCases(ctx, a.Store, store.CaseFilter{From: req.From, To: req.To, TraineeID: trainee}, count); err != nil {
+		return audit.Figures{}, err
 	}
-	read := n
-	if !from.IsZero() {
-		for _, id := range trainees {
-			earlier := store.CaseFilter{To: from.AddDate(0, 0, -1), TraineeID: id}
-			if err := StreamCases(ctx, a.Store, earlier, pass.Add); err != nil {
-				return Figures{}, err
-			}
+	if trainee != "" && !req.From.IsZero() && !req.MetricsOnly {
+		earlier := store.CaseFilter{To: req.From.AddDate(0, 0, -1), TraineeID: trainee}
+		if err := StreamCases(ctx, a.Store, earlier, pass.Add); err != nil {
+			return audit.Figures{}, err
 		}
 	}
-	return Figures{Guideline: g, Data: pass.Result(), Cases: read}, nil
+	return pass.Result(), nil
 }
 
 // StreamCases feeds every case f selects to add in one pass. Reading the
@@ -133,12 +154,4 @@ func StreamCases(ctx context.Context, st *store.Store, f store.CaseFilter, add f
 	close(full)
 	<-done
 	return err
-}
-
-// Population chooses whose figures are looked at: the whole unit (both ids
-// empty), one accountable endoscopist, or one trainee (the cases the trainee
-// held the scope for).
-type Population struct {
-	OperatorID string
-	TraineeID  string
 }

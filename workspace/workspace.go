@@ -14,10 +14,11 @@ import (
 	"time"
 
 	"polypledger/assets"
+	"polypledger/audit"
 	"polypledger/demo"
 	"polypledger/logbook"
-	"polypledger/report"
 	"polypledger/store"
+	"polypledger/surveillance"
 )
 
 // OpenStore opens the database at path (creating it whole if it does not
@@ -109,13 +110,13 @@ func DemoKey(seed uint64) []byte { return []byte(fmt.Sprintf("polypledger demo k
 
 // RecommendFor returns the function the demo uses to fill in the interval an
 // endoscopist recorded: the program's own suggestion under guideline g (an
-// unknown guideline is read as report.DefaultGuideline).
+// unknown guideline is read as surveillance.DefaultGuideline).
 func RecommendFor(g string) func(c *logbook.Case) logbook.Interval {
-	gl, err := report.ParseGuideline(g)
+	gl, err := surveillance.ParseGuideline(g)
 	if err != nil {
-		gl = report.DefaultGuideline
+		gl = surveillance.DefaultGuideline
 	}
-	return func(c *logbook.Case) logbook.Interval { return report.Suggest(gl, c).Interval }
+	return func(c *logbook.Case) logbook.Interval { return surveillance.Suggest(gl, c).Interval }
 }
 
 // CreateDemo fills an empty database with the invented demo unit: its
@@ -136,12 +137,12 @@ func CreateDemo(ctx context.Context, st *store.Store, n int, seed uint64, progre
 
 // LoadProfiles reads the shipped standard profiles and the user's own copies
 // from the config folder's "standards" subfolder.
-func LoadProfiles() ([]*report.Profile, error) {
+func LoadProfiles() ([]*audit.Profile, error) {
 	dir, err := store.ConfigDir()
 	if err != nil {
 		return nil, err
 	}
-	return report.LoadProfiles(assets.Standards, os.DirFS(filepath.Join(dir, "standards")))
+	return audit.LoadProfiles(assets.Standards, os.DirFS(filepath.Join(dir, "standards")))
 }
 
 // ErrUnknownStandard is matched (errors.Is) by the error NewAudit returns
@@ -168,12 +169,12 @@ func (e choiceError) Unwrap() error        { return e.err }
 type Audit struct {
 	Store    *store.Store
 	Settings store.Settings
-	Profile  *report.Profile
+	Profile  *audit.Profile
 }
 
 // NewAudit reads the unit settings of st and picks the profile with id
 // standard from profiles (the unit's default standard when standard is "").
-func NewAudit(ctx context.Context, st *store.Store, standard string, profiles []*report.Profile) (*Audit, error) {
+func NewAudit(ctx context.Context, st *store.Store, standard string, profiles []*audit.Profile) (*Audit, error) {
 	settings, err := st.Settings(ctx)
 	if err != nil {
 		return nil, err
@@ -181,7 +182,7 @@ func NewAudit(ctx context.Context, st *store.Store, standard string, profiles []
 	if standard == "" {
 		standard = settings.DefaultStandard
 	}
-	p, err := report.FindProfile(profiles, standard)
+	p, err := audit.FindProfile(profiles, standard)
 	if err != nil {
 		return nil, choiceError{ErrUnknownStandard, err}
 	}
@@ -189,48 +190,24 @@ func NewAudit(ctx context.Context, st *store.Store, standard string, profiles []
 }
 
 // Guideline returns the surveillance guideline named by choice, or the
-// unit's default when choice is "" (report.DefaultGuideline when the
+// unit's default when choice is "" (surveillance.DefaultGuideline when the
 // setting names none the program knows).
-func (a *Audit) Guideline(choice string) (report.Guideline, error) {
+func (a *Audit) Guideline(choice string) (surveillance.Guideline, error) {
 	g := choice
 	if g == "" {
 		g = a.Settings.DefaultGuideline
 	}
-	gl, err := report.ParseGuideline(g)
+	gl, err := surveillance.ParseGuideline(g)
 	if err != nil {
 		if choice != "" {
 			return "", choiceError{ErrUnknownGuideline, err}
 		}
-		return report.DefaultGuideline, nil
+		return surveillance.DefaultGuideline, nil
 	}
 	return gl, nil
 }
 
-// Eligibility returns the unit's resect-and-discard settings.
-func (a *Audit) Eligibility() report.EligibilitySettings {
-	return report.EligibilitySettings{MinCases: a.Settings.DiscardMinCases, RuleSet: a.Settings.EligibilityRules}
-}
-
-// ExtraFigures are the figures counted beside the profile's indicators in
-// the same pass: the optical-diagnosis audit and interval adherence, under
-// guideline g and the unit's eligibility settings.
-func (a *Audit) ExtraFigures(g report.Guideline) []report.AccumulatorFactory {
-	return []report.AccumulatorFactory{
-		report.OpticalAuditFactory(g, a.Eligibility()),
-		report.AdherenceFactory(g, a.Profile.Target("interval_adherence"), a.Profile.MinCases),
-	}
-}
-
-// ComputeMetrics streams the period's cases once through the indicator
-// engine (both ends included; a zero time leaves that end open).
-func (a *Audit) ComputeMetrics(ctx context.Context, from, to time.Time, g report.Guideline) (report.MetricsResult, error) {
-	m := report.NewMetrics(a.Profile, report.MetricsOptions{From: from, To: to, Extra: a.ExtraFigures(g)})
-	err := a.Store.ForEachCase(ctx, store.CaseFilter{From: from, To: to}, func(c *logbook.Case) error {
-		m.Add(c)
-		return nil
-	})
-	if err != nil {
-		return report.MetricsResult{}, err
-	}
-	return m.Result(), nil
+// Discard returns the unit's resect-and-discard settings.
+func (a *Audit) Discard() audit.DiscardSettings {
+	return audit.DiscardSettings{MinCases: a.Settings.DiscardMinCases, RuleSet: a.Settings.EligibilityRules}
 }
