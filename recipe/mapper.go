@@ -26,7 +26,7 @@ type Origin struct {
 
 // Record is one of our records mapped from a source row, in our own CSV
 // dialect: Values holds one cell for each column of Kind in the order of
-// Columns(Kind), with our codes, ISO 8601 dates, yes/no, whole seconds and
+// logbook.ColumnNames(Kind), with our codes, ISO 8601 dates, yes/no, whole seconds and
 // "" for not recorded. Line is the source row it came from (a CSV file's
 // line, a workbook's own row number).
 type Record struct {

@@ -18,14 +18,15 @@ import (
 	"polypledger/logbook"
 )
 
-// Kind is the kind of CSV file: procedures, lesions or histology.
-type Kind string
+// Kind is the kind of a record file: procedures, lesions or histology
+// (the logbook's catalogue of our columns names them).
+type Kind = logbook.Kind
 
-// CSV kinds (architecture.md, "CSV interchange").
+// Kinds of record files (architecture.md, "CSV interchange").
 const (
-	Procedures Kind = "procedures"
-	Lesions    Kind = "lesions"
-	Histology  Kind = "histology"
+	Procedures = logbook.KindProcedures
+	Lesions    = logbook.KindLesions
+	Histology  = logbook.KindHistology
 )
 
 // ParseKind reads a kind name.
@@ -37,18 +38,10 @@ func ParseKind(s string) (Kind, error) {
 	return "", fmt.Errorf("kind %q is not procedures, lesions or histology", s)
 }
 
-// Columns returns the CSV header of a kind, in export order.
-func Columns(k Kind) []string {
-	switch k {
-	case Procedures:
-		return names(procedureColumns)
-	case Lesions:
-		return names(lesionColumns)
-	case Histology:
-		return names(histologyColumns)
-	}
-	return nil
-}
+// Columns returns the CSV header of a kind, in export order: the names of
+// logbook.Columns, which the store's own column tables follow (a test keeps
+// them the same).
+func Columns(k Kind) []string { return logbook.ColumnNames(k) }
 
 // ImportOptions adjust an import.
 type ImportOptions struct {
