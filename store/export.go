@@ -44,9 +44,12 @@ func (s *Store) Export(ctx context.Context, kind Kind, w io.Writer) (int, error)
 // the same columns and rows as Export: dates stored as dates, counts,
 // doses and seconds as numbers, the rest as text, under a bold frozen
 // header. A text cell that a spreadsheet would take for a formula is stored
-// as quoted text (sheet.Writer), with no apostrophe added, so that the
-// workbook reads back to the same values. It returns how many records it
-// wrote of each kind.
+// as quoted text (sheet.Writer), which no spreadsheet runs, without the
+// apostrophe the CSV export adds; only a value that begins with apostrophes
+// before a formula-like rest gets one more, as in CSV, because a workbook of
+// ours is read as a CSV file of ours is (PlainCell, so that a CSV export
+// saved as a workbook imports too). It returns how many records it wrote of
+// each kind.
 func (s *Store) ExportWorkbook(ctx context.Context, kinds []Kind, w io.Writer) (map[Kind]int, error) {
 	for _, k := range kinds {
 		if _, err := ParseKind(string(k)); err != nil {
@@ -63,7 +66,14 @@ func (s *Store) ExportWorkbook(ctx context.Context, kinds []Kind, w io.Writer) (
 			book.Close()
 			return counts, err
 		}
-		n, err := s.exportRows(ctx, k, book.WriteRow)
+		n, err := s.exportRows(ctx, k, func(row []string) error {
+			for i, v := range row {
+				if strings.HasPrefix(v, "'") {
+					row[i] = SafeCell(v)
+				}
+			}
+			return book.WriteRow(row)
+		})
 		counts[k] = n
 		if err != nil {
 			book.Close()
