@@ -58,6 +58,18 @@ func (o *Origin) Labels() []string {
 	return out
 }
 
+// Missing returns, for each of our columns of the kind in order, whether
+// the mapping never gives it a value: the recipe maps no source column to
+// it (a lesion's number, which the mapping counts when no column gives it,
+// is never missing).
+func (o *Origin) Missing() []bool {
+	out := make([]bool, len(o.Headers))
+	for i, h := range o.Headers {
+		out[i] = h == "" && !(o.Kind == Lesions && i == lesionNoAt)
+	}
+	return out
+}
+
 // Header returns the source header a column's value was read from ("" if
 // none).
 func (r Record) Header(column string) string {

@@ -567,7 +567,7 @@ func readRecord[T any](ru rules[T], vals []string, order []int, absent []bool, p
 	}
 	usable = true
 	for _, k := range ru.keyFields {
-		if j := columnIndex(ru.cols, k); bad[j] || absent[j] {
+		if j := columnIndex(ru.cols, k); bad[j] || absent[j] && vals[j] == "" {
 			usable = false
 		}
 	}
