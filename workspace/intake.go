@@ -388,7 +388,7 @@ func SavedRecipes() ([]SavedRecipe, error) {
 func RecipeFor(path, sheetName string) (SavedRecipe, bool) {
 	saved, _ := SavedRecipes() // a recipe that does not load fits nothing
 	var best SavedRecipe
-	bestUnused := -1
+	found, bestRead := false, 0
 	for _, s := range saved {
 		opt := s.Recipe.Options()
 		if sheetName != "" {
@@ -403,12 +403,21 @@ func RecipeFor(path, sheetName string) (SavedRecipe, bool) {
 		if len(s.Recipe.Missing(header)) > 0 {
 			continue
 		}
-		unused := len(header) - len(s.Recipe.Columns)
-		if bestUnused < 0 || unused < bestUnused {
-			best, bestUnused = s, unused
+		read := map[string]bool{}
+		for _, h := range s.Recipe.Columns {
+			read[recipe.Fold(h)] = true
+		}
+		n := 0
+		for _, h := range header {
+			if read[recipe.Fold(h)] {
+				n++
+			}
+		}
+		if !found || n > bestRead {
+			best, found, bestRead = s, true, n
 		}
 	}
-	return best, bestUnused >= 0
+	return best, found
 }
 
 // RecipeFileName returns the file a recipe named name is saved as in
