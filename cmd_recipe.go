@@ -128,8 +128,7 @@ func isRefusal(err error) bool {
 
 // kindLine says how many records of a kind there are, new and replacing.
 func kindLine(k store.Kind, n, replacing int, newWord, replaceWord string) string {
-	words := recordWords[k]
-	line := fmt.Sprintf("%d %s", n+replacing, plural(n+replacing, words[0], words[1]))
+	line := k.Count(n + replacing)
 	if replacing > 0 {
 		line += fmt.Sprintf(" (%d %s, %d %s)", n, newWord, replacing, replaceWord)
 	}
@@ -152,8 +151,7 @@ func printCheck(w io.Writer, file string, rep workspace.ImportReport) {
 			fmt.Fprintf(w, "%s: would store %s\n", file, kindLine(k, c.New, c.Replacing, "new", "replacing stored ones"))
 		}
 		if c.Clashing > 0 {
-			words := recordWords[k]
-			fmt.Fprintf(w, "%s: %d %s already in the logbook (refused without --update)\n", file, c.Clashing, plural(c.Clashing, words[0], words[1]))
+			fmt.Fprintf(w, "%s: %s already in the logbook (refused without --update)\n", file, k.Count(c.Clashing))
 		}
 	}
 	if !any {
@@ -215,8 +213,7 @@ func exportWorkbook(ctx context.Context, e *env, db, kind string, dest workspace
 	}
 	var parts []string
 	for _, k := range kinds {
-		words := recordWords[k]
-		parts = append(parts, fmt.Sprintf("%d %s (sheet %s)", counts[k], plural(counts[k], words[0], words[1]), k))
+		parts = append(parts, fmt.Sprintf("%s (sheet %s)", k.Count(counts[k]), k))
 	}
 	fmt.Fprintf(e.stdout, "wrote %s: %s\n", dest.Path, strings.Join(parts, ", "))
 	return nil

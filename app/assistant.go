@@ -115,7 +115,7 @@ func (u *ui) openAssistant() *assistant {
 	})
 	a.showFile()
 	size := u.win.Canvas().Size()
-	a.d.Resize(fyne.NewSize(min(900, size.Width-40), min(640, size.Height-40)))
+	a.d.Resize(fyne.NewSize(min(900, size.Width-40), min(640, size.Height-100)))
 	a.d.Show()
 	u.win.Canvas().Focus(a.path)
 	return a
@@ -727,7 +727,7 @@ func (a *assistant) showPreview(rows []recipe.PreviewRow, res *recipe.Result, re
 	for _, k := range recipe.Kinds {
 		c := rep.Kinds[k]
 		if n := c.New + c.Replacing; n > 0 {
-			stored = append(stored, fmt.Sprintf("%d %s", n, k))
+			stored = append(stored, k.Count(n))
 		}
 		clashing += c.Clashing
 	}

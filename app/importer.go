@@ -60,7 +60,7 @@ func importedWords(req workspace.ImportRequest, rep workspace.ImportReport) stri
 		var parts []string
 		for _, k := range logbook.Kinds {
 			if c := rep.Kinds[k]; c.New+c.Replacing > 0 {
-				parts = append(parts, fmt.Sprintf("%d %s", c.New+c.Replacing, k))
+				parts = append(parts, k.Count(c.New+c.Replacing))
 			}
 		}
 		msg = fmt.Sprintf("%d rows of %s were read and stored: %s.", rep.Rows, req.Path, strings.Join(parts, ", "))

@@ -1,5 +1,7 @@
 package logbook
 
+import "strconv"
+
 // Kind is a kind of record file, named as our CSV files are
 // (architecture.md, "CSV interchange"): procedures, lesions or histology.
 type Kind string
@@ -148,4 +150,24 @@ func ColumnNames(k Kind) []string {
 		out[i] = c.Name
 	}
 	return out
+}
+
+// kindWords name one record of each kind, and many.
+var kindWords = map[Kind][2]string{
+	KindProcedures: {"procedure", "procedures"},
+	KindLesions:    {"lesion", "lesions"},
+	KindHistology:  {"histology result", "histology results"},
+}
+
+// Count words a number of records of the kind: "1 procedure", "5 histology
+// results".
+func (k Kind) Count(n int) string {
+	w, ok := kindWords[k]
+	if !ok {
+		w = [2]string{string(k), string(k)}
+	}
+	if n == 1 {
+		return "1 " + w[0]
+	}
+	return strconv.Itoa(n) + " " + w[1]
 }
