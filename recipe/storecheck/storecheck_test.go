@@ -1,7 +1,8 @@
 // Package storecheck holds the tests that join the recipe and sheet
 // packages to the store: what a recipe produces is what the store accepts,
 // a unit's exports survive a workbook, and the workbook's formula-safety
-// rule is the CSV export's. They live apart so that
+// rule is the CSV export's; a file mapped through a recipe is checked
+// against a real store without changing it. They live apart so that
 // the recipe package's own tests, and its fuzzing, do not link the
 // database engine.
 package storecheck_test
@@ -10,6 +11,8 @@ import (
 	"bytes"
 	"context"
 	"encoding/csv"
+	"errors"
+	"fmt"
 	"io"
 	"os"
 	"path/filepath"
@@ -21,11 +24,12 @@ import (
 	"polypledger/recipe"
 	"polypledger/sheet"
 	"polypledger/store"
+	"polypledger/workspace"
 )
 
 const sources = "../../testdata/sources"
 
-func readFile(t *testing.T, path string) string {
+func readFile(t testing.TB, path string) string {
 	t.Helper()
 	b, err := os.ReadFile(path)
 	if err != nil {
@@ -152,4 +156,71 @@ func FuzzFormulaLike(f *testing.F) {
 			t.Errorf("FormulaLike(%q) = %v, CSV export %v", v, got, want)
 		}
 	})
+}
+
+// FuzzImportThroughRecipe maps arbitrary CSV text through the room
+// system's recipe and checks it against a real store (ImportFile with
+// Check), as `import --check --recipe` does: it never panics, a refusal is
+// an *ImportError whose every problem names the file, and the store is
+// unchanged whatever the input.
+func FuzzImportThroughRecipe(f *testing.F) {
+	room := readFile(f, filepath.Join(sources, "room", "room.csv"))
+	f.Add(room)
+	f.Add(strings.Replace(room, "58,Female", "17,Female", 1))
+	f.Add(strings.Replace(room, "Positive FIT", "Bowel scope", 1))
+	f.Add("ExamID,ExamDate\nX1,05-Mar-2026\n")
+	rcp, err := recipe.Load(filepath.Join(sources, "room", "recipe.toml"))
+	if err != nil {
+		f.Fatal(err)
+	}
+	dir := f.TempDir()
+	f.Setenv("POLYPLEDGER_HOME", filepath.Join(dir, "home"))
+	ctx := context.Background()
+	st, err := workspace.OpenStore(ctx, filepath.Join(dir, "unit.db"), true)
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Cleanup(func() { st.Close() })
+	if _, err := workspace.ImportFile(ctx, st, workspace.ImportRequest{Path: filepath.Join(sources, "room", "procedures.csv"), Kind: store.Procedures}); err != nil {
+		f.Fatal(err)
+	}
+	before := exported(f, st)
+	f.Fuzz(func(t *testing.T, data string) {
+		path := filepath.Join(t.TempDir(), "room.csv")
+		if err := os.WriteFile(path, []byte(data), 0o600); err != nil {
+			t.Fatal(err)
+		}
+		_, err := workspace.ImportFile(ctx, st, workspace.ImportRequest{Path: path, Recipe: rcp, Check: true})
+		var ie *store.ImportError
+		var se *sheet.Error
+		switch {
+		case errors.As(err, &ie):
+			for _, p := range ie.Errors {
+				if !strings.HasPrefix(p.String(), path) {
+					t.Errorf("a problem that does not name the file: %s", p)
+				}
+			}
+		case errors.As(err, &se), err == nil:
+		default:
+			t.Fatalf("%T %v", err, err)
+		}
+		if after := exported(t, st); after != before {
+			t.Fatal("a check changed the store")
+		}
+	})
+}
+
+// exported says what a store holds, cheaply: its procedures and its
+// change log's entries (every write adds one).
+func exported(t testing.TB, st *store.Store) string {
+	ctx := context.Background()
+	n, err := st.CountProcedures(ctx, store.ListQuery{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	log, err := st.ChangeLog(ctx, 1<<20)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return fmt.Sprint(n, len(log))
 }
