@@ -70,8 +70,8 @@ type Feed func(emit func(Record) error, refuse func(RowError)) error
 // problem as the record's Origin names its file and columns. A lesion whose
 // procedure comes earlier in the same import is checked against it; one
 // whose procedure was refused there is not reported again. name names the
-// import in the last line of a refusal. With opt.Check nothing is stored in
-// any case. Progress is the feed's to report (opt.Progress is not called).
+// import in the last line of a refusal, whose problems are listed in the
+// order of their lines. With opt.Check nothing is stored in any case. Progress is the feed's to report (opt.Progress is not called).
 func (s *Store) ImportRecords(ctx context.Context, name string, feed Feed, opt ImportOptions) (ImportResult, error) {
 	if s.readOnly {
 		return ImportResult{}, errors.New("the database is open read-only")
@@ -79,9 +79,13 @@ func (s *Store) ImportRecords(ctx context.Context, name string, feed Feed, opt I
 	im := s.newImporter(ctx, name, opt)
 	im.seen = map[Kind]map[string]bool{}
 	im.saidAbsent = map[absentRule]bool{}
-	return im.run(func() error {
+	res, err := im.run(func() error {
 		return feed(im.record, func(e RowError) { im.ie.addError(e) })
 	})
+	// The feed's own problems come at its end: list every problem in the
+	// file's order.
+	slices.SortStableFunc(im.ie.Errors, func(a, b RowError) int { return cmp.Compare(a.Line, b.Line) })
+	return res, err
 }
 
 // record checks and stores one record of a feed.

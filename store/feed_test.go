@@ -124,10 +124,10 @@ func TestImportRecords(t *testing.T) {
 			want: []string{"room.csv:3: LesionNo (lesion_no): lesion 1 of procedure P1 appears more than once in this file"},
 		},
 		{
-			name:     "the feed's own problems refuse the import",
-			recs:     []store.Record{proc(2, po, "P1", nil)},
+			name:     "the feed's own problems refuse the import, listed in line order with the store's",
+			recs:     []store.Record{proc(2, po, "P1", map[string]string{"age": "17"}), proc(8, po, "P2", nil)},
 			problems: []store.RowError{{File: "room.csv", Line: 7, Column: "Referral (indication)", Reason: `"Bowel scope" is not in the recipe: add it under [values.indication]`}},
-			want:     []string{`room.csv:7: Referral (indication): "Bowel scope" is not in the recipe: add it under [values.indication]`},
+			want:     []string{"room.csv:2: PtAge (age): 17 is outside 18–110", `room.csv:7: Referral (indication): "Bowel scope" is not in the recipe: add it under [values.indication]`},
 		},
 	}
 	for _, tt := range tests {
