@@ -115,3 +115,31 @@ func TestEditReadsBack(t *testing.T) {
 		t.Errorf("columns %q", back.Columns)
 	}
 }
+
+// TestOriginMissing: a column the recipe maps nothing to is missing, but a
+// lesion's number the mapping counts is not.
+func TestOriginMissing(t *testing.T) {
+	r, err := recipe.Parse("r.toml", []byte(combinedRecipe))
+	if err != nil {
+		t.Fatal(err)
+	}
+	tb, err := sheet.Open("src.csv", strings.NewReader("Exam,Date,MRN,Indication,Site,Size\nX1,2026-03-05,ZZ900001,screening,Rectum,6\n"), r.Options())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer tb.Close()
+	rows, _, err := r.Preview(tb, 1)
+	if err != nil || len(rows) != 1 || len(rows[0].Records) != 2 {
+		t.Fatalf("preview %+v, %v", rows, err)
+	}
+	for _, rec := range rows[0].Records {
+		missing := rec.Origin.Missing()
+		for i, f := range recipe.Fields(rec.Kind) {
+			_, mapped := r.Columns[f.Name]
+			want := !mapped && !(rec.Kind == recipe.Lesions && f.Name == "lesion_no")
+			if missing[i] != want {
+				t.Errorf("%s %s: missing %v, want %v", rec.Kind, f.Name, missing[i], want)
+			}
+		}
+	}
+}
