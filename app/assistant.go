@@ -115,7 +115,7 @@ func (u *ui) openAssistant() *assistant {
 	})
 	a.showFile()
 	size := u.win.Canvas().Size()
-	a.d.Resize(fyne.NewSize(min(900, size.Width-40), min(640, size.Height-100)))
+	a.d.Resize(fyne.NewSize(min(900, size.Width-40), min(600, size.Height-100)))
 	a.d.Show()
 	u.win.Canvas().Focus(a.path)
 	return a
