@@ -514,9 +514,9 @@ func readRows[T any](ctx context.Context, f *csvFile, ru rules[T], idx []int, ab
 // in the order problems are to be reported) for its size, UTF-8 and the
 // column's parser — after PlainCell when plain is set —, then the record's
 // rules, leaving out columns already refused and the columns the file lacks
-// (absent): a rule broken only because of such a column goes to onAbsent
-// when it is set, and is otherwise passed over (the file's header was
-// refused for it). Each problem goes to report with its column's index
+// (absent): a rule broken only because of such a column makes the record
+// unfit to store and goes to onAbsent when it is set; otherwise it is passed
+// over (the file's header was refused for it). Each problem goes to report with its column's index
 // (-1 for a rule naming no column of the kind). It returns the record,
 // whether it had no problem, and whether its identity (the key columns)
 // could be read. bad is scratch space, one flag per column.
@@ -553,9 +553,11 @@ func readRecord[T any](ru rules[T], vals []string, order []int, absent []bool, p
 		case j >= 0 && bad[j]:
 			continue
 		case j >= 0 && absent[j]:
+			// Never stored, even though the problem is said once for the
+			// whole file.
+			clean = false
 			if onAbsent != nil {
 				onAbsent(j, p.Reason)
-				clean = false
 			}
 			continue
 		}
