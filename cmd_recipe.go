@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"slices"
 	"strings"
 
 	"polypledger/logbook"
@@ -41,8 +40,8 @@ func importData(ctx context.Context, e *env, a importArgs) error {
 		if err != nil {
 			return err
 		}
-		if a.kind != "" && a.kind != string(r.Shape) && !slices.Contains(r.Shape.Kinds(), store.Kind(a.kind)) {
-			return usagef("--kind %s: the recipe %s is for kind %s", a.kind, a.recipe, r.Shape)
+		if a.kind != "" && a.kind != string(r.Shape) {
+			return usagef("--kind %s: the recipe %s is for kind %s (with --recipe, --kind may be left out)", a.kind, a.recipe, r.Shape)
 		}
 		req.Recipe = r
 	case a.kind == "" && xlsx:

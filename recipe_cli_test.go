@@ -210,6 +210,11 @@ size_mm = "Size"
 	if want := data + ":4: Age: 17 is outside 18–110\n"; code != exitBad || !strings.HasPrefix(stderr, want) {
 		t.Errorf("exit %d, stderr\n%s\nwant it to start\n%s", code, stderr, want)
 	}
+	// The recipe names the kind; another --kind is a usage error.
+	code, _, stderr = cli(t, "import", "--db", db, "--recipe", rcp, "--kind", "procedures", data)
+	if code != exitUsage || !strings.Contains(stderr, "is for kind combined") {
+		t.Errorf("--kind against the recipe: exit %d, %s", code, stderr)
+	}
 }
 
 // TestImportCheckChangesNothing checks files of every sort — our CSV, a
