@@ -5,10 +5,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"strings"
 
 	"polypledger/demo"
+	"polypledger/sheet"
 	"polypledger/store"
 	"polypledger/workspace"
 )
@@ -71,69 +71,17 @@ func cmdImport(ctx context.Context, e *env, args []string) error {
 	db := &fs.db
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
 	update := fs.Bool("update", false, "replace records already stored instead of refusing them")
+	recipePath := fs.String("recipe", "", "import recipe (TOML) mapping another system's file; it names the kind")
+	sheetName := fs.String("sheet", "", "workbook sheet to read (over the recipe's)")
+	check := fs.Bool("check", false, "read and check everything, say what would be stored, store nothing")
 	pos, err := fs.parse(args)
 	if err != nil {
 		return err
 	}
-	kind, err := store.ParseKind(*kindName)
-	if err != nil {
-		return usagef("--kind: %v", err)
-	}
 	if len(pos) != 1 {
-		return usagef("name one CSV file to import")
+		return usagef("name one CSV or .xlsx file to import")
 	}
-	name := pos[0]
-	f, err := os.Open(name)
-	if err != nil {
-		return fmt.Errorf("cannot open %s: %w", name, err)
-	}
-	defer f.Close()
-	var size int64
-	if fi, err := f.Stat(); err == nil {
-		if fi.IsDir() {
-			return fmt.Errorf("%s is a folder, not a CSV file", name)
-		}
-		size = fi.Size()
-	}
-	opt := store.ImportOptions{
-		Update: *update,
-		Progress: func(rows int, read int64) {
-			if size > 0 {
-				fmt.Fprintf(e.stderr, "%s: %d rows read (%d%%)\n", name, rows, min(read, size)*100/size)
-			} else {
-				fmt.Fprintf(e.stderr, "%s: %d rows read\n", name, rows)
-			}
-		},
-	}
-	// A new database is made whole by Fill: if the import fails, no file
-	// is left, and no file is ever deleted. If another program creates the
-	// database meanwhile, the file is read again into theirs.
-	var res store.ImportResult
-	reads := 0
-	created, err := workspace.Fill(ctx, *db, kind == store.Procedures, func(st *store.Store) error {
-		if reads++; reads > 1 {
-			if _, err := f.Seek(0, io.SeekStart); err != nil {
-				return fmt.Errorf("another program created %s while %s was being read, and %s cannot be read a second time; nothing was imported — run the import again", *db, name, name)
-			}
-		}
-		var err error
-		res, err = st.Import(ctx, kind, name, f, opt)
-		return err
-	})
-	if kind == store.Procedures {
-		warnKey(e)
-	}
-	if err != nil {
-		return err
-	}
-	if created {
-		fmt.Fprintf(e.stdout, "created a new database %s\n", *db)
-	}
-	fmt.Fprintf(e.stdout, "%s: imported %d %s (%d new, %d updated)\n", name, res.Rows, plural(res.Rows, "row", "rows"), res.Inserted, res.Updated)
-	for _, r := range res.RosterAdded {
-		fmt.Fprintf(e.stdout, "%s: added %s to the roster as %s (give them a name in unit settings)\n", name, r.ID, r.Role)
-	}
-	return nil
+	return importData(ctx, e, importArgs{db: *db, kind: *kindName, recipe: *recipePath, sheet: *sheetName, file: pos[0], update: *update, check: *check})
 }
 
 // plural picks the word for a count.
@@ -166,11 +114,14 @@ func forceHint(err error) error {
 
 func cmdExport(ctx context.Context, e *env, args []string) error {
 	fs := newCommand("export", e.stderr).
-		withDB("").withOut("CSV file to write (- for standard output)").withForce("")
+		withDB("").withOut("CSV file or .xlsx workbook to write (- for CSV on standard output)").withForce("")
 	db, out, force := &fs.db, &fs.out, &fs.force
-	kindName := fs.String("kind", "", "procedures, lesions or histology")
+	kindName := fs.String("kind", "", "procedures, lesions or histology; all for a workbook of every kind")
 	if err := fs.parseOnly(args); err != nil {
 		return err
+	}
+	if *kindName == "all" || sheet.FormatOf(*out) == sheet.XLSX {
+		return exportWorkbook(ctx, e, *db, *kindName, fs.output())
 	}
 	kind, err := store.ParseKind(*kindName)
 	if err != nil {

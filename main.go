@@ -24,8 +24,9 @@ const usageText = `usage: polypledger [COMMAND [FLAGS]]
 With no command, opens the desktop app on the default database.
 Commands:
   demo      --db PATH [--procedures N] [--seed S]        create an invented demo unit
-  import    --db PATH --kind procedures|lesions|histology [--update] FILE.csv
-  export    --db PATH --kind procedures|lesions|histology --out FILE.csv [--force]
+  import    --db PATH --kind procedures|lesions|histology|--recipe R.toml [--sheet NAME] [--update] [--check] FILE.csv|FILE.xlsx
+  export    --db PATH --kind procedures|lesions|histology|all --out FILE.csv|FILE.xlsx [--force]
+  recipe    draft FILE.csv|FILE.xlsx [--sheet NAME] [--out R.toml] [--force]   propose an import recipe
   metrics   --db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]
   interval  --db PATH [--procedure ID] [--guideline G] [--format json|text]
   report    --db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf [--force]
@@ -65,7 +66,7 @@ func commandUsage(name string) string {
 		if i := strings.Index(rest, "   "); i >= 0 {
 			rest = rest[:i]
 		}
-		if !strings.HasPrefix(rest, "-") && !strings.HasPrefix(rest, "[") {
+		if !strings.HasPrefix(rest, "-") && !strings.HasPrefix(rest, "[") && !strings.Contains(rest, " [--") {
 			rest = ""
 		}
 		return strings.TrimSpace("usage: polypledger " + name + " " + rest)
@@ -92,6 +93,7 @@ var commands = map[string]command{
 	"metrics":  cmdMetrics,
 	"interval": cmdInterval,
 	"report":   cmdReport,
+	"recipe":   cmdRecipe,
 }
 
 func main() {

@@ -67,7 +67,7 @@ func TestUsageErrors(t *testing.T) {
 	dir := unitHome(t)
 	db := filepath.Join(dir, "unit.db")
 	csvFile := writeFile(t, filepath.Join(dir, "p.csv"), "procedure_id\n")
-	const importUsage = "usage: polypledger import --db PATH --kind procedures|lesions|histology [--update] FILE.csv"
+	const importUsage = "usage: polypledger import --db PATH --kind procedures|lesions|histology|--recipe R.toml [--sheet NAME] [--update] [--check] FILE.csv|FILE.xlsx"
 	const metricsUsage = "usage: polypledger metrics --db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]"
 	tests := []struct {
 		name string
@@ -77,7 +77,7 @@ func TestUsageErrors(t *testing.T) {
 	}{
 		{"import with no arguments", []string{"import"}, "polypledger import: --db is required", importUsage},
 		{"export with no arguments", []string{"export"}, "polypledger export: --db is required",
-			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv [--force]"},
+			"usage: polypledger export --db PATH --kind procedures|lesions|histology|all --out FILE.csv|FILE.xlsx [--force]"},
 		{"demo with no arguments", []string{"demo"}, "polypledger demo: --db is required", "usage: polypledger demo --db PATH [--procedures N] [--seed S]"},
 		{"check with no arguments", []string{"check"}, "polypledger check: --db is required", "usage: polypledger check --db PATH"},
 		{"backup with no arguments", []string{"backup"}, "polypledger backup: --db is required", "usage: polypledger backup --db PATH --out FILE [--force]"},
@@ -85,13 +85,13 @@ func TestUsageErrors(t *testing.T) {
 		{"interval with no arguments", []string{"interval"}, "polypledger interval: --db is required",
 			"usage: polypledger interval --db PATH [--procedure ID] [--guideline G] [--format json|text]"},
 		{"missing --db", []string{"export", "--kind", "procedures", "--out", filepath.Join(dir, "x.csv")}, "polypledger export: --db is required",
-			"usage: polypledger export --db PATH --kind procedures|lesions|histology --out FILE.csv [--force]"},
+			"usage: polypledger export --db PATH --kind procedures|lesions|histology|all --out FILE.csv|FILE.xlsx [--force]"},
 		{"bad --kind", []string{"import", "--db", db, "--kind", "patients", csvFile},
 			`polypledger import: --kind: kind "patients" is not procedures, lesions or histology`, importUsage},
 		{"no --kind", []string{"import", "--db", db, csvFile},
-			`polypledger import: --kind: kind "" is not procedures, lesions or histology`, importUsage},
-		{"no file to import", []string{"import", "--db", db, "--kind", "procedures"}, "polypledger import: name one CSV file to import", importUsage},
-		{"two files to import", []string{"import", "--db", db, "--kind", "procedures", csvFile, csvFile}, "polypledger import: name one CSV file to import", importUsage},
+			`polypledger import: --kind is required for a CSV file of ours (procedures, lesions or histology); another system's file needs --recipe`, importUsage},
+		{"no file to import", []string{"import", "--db", db, "--kind", "procedures"}, "polypledger import: name one CSV or .xlsx file to import", importUsage},
+		{"two files to import", []string{"import", "--db", db, "--kind", "procedures", csvFile, csvFile}, "polypledger import: name one CSV or .xlsx file to import", importUsage},
 		{"bad date", []string{"metrics", "--db", db, "--from", "2025-02-29", "--to", "2025-12-31"},
 			`polypledger metrics: --from: "2025-02-29" is not a real calendar date (YYYY-MM-DD)`, metricsUsage},
 		{"date not ISO", []string{"metrics", "--db", db, "--from", "2025-01-01", "--to", "31/12/2025"},
@@ -165,9 +165,12 @@ func TestCommandUsageCoversEveryCommand(t *testing.T) {
 		if !strings.HasPrefix(got, "usage: polypledger "+name) {
 			t.Errorf("commandUsage(%q) = %q", name, got)
 		}
-		if name != "version" && !strings.Contains(got, "--db PATH") {
+		if name != "version" && name != "recipe" && !strings.Contains(got, "--db PATH") {
 			t.Errorf("commandUsage(%q) = %q, want its synopsis", name, got)
 		}
+	}
+	if got := commandUsage("recipe"); got != "usage: polypledger recipe draft FILE.csv|FILE.xlsx [--sheet NAME] [--out R.toml] [--force]" {
+		t.Errorf("commandUsage(recipe) = %q", got)
 	}
 	if got := commandUsage("version"); got != "usage: polypledger version" {
 		t.Errorf("commandUsage(version) = %q", got)

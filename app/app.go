@@ -237,7 +237,7 @@ func (u *ui) mainMenu() *fyne.MainMenu {
 	}
 	file := fyne.NewMenu("File",
 		&fyne.MenuItem{Label: "Open another database…", Shortcut: ctrl(fyne.KeyO), Action: u.chooseDatabase},
-		&fyne.MenuItem{Label: "Import records from a CSV file…", Shortcut: ctrl(fyne.KeyI), Action: u.chooseImport},
+		&fyne.MenuItem{Label: "Import records from a file…", Shortcut: ctrl(fyne.KeyI), Action: u.chooseImport},
 		&fyne.MenuItem{Label: "Back up the database…", Action: func() { u.unit.backup() }},
 	)
 	var screens []*fyne.MenuItem

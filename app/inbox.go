@@ -11,6 +11,7 @@ import (
 
 	"polypledger/logbook"
 	"polypledger/store"
+	"polypledger/workspace"
 )
 
 // inboxPageSize is how many waiting lesions the inbox shows at once.
@@ -49,7 +50,7 @@ func newInbox(u *ui) *inbox {
 	b.list = container.NewVBox()
 	b.prev = newButton("◀ Older", func() { b.page--; b.reload() })
 	b.next = newButton("Newer ▶", func() { b.page++; b.reload() })
-	imp := newButton("Import a results file (CSV)…", b.chooseImport)
+	imp := newButton("Import a results file (CSV or .xlsx)…", b.chooseImport)
 	help := widget.NewLabel("Choose the histology and dysplasia from the report and press Save (or Enter in the date). A file from the laboratory needs the columns procedure_id, lesion_no, histology, dysplasia, reported_on.")
 	help.Wrapping = fyne.TextWrapWord
 	top := container.NewVBox(container.NewHBox(b.prev, b.next, imp), b.summary, help)
@@ -181,11 +182,12 @@ func resultProblems(ps logbook.Problems) string {
 
 // chooseImport asks for a results file and imports it.
 func (b *inbox) chooseImport() {
-	b.u.openFile([]string{".csv"}, func(path string) { b.importFile(path, nil) })
+	b.u.openFile([]string{".csv", ".xlsx"}, func(path string) { b.importFile(path, nil) })
 }
 
-// importFile imports a histology CSV (ui.importFile); done, when set, is
-// called afterwards with the result (tests).
-func (b *inbox) importFile(path string, done func(store.ImportResult, error)) {
-	b.u.importFile(store.Histology, path, store.ImportOptions{}, done)
+// importFile imports a histology file of ours, CSV or workbook
+// (ui.runImport); done, when set, is called afterwards with the result
+// (tests).
+func (b *inbox) importFile(path string, done func(workspace.ImportReport, error)) {
+	b.u.runImport(workspace.ImportRequest{Path: path, Kind: store.Histology}, done)
 }

@@ -12,6 +12,7 @@ import (
 
 	"polypledger/logbook"
 	"polypledger/store"
+	"polypledger/workspace"
 )
 
 func TestInboxRecordsResultInPlace(t *testing.T) {
@@ -83,7 +84,7 @@ func TestInboxImportReportsLines(t *testing.T) {
 	bad := write("bad.csv", header+fmt.Sprintf("%s,%d,tubular_adenoma,low,2026-11-01\n", first.ProcedureID, first.LesionNo)+
 		"NOPE,1,hyperplastic,,2026-11-01\n")
 	var gotErr error
-	u.inbox.importFile(bad, func(_ store.ImportResult, err error) { gotErr = err })
+	u.inbox.importFile(bad, func(_ workspace.ImportReport, err error) { gotErr = err })
 	u.jobs.wait()
 	var ie *store.ImportError
 	if !errors.As(gotErr, &ie) || len(ie.Errors) != 1 {
@@ -99,8 +100,8 @@ func TestInboxImportReportsLines(t *testing.T) {
 
 	good := write("good.csv", header+fmt.Sprintf("%s,%d,tubular_adenoma,low,2026-11-01\n", first.ProcedureID, first.LesionNo))
 	before := u.inbox.total
-	var res store.ImportResult
-	u.inbox.importFile(good, func(r store.ImportResult, err error) { res, gotErr = r, err })
+	var res workspace.ImportReport
+	u.inbox.importFile(good, func(r workspace.ImportReport, err error) { res, gotErr = r, err })
 	u.jobs.wait()
 	if gotErr != nil || res.Rows != 1 {
 		t.Fatalf("good import: %+v, %v", res, gotErr)

@@ -52,7 +52,7 @@ func newUnitScreen(u *ui) *unitScreen {
 	save.Importance = widget.HighImportance
 	backup := newButton("Back up now…", s.backup)
 	openOther := newButton("Open another database…", u.chooseDatabase)
-	imp := newButton("Import records from a CSV file…", u.chooseImport)
+	imp := newButton("Import records from a file…", u.chooseImport)
 	minItem := widget.NewFormItem("Fewest cases to judge", s.minCases)
 	minItem.HintText = "before a resect-and-discard figure gets a verdict (local policy)"
 	form := widget.NewForm(

@@ -126,39 +126,6 @@ func TestChoosingWhoseFiguresStartsAtTheTop(t *testing.T) {
 	}
 }
 
-// TestImportProceduresFromTheFileMenu imports a procedures file as the File
-// menu does and names the ids it added to the roster.
-func TestImportProceduresFromTheFileMenu(t *testing.T) {
-	u := newTestUI(t, 20)
-	path := filepath.Join(t.TempDir(), "procedures.csv")
-	header := "procedure_id,performed_on,operator_id,trainee_id,supervision,trainee_reached_caecum,patient_ref,age,sex," +
-		"indication,setting,exclusion,extent,incomplete_reason,caecal_photo,withdrawal_seconds,bbps_right,bbps_transverse," +
-		"bbps_left,retroversion,midazolam_mg,fentanyl_ug,pethidine_mg,propofol,comfort,detection_aid,adverse_event,recommended_interval\n"
-	csv := header +
-		"IMP-1,2026-10-01,E01,,,,,60,F,screening,outpatient,none,caecum,,yes,480,3,2,2,yes,,,,,,no,none,\n" +
-		"IMP-2,2026-10-02,E77,,,,,55,M,diagnostic,outpatient,none,incomplete,looping,no,,,,,,,,,,,,,\n"
-	if err := os.WriteFile(path, []byte(csv), 0o600); err != nil {
-		t.Fatal(err)
-	}
-	var res store.ImportResult
-	var err error
-	u.importFile(store.Procedures, path, store.ImportOptions{}, func(r store.ImportResult, e error) { res, err = r, e })
-	u.jobs.wait()
-	if err != nil || res.Rows != 2 {
-		t.Fatalf("import: %d rows, %v", res.Rows, err)
-	}
-	if _, err := u.st.Case(u.ctx, "IMP-2"); err != nil {
-		t.Errorf("IMP-2 not stored: %v", err)
-	}
-	found := false
-	for _, r := range u.roster {
-		found = found || r.ID == "E77"
-	}
-	if !found {
-		t.Error("the roster on screen does not hold the endoscopist the file added")
-	}
-}
-
 // TestRosterNamesTheRoleOnce shows a trainee in the roster: the role
 // appears once, beside the name.
 func TestRosterNamesTheRoleOnce(t *testing.T) {

@@ -40,7 +40,7 @@
 // Parse (or Load) reads a recipe, refusing every unknown key with the
 // recipe's name, the key and what is allowed. Recipe.Map reads a
 // sheet.Table and hands over our records in our own CSV dialect (the
-// columns of Columns(kind), our codes, ISO 8601 dates, yes/no, whole
+// columns of logbook.ColumnNames(kind), our codes, ISO 8601 dates, yes/no, whole
 // seconds), each with its provenance: the source file, its line, and for
 // each of our columns the source header it came from, so that a check made
 // later can name the source's line and column. Every problem of the file is

@@ -352,7 +352,7 @@ func (d *drafter) findSlots() {
 		}
 		stem := normalise(strings.ReplaceAll(tpl, SlotMark, " "))
 		best := 0.0
-		for _, f := range lesionFields {
+		for _, f := range Fields(Lesions) {
 			if lesionOnly(f.Name) {
 				best = max(best, nameLikeness(stem, f.Name))
 			}
@@ -715,7 +715,7 @@ func (d *drafter) chooseShape() {
 		return n
 	}
 	var procOnly []string
-	for _, f := range procedureFields {
+	for _, f := range Fields(Procedures) {
 		if f.Name != "procedure_id" {
 			procOnly = append(procOnly, f.Name)
 		}

@@ -7,6 +7,7 @@ import (
 	"testing"
 	"unicode"
 
+	"polypledger/logbook"
 	"polypledger/recipe"
 	"polypledger/sheet"
 )
@@ -74,7 +75,7 @@ func FuzzMap(f *testing.F) {
 		defer tb.Close()
 		lines := strings.Count(data, "\n") + 1
 		res, err := r.Map(tb, func(rec recipe.Record) error {
-			if len(rec.Values) != len(recipe.Columns(rec.Kind)) || rec.Line < 1 || rec.Line > lines {
+			if len(rec.Values) != len(logbook.ColumnNames(rec.Kind)) || rec.Line < 1 || rec.Line > lines {
 				t.Fatalf("record %+v", rec)
 			}
 			return nil

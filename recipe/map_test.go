@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"polypledger/logbook"
 	"polypledger/recipe"
 	"polypledger/sheet"
 )
@@ -40,12 +41,12 @@ func collect(t *testing.T, r *recipe.Recipe, tb *sheet.Table) (map[recipe.Kind]s
 			bufs[rec.Kind] = &strings.Builder{}
 			w = csv.NewWriter(bufs[rec.Kind])
 			writers[rec.Kind] = w
-			if err := w.Write(recipe.Columns(rec.Kind)); err != nil {
+			if err := w.Write(logbook.ColumnNames(rec.Kind)); err != nil {
 				return err
 			}
 		}
-		if len(rec.Values) != len(recipe.Columns(rec.Kind)) {
-			t.Errorf("line %d: %d values for %d columns", rec.Line, len(rec.Values), len(recipe.Columns(rec.Kind)))
+		if len(rec.Values) != len(logbook.ColumnNames(rec.Kind)) {
+			t.Errorf("line %d: %d values for %d columns", rec.Line, len(rec.Values), len(logbook.ColumnNames(rec.Kind)))
 		}
 		return w.Write(rec.Values)
 	})
@@ -70,7 +71,7 @@ func problems(res *recipe.Result) []string {
 
 // row writes our CSV line for the named columns of a kind, the others empty.
 func row(k recipe.Kind, vals map[string]string) string {
-	cells := recipe.Columns(k)
+	cells := logbook.ColumnNames(k)
 	for i, c := range cells {
 		cells[i] = vals[c]
 	}
@@ -81,7 +82,7 @@ func row(k recipe.Kind, vals map[string]string) string {
 	return b.String()
 }
 
-func header(k recipe.Kind) string { return strings.Join(recipe.Columns(k), ",") + "\n" }
+func header(k recipe.Kind) string { return strings.Join(logbook.ColumnNames(k), ",") + "\n" }
 
 func TestMapValues(t *testing.T) {
 	rcp := `kind = "procedures"

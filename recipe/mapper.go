@@ -26,7 +26,7 @@ type Origin struct {
 
 // Record is one of our records mapped from a source row, in our own CSV
 // dialect: Values holds one cell for each column of Kind in the order of
-// Columns(Kind), with our codes, ISO 8601 dates, yes/no, whole seconds and
+// logbook.ColumnNames(Kind), with our codes, ISO 8601 dates, yes/no, whole seconds and
 // "" for not recorded. Line is the source row it came from (a CSV file's
 // line, a workbook's own row number).
 type Record struct {
@@ -43,6 +43,31 @@ func (r Record) Value(column string) string {
 		return r.Values[i]
 	}
 	return ""
+}
+
+// Labels returns, for each of our columns of the kind in order, the
+// column as messages name it: the source header and the field it feeds
+// ("Date of test (performed_on)"), the header alone when it is the field's
+// name, the field alone when the value is not read from the source.
+func (o *Origin) Labels() []string {
+	fs := Fields(o.Kind)
+	out := make([]string, len(fs))
+	for i, f := range fs {
+		out[i] = columnLabel(o.Headers[i], f.Name)
+	}
+	return out
+}
+
+// Missing returns, for each of our columns of the kind in order, whether
+// the mapping never gives it a value: the recipe maps no source column to
+// it (a lesion's number, which the mapping counts when no column gives it,
+// is never missing).
+func (o *Origin) Missing() []bool {
+	out := make([]bool, len(o.Headers))
+	for i, h := range o.Headers {
+		out[i] = h == "" && !(o.Kind == Lesions && i == lesionNoAt)
+	}
+	return out
 }
 
 // Header returns the source header a column's value was read from ("" if
@@ -122,7 +147,15 @@ type Result struct {
 	// Unused lists, once, the source columns the recipe does not mention
 	// (a warning, not a problem).
 	Unused []string
+	// Unlisted holds, for each of our fields, the source's values that the
+	// recipe does not map (as the source writes them, in the order first
+	// seen, at most MaxUnlisted a field): what a person adds to the recipe,
+	// under [values.FIELD] or, for a yes/no field, [yes_no].
+	Unlisted map[string][]string
 }
+
+// MaxUnlisted caps the unlisted values a Result keeps for one field.
+const MaxUnlisted = 200
 
 // Err returns nil when the mapping found no problem, else a *MapError.
 func (res *Result) Err() error {
@@ -176,6 +209,9 @@ type mapper struct {
 	procs  map[string]*procedureState
 	groups map[string]int // unlisted value → index of its problem
 	counts map[int]int    // problem index → further rows with the value
+	// row is the preview row being filled, nil when the row is not
+	// previewed.
+	row *PreviewRow
 }
 
 // Map reads every row of the table and hands each record mapped without a
@@ -190,7 +226,32 @@ type mapper struct {
 // lesion number column are numbered 1, 2, 3 … per procedure in the file's
 // order; in a wide file a lesion's number is its slot's.
 func (r *Recipe) Map(t *sheet.Table, emit func(Record) error) (*Result, error) {
-	m := &mapper{r: r, t: t, emit: emit, res: &Result{File: t.Label(), Records: map[Kind]int{}},
+	return r.mapRows(t, emit, 0, nil)
+}
+
+// PreviewRow is one source row as a mapping reads it: the records it gives
+// and every problem found on it.
+type PreviewRow struct {
+	Line     int
+	Records  []Record
+	Problems []Problem
+}
+
+// Preview maps the whole table as Map does, handing nothing over, and keeps
+// its first rows (up to rows) for a person to look at before importing:
+// each with its records and all its problems (a value the recipe does not
+// list included, on every row that holds it). The Result covers the whole
+// file, so that Result.Unlisted lists every value still to map.
+func (r *Recipe) Preview(t *sheet.Table, rows int) ([]PreviewRow, *Result, error) {
+	var preview []PreviewRow
+	res, err := r.mapRows(t, nil, rows, &preview)
+	return preview, res, err
+}
+
+// mapRows maps the table, handing records to emit when it is set, and
+// keeps the first keep rows in preview.
+func (r *Recipe) mapRows(t *sheet.Table, emit func(Record) error, keep int, preview *[]PreviewRow) (*Result, error) {
+	m := &mapper{r: r, t: t, emit: emit, res: &Result{File: t.Label(), Records: map[Kind]int{}, Unlisted: map[string][]string{}},
 		procs: map[string]*procedureState{}, groups: map[string]int{}, counts: map[int]int{}}
 	if !m.resolve() {
 		return m.res, nil
@@ -200,10 +261,20 @@ func (r *Recipe) Map(t *sheet.Table, emit func(Record) error) (*Result, error) {
 		if err == io.EOF {
 			break
 		}
+		m.row = nil
+		if preview != nil && len(*preview) < keep {
+			*preview = append(*preview, PreviewRow{Line: row.Line})
+			m.row = &(*preview)[len(*preview)-1]
+		}
 		var se *sheet.Error
 		if errors.As(err, &se) {
 			m.res.Rows++
-			m.add(Problem{File: se.File, Line: se.Line, Column: se.Column, Reason: se.Reason})
+			p := Problem{File: se.File, Line: se.Line, Column: se.Column, Reason: se.Reason}
+			m.add(p)
+			if m.row != nil {
+				m.row.Line = se.Line
+				m.row.Problems = append(m.row.Problems, p)
+			}
 			if se.RowOnly {
 				continue
 			}
@@ -213,7 +284,7 @@ func (r *Recipe) Map(t *sheet.Table, emit func(Record) error) (*Result, error) {
 			return m.res, err
 		}
 		m.res.Rows++
-		if err := m.row(row); err != nil {
+		if err := m.mapRow(row); err != nil {
 			return m.res, err
 		}
 	}
@@ -331,25 +402,47 @@ func (m *mapper) fill(p *plan, row sheet.Row) ([]string, bool) {
 }
 
 // problem records a value problem; a value the recipe does not list is
-// recorded once per field and value, and counted on its later rows.
+// recorded once per field and value, and counted on its later rows (a
+// previewed row keeps it each time).
 func (m *mapper) problem(line int, p *plan, i int, value string, prob *problem) {
 	f := p.fields[i]
 	pr := Problem{File: m.res.File, Line: line, Column: columnLabel(p.origin.Headers[i], f.Name), Reason: prob.reason}
 	if prob.section == "" {
-		m.add(pr)
+		m.rowProblem(pr)
 		return
+	}
+	if m.row != nil {
+		m.row.Problems = append(m.row.Problems, pr)
 	}
 	key := f.Name + "\x00" + Fold(value)
 	if at, seen := m.groups[key]; seen {
 		m.counts[at]++
 		return
 	}
+	if list := m.res.Unlisted[f.Name]; len(list) < MaxUnlisted {
+		m.res.Unlisted[f.Name] = append(list, value)
+	}
 	m.groups[key] = m.add(pr)
+}
+
+// rowProblem records a problem of the row being mapped.
+func (m *mapper) rowProblem(p Problem) {
+	m.add(p)
+	if m.row != nil {
+		m.row.Problems = append(m.row.Problems, p)
+	}
 }
 
 func (m *mapper) send(p *plan, line int, vals []string) error {
 	m.res.Records[p.kind]++
-	return m.emit(Record{Kind: p.kind, Line: line, Values: vals, Origin: p.origin})
+	rec := Record{Kind: p.kind, Line: line, Values: vals, Origin: p.origin}
+	if m.row != nil {
+		m.row.Records = append(m.row.Records, rec)
+	}
+	if m.emit == nil {
+		return nil
+	}
+	return m.emit(rec)
 }
 
 var (
@@ -358,7 +451,7 @@ var (
 	lesionNoAt = fieldIndex(Lesions, "lesion_no")
 )
 
-func (m *mapper) row(row sheet.Row) error {
+func (m *mapper) mapRow(row sheet.Row) error {
 	switch m.r.Shape {
 	case ShapeCombined:
 		return m.combined(row)
@@ -394,7 +487,7 @@ func (m *mapper) combined(row sheet.Row) error {
 	pv, pok := m.fill(pp, row)
 	id := pv[procIDAt]
 	if pok && id == "" {
-		m.add(Problem{File: m.res.File, Line: row.Line, Column: columnLabel(pp.origin.Headers[procIDAt], "procedure_id"),
+		m.rowProblem(Problem{File: m.res.File, Line: row.Line, Column: columnLabel(pp.origin.Headers[procIDAt], "procedure_id"),
 			Reason: "is empty, so the row cannot be joined to its procedure"})
 		return nil
 	}
@@ -417,8 +510,8 @@ func (m *mapper) combined(row sheet.Row) error {
 	if lok && !hasLesion(lv) {
 		return nil
 	}
-	if !lok || !pok || st == nil {
-		return nil
+	if !lok || !pok || st == nil || !st.ok {
+		return nil // the procedure's problem is reported; its lesions wait for it
 	}
 	lv[lesionIDAt] = id
 	if lp.cols[lesionNoAt] < 0 {
@@ -439,7 +532,7 @@ func (m *mapper) agree(p *plan, line int, st *procedureState, vals []string) {
 			reason = fmt.Sprintf("%s here but %s on line %d of the same procedure (a procedure's columns must agree on all its rows)",
 				shown(vals[i]), shown(st.values[i]), st.line)
 		}
-		m.add(Problem{File: m.res.File, Line: line, Column: columnLabel(p.origin.Headers[i], f.Name), Reason: reason})
+		m.rowProblem(Problem{File: m.res.File, Line: line, Column: columnLabel(p.origin.Headers[i], f.Name), Reason: reason})
 	}
 }
 

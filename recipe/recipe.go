@@ -454,6 +454,67 @@ func (r *Recipe) units(le *LoadError, v any) {
 	}
 }
 
+// ValuePair is one entry of a recipe's value list: the source's value as
+// the recipe writes it, and our value ("" for not recorded).
+type ValuePair struct{ Source, Ours string }
+
+// ValueList returns a field's value list as the recipe writes it, in the
+// order of the source values (folded).
+func (r *Recipe) ValueList(field string) []ValuePair {
+	m := r.values[field]
+	out := make([]ValuePair, 0, len(m))
+	for _, k := range sortedKeys(m) {
+		out = append(out, ValuePair{Source: r.spelled[field][k], Ours: m[k]})
+	}
+	return out
+}
+
+// SetValue maps a source value of a field to our value ("" for not
+// recorded), replacing the entry for the same value (compared as Fold
+// compares). The recipe is not checked again: a screen editing a recipe
+// reads its Text back with Parse before using it.
+func (r *Recipe) SetValue(field, source, ours string) {
+	r.RemoveValue(field, source)
+	if r.values[field] == nil {
+		r.values[field], r.spelled[field] = map[string]string{}, map[string]string{}
+	}
+	k := Fold(source)
+	r.values[field][k], r.spelled[field][k] = ours, strings.TrimSpace(source)
+}
+
+// RemoveValue takes a source value off a field's value list.
+func (r *Recipe) RemoveValue(field, source string) {
+	k := Fold(source)
+	delete(r.values[field], k)
+	delete(r.spelled[field], k)
+	if len(r.values[field]) == 0 {
+		delete(r.values, field)
+		delete(r.spelled, field)
+	}
+}
+
+// YesNoWords returns the source's words listed under [yes_no] for an answer
+// (yes, no or not_applicable), as written.
+func (r *Recipe) YesNoWords(answer string) []string { return r.words[answer] }
+
+// SetYesNo lists a source word under [yes_no] for answer (yes, no or
+// not_applicable), taking it off the others; "" only takes it off. Like
+// SetValue, it is checked when the recipe's Text is read back.
+func (r *Recipe) SetYesNo(word, answer string) {
+	k := Fold(word)
+	for a, ws := range r.words {
+		ws = slices.DeleteFunc(slices.Clone(ws), func(w string) bool { return Fold(w) == k })
+		if len(ws) == 0 {
+			delete(r.words, a)
+		} else {
+			r.words[a] = ws
+		}
+	}
+	if answer != "" {
+		r.words[answer] = append(r.words[answer], strings.TrimSpace(word))
+	}
+}
+
 // Text writes the recipe as TOML that Parse reads back to the same recipe
 // (without the comments of the file it was read from): the form in which a
 // recipe edited on screen is saved.

@@ -1,19 +1,22 @@
 package sheet
 
-import "strconv"
+import (
+	"strconv"
+	"unicode/utf8"
+)
 
 // FormulaLike reports whether a spreadsheet would take the text v for a
 // formula if it were typed into a cell: it begins with "=", "+", "@", a tab
 // or a carriage return, or with "-" without being a plain decimal number
-// ("-12", "-2.5", "-1e5" are numbers; "-inf", "-0x10" and "-A1" are not).
-// The CSV export puts an apostrophe before such a cell (store.SafeCell); the
+// ("-12", "-2.5", "-1e5" are numbers; "-inf", "-0x10" and "-A1" are not),
+// or with the full-width "＝", "＋", "－" or "＠", which some spreadsheets
+// read as the plain ones. It is the one rule of formula safety: the CSV
+// export puts an apostrophe before such a cell (store.SafeCell) and the
 // workbook writer stores it as quoted text.
 func FormulaLike(v string) bool {
-	if v == "" {
-		return false
-	}
-	switch v[0] {
-	case '=', '+', '@', '\t', '\r':
+	r, _ := utf8.DecodeRuneInString(v)
+	switch r {
+	case '=', '+', '@', '\t', '\r', '＝', '＋', '－', '＠':
 		return true
 	case '-':
 		return !plainNumber(v)

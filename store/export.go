@@ -5,11 +5,10 @@ import (
 	"encoding/csv"
 	"fmt"
 	"io"
-	"strconv"
 	"strings"
-	"unicode/utf8"
 
 	"polypledger/logbook"
+	"polypledger/sheet"
 )
 
 // Export writes every record of a kind as CSV with the same columns import
@@ -21,15 +20,98 @@ import (
 // (rows after the header) it wrote.
 func (s *Store) Export(ctx context.Context, kind Kind, w io.Writer) (int, error) {
 	cw := csv.NewWriter(w)
-	var n int
-	var err error
+	if _, err := ParseKind(string(kind)); err != nil {
+		return 0, err
+	}
+	if err := cw.Write(Columns(kind)); err != nil {
+		return 0, err
+	}
+	n, err := s.exportRows(ctx, kind, func(row []string) error {
+		for i := range row {
+			row[i] = SafeCell(row[i])
+		}
+		return cw.Write(row)
+	})
+	if err != nil {
+		return n, err
+	}
+	cw.Flush()
+	return n, cw.Error()
+}
+
+// ExportWorkbook writes the records of each kind in kinds as one sheet of
+// an .xlsx workbook, the sheet named after the kind ("procedures"), with
+// the same columns and rows as Export: dates stored as dates, counts,
+// doses and seconds as numbers, the rest as text, under a bold frozen
+// header. A text cell that a spreadsheet would take for a formula is stored
+// as quoted text (sheet.Writer), which no spreadsheet runs, without the
+// apostrophe the CSV export adds; only a value that begins with apostrophes
+// before a formula-like rest gets one more, as in CSV, because a workbook of
+// ours is read as a CSV file of ours is (PlainCell, so that a CSV export
+// saved as a workbook imports too). It returns how many records it wrote of
+// each kind.
+func (s *Store) ExportWorkbook(ctx context.Context, kinds []Kind, w io.Writer) (map[Kind]int, error) {
+	for _, k := range kinds {
+		if _, err := ParseKind(string(k)); err != nil {
+			return nil, err
+		}
+	}
+	book, err := sheet.NewWriter(w)
+	if err != nil {
+		return nil, err
+	}
+	counts := map[Kind]int{}
+	for _, k := range kinds {
+		if err := book.AddSheet(string(k), Columns(k), sheetTypes(k)); err != nil {
+			book.Close()
+			return counts, err
+		}
+		n, err := s.exportRows(ctx, k, func(row []string) error {
+			for i, v := range row {
+				if strings.HasPrefix(v, "'") {
+					row[i] = SafeCell(v)
+				}
+			}
+			return book.WriteRow(row)
+		})
+		counts[k] = n
+		if err != nil {
+			book.Close()
+			return counts, err
+		}
+	}
+	return counts, book.Close()
+}
+
+// sheetTypes returns how a workbook stores each column of a kind: dates as
+// dates, counts, amounts and seconds as numbers, the rest as text.
+func sheetTypes(k Kind) []sheet.ColumnType {
+	cs := logbook.Columns(k)
+	out := make([]sheet.ColumnType, len(cs))
+	for i, c := range cs {
+		switch c.Type {
+		case logbook.DateColumn:
+			out[i] = sheet.Date
+		case logbook.CountColumn, logbook.AmountColumn, logbook.SecondsColumn:
+			out[i] = sheet.Number
+		default:
+			out[i] = sheet.Text
+		}
+	}
+	return out
+}
+
+// exportRows hands write the cells of every record of a kind, in export
+// order, and returns how many it handed over. The cells are the values as
+// stored, not yet made safe for a spreadsheet.
+func (s *Store) exportRows(ctx context.Context, kind Kind, write func(row []string) error) (int, error) {
 	switch kind {
 	case Procedures:
-		n, err = writeAll(cw, procedureColumns, func(emit func(*logbook.Procedure) error) error {
+		return rowsOf(procedureColumns, write, func(emit func(*logbook.Procedure) error) error {
 			return s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error { return emit(&c.Procedure) })
 		})
 	case Lesions:
-		n, err = writeAll(cw, lesionColumns, func(emit func(*logbook.Lesion) error) error {
+		return rowsOf(lesionColumns, write, func(emit func(*logbook.Lesion) error) error {
 			return s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error {
 				for i := range c.Lesions {
 					if err := emit(&c.Lesions[i]); err != nil {
@@ -40,7 +122,7 @@ func (s *Store) Export(ctx context.Context, kind Kind, w io.Writer) (int, error)
 			})
 		})
 	case Histology:
-		n, err = writeAll(cw, histologyColumns, func(emit func(*logbook.HistologyResult) error) error {
+		return rowsOf(histologyColumns, write, func(emit func(*logbook.HistologyResult) error) error {
 			return s.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error {
 				for _, l := range c.Lesions {
 					if !l.Histology.IsFinal() {
@@ -54,28 +136,15 @@ func (s *Store) Export(ctx context.Context, kind Kind, w io.Writer) (int, error)
 				return nil
 			})
 		})
-	default:
-		return 0, fmt.Errorf("kind %q is not procedures, lesions or histology", kind)
 	}
-	if err != nil {
-		return n, err
-	}
-	cw.Flush()
-	return n, cw.Error()
+	return 0, fmt.Errorf("kind %q is not procedures, lesions or histology", kind)
 }
 
-func writeAll[T any](cw *csv.Writer, cols []column[T], each func(emit func(*T) error) error) (int, error) {
-	if err := cw.Write(names(cols)); err != nil {
-		return 0, err
-	}
+func rowsOf[T any](cols []column[T], write func(row []string) error, each func(emit func(*T) error) error) (int, error) {
 	n := 0
 	err := each(func(r *T) error {
-		row := csvRow(cols, r)
-		for i := range row {
-			row[i] = SafeCell(row[i])
-		}
 		n++
-		return cw.Write(row)
+		return write(csvRow(cols, r))
 	})
 	return n, err
 }
@@ -108,32 +177,8 @@ func PlainCell(v string) string {
 }
 
 // needsApostrophe reports whether SafeCell puts an apostrophe before v:
-// when v, after any apostrophes it begins with, starts like a formula.
+// when v, after any apostrophes it begins with, is formula-like
+// (sheet.FormulaLike, the rule the workbook export shares).
 func needsApostrophe(v string) bool {
-	rest := strings.TrimLeft(v, "'")
-	r, _ := utf8.DecodeRuneInString(rest)
-	switch r {
-	case '=', '+', '@', '\t', '\r', '＝', '＋', '－', '＠':
-		return true
-	case '-':
-		return !plainNumber(rest)
-	}
-	return false
-}
-
-// plainNumber reports whether v is a decimal number as a spreadsheet reads
-// one ("-12", "-2.5", "-1e5"); strconv also accepts "-inf", "-nan" and hex
-// floats, which a spreadsheet would take as a formula.
-func plainNumber(v string) bool {
-	if _, err := strconv.ParseFloat(v, 64); err != nil {
-		return false
-	}
-	for i := 0; i < len(v); i++ {
-		switch c := v[i]; {
-		case c >= '0' && c <= '9', c == '.', c == 'e', c == 'E', c == '+', c == '-':
-		default:
-			return false
-		}
-	}
-	return true
+	return sheet.FormulaLike(strings.TrimLeft(v, "'"))
 }

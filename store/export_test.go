@@ -186,16 +186,7 @@ var hostileValues = []string{
 func TestExportImportHostileValuesRoundTrip(t *testing.T) {
 	ctx := context.Background()
 	a := openUnit(t)
-	rows := []string{procHeader}
-	les := []string{lesHeader}
-	for i, v := range hostileValues {
-		rows = append(rows, line(store.Procedures, map[string]string{
-			"procedure_id": cell(v), "performed_on": "2026-03-02", "operator_id": cell(v),
-			"trainee_id": cell(fmt.Sprintf("T%d%s", i, v)), "age": "60", "sex": "F", "indication": "screening", "extent": "caecum"}))
-		les = append(les, lesRow(cell(v), 1, "rectum", "3", nil))
-	}
-	mustImport(t, a, store.Procedures, "p.csv", strings.Join(rows, "\n")+"\n")
-	mustImport(t, a, store.Lesions, "l.csv", strings.Join(les, "\n")+"\n")
+	importHostile(t, a)
 	for _, v := range hostileValues {
 		if c, err := a.Case(ctx, v); err != nil || c.OperatorID != v {
 			t.Fatalf("value %q was not stored as it is: %+v, %v", v, c.Procedure, err)
@@ -236,6 +227,22 @@ func TestExportImportHostileValuesRoundTrip(t *testing.T) {
 			t.Errorf("%s: export after import differs at %s", k, firstDifference(second[k], first[k]))
 		}
 	}
+}
+
+// importHostile stores every hostile value as a procedure id, an
+// endoscopist and a trainee, each procedure with one lesion.
+func importHostile(t *testing.T, s *store.Store) {
+	t.Helper()
+	rows := []string{procHeader}
+	les := []string{lesHeader}
+	for i, v := range hostileValues {
+		rows = append(rows, line(store.Procedures, map[string]string{
+			"procedure_id": cell(v), "performed_on": "2026-03-02", "operator_id": cell(v),
+			"trainee_id": cell(fmt.Sprintf("T%d%s", i, v)), "age": "60", "sex": "F", "indication": "screening", "extent": "caecum"}))
+		les = append(les, lesRow(cell(v), 1, "rectum", "3", nil))
+	}
+	mustImport(t, s, store.Procedures, "p.csv", strings.Join(rows, "\n")+"\n")
+	mustImport(t, s, store.Lesions, "l.csv", strings.Join(les, "\n")+"\n")
 }
 
 // cell writes a value as a CSV cell the way export does: behind an

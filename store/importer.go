@@ -18,14 +18,15 @@ import (
 	"polypledger/logbook"
 )
 
-// Kind is the kind of CSV file: procedures, lesions or histology.
-type Kind string
+// Kind is the kind of a record file: procedures, lesions or histology
+// (the logbook's catalogue of our columns names them).
+type Kind = logbook.Kind
 
-// CSV kinds (architecture.md, "CSV interchange").
+// Kinds of record files (architecture.md, "CSV interchange").
 const (
-	Procedures Kind = "procedures"
-	Lesions    Kind = "lesions"
-	Histology  Kind = "histology"
+	Procedures = logbook.KindProcedures
+	Lesions    = logbook.KindLesions
+	Histology  = logbook.KindHistology
 )
 
 // ParseKind reads a kind name.
@@ -37,18 +38,10 @@ func ParseKind(s string) (Kind, error) {
 	return "", fmt.Errorf("kind %q is not procedures, lesions or histology", s)
 }
 
-// Columns returns the CSV header of a kind, in export order.
-func Columns(k Kind) []string {
-	switch k {
-	case Procedures:
-		return names(procedureColumns)
-	case Lesions:
-		return names(lesionColumns)
-	case Histology:
-		return names(histologyColumns)
-	}
-	return nil
-}
+// Columns returns the CSV header of a kind, in export order: the names of
+// logbook.Columns, which the store's own column tables follow (a test keeps
+// them the same).
+func Columns(k Kind) []string { return logbook.ColumnNames(k) }
 
 // ImportOptions adjust an import.
 type ImportOptions struct {
@@ -56,8 +49,14 @@ type ImportOptions struct {
 	// or a lesion's final histology); without it they are errors.
 	Update bool
 	// Progress, when set, is called every ProgressEvery rows with the rows
-	// read so far and the bytes read so far.
+	// read so far and the bytes read so far (Import only: a Feed reports
+	// its own progress).
 	Progress func(rows int, bytes int64)
+	// Check reads and checks everything as an import does, against the
+	// logbook as it is, and then stores nothing: the result says what would
+	// have been stored, and the error, as for an import, lists every
+	// problem.
+	Check bool
 }
 
 // ProgressEvery is how many rows pass between progress reports.
@@ -66,12 +65,57 @@ const ProgressEvery = 10000
 // MaxReportedErrors caps the bad rows listed by an ImportError.
 const MaxReportedErrors = 100
 
-// ImportResult says what a successful import stored.
+// ImportResult says what a successful import stored (with Check: what it
+// would store).
 type ImportResult struct {
 	Rows        int
 	Inserted    int
 	Updated     int
 	RosterAdded []logbook.RosterEntry
+	// Kinds counts the records of each kind.
+	Kinds map[Kind]KindCount
+}
+
+// KindCount is what an import does with the records of one kind.
+type KindCount struct {
+	// New records are added; Replacing ones replace a record already in
+	// the logbook (with Update); Clashing ones are already in the logbook
+	// and refused (without Update). A histology result filling a lesion, or
+	// correcting its result, counts as new.
+	New, Replacing, Clashing int
+}
+
+// count notes a record of kind that passed its checks: new or replacing.
+func (r *ImportResult) count(kind Kind, replacing bool) {
+	r.tally(kind, func(c *KindCount) {
+		if replacing {
+			c.Replacing++
+			r.Updated++
+		} else {
+			c.New++
+			r.Inserted++
+		}
+	})
+}
+
+// recorded notes a histology result applied to its lesion: new for its
+// kind, an update of the lesion for the totals.
+func (r *ImportResult) recorded(kind Kind) {
+	r.tally(kind, func(c *KindCount) { c.New++; r.Updated++ })
+}
+
+// clash notes a record of kind already in the logbook and refused.
+func (r *ImportResult) clash(kind Kind) {
+	r.tally(kind, func(c *KindCount) { c.Clashing++ })
+}
+
+func (r *ImportResult) tally(kind Kind, change func(*KindCount)) {
+	if r.Kinds == nil {
+		r.Kinds = map[Kind]KindCount{}
+	}
+	c := r.Kinds[kind]
+	change(&c)
+	r.Kinds[kind] = c
 }
 
 // RowError is one refused value: file, line, column and reason.
@@ -82,8 +126,12 @@ type RowError struct {
 	Reason string
 }
 
-// String returns "FILE:LINE: column: reason".
+// String returns "FILE:LINE: column: reason" ("FILE: column: reason" for a
+// problem of the whole file, on no one line).
 func (e RowError) String() string {
+	if e.Line <= 0 {
+		return fmt.Sprintf("%s: %s: %s", e.File, e.Column, e.Reason)
+	}
 	return fmt.Sprintf("%s:%d: %s: %s", e.File, e.Line, e.Column, e.Reason)
 }
 
@@ -94,6 +142,8 @@ type ImportError struct {
 	Errors []RowError
 	More   int // problems beyond those listed
 	Rows   int // data rows read
+	// Check is set when the import was a check only (ImportOptions.Check).
+	Check bool
 }
 
 func (e *ImportError) Error() string {
@@ -106,7 +156,11 @@ func (e *ImportError) Error() string {
 		fmt.Fprintf(&b, "%s: … and %d more %s not listed\n", e.File, e.More, plural(e.More, "problem", "problems"))
 	}
 	n := len(e.Errors) + e.More
-	fmt.Fprintf(&b, "%s: nothing was imported (%d %s in %d %s)", e.File, n, plural(n, "problem", "problems"), e.Rows, plural(e.Rows, "row", "rows"))
+	what := "nothing was imported"
+	if e.Check {
+		what = "checked, nothing stored"
+	}
+	fmt.Fprintf(&b, "%s: %s (%d %s in %d %s)", e.File, what, n, plural(n, "problem", "problems"), e.Rows, plural(e.Rows, "row", "rows"))
 	return b.String()
 }
 
@@ -119,8 +173,12 @@ func plural(n int, one, many string) string {
 }
 
 func (e *ImportError) add(line int, column, reason string) {
+	e.addError(RowError{File: e.File, Line: line, Column: column, Reason: reason})
+}
+
+func (e *ImportError) addError(r RowError) {
 	if len(e.Errors) < MaxReportedErrors {
-		e.Errors = append(e.Errors, RowError{File: e.File, Line: line, Column: column, Reason: reason})
+		e.Errors = append(e.Errors, r)
 	} else {
 		e.More++
 	}
@@ -221,38 +279,59 @@ func header[T any](f *csvFile, cols []column[T], ie *ImportError) (idx []int, ab
 		ie.add(1, "header", csvReason(err))
 		return nil, nil, 0, false
 	}
-	expected := "(expected: " + strings.Join(names(cols), ", ") + ")"
-	idx = make([]int, len(rec))
-	known := 0
+	names := make([]string, len(rec))
 	for i, name := range rec {
 		if i == 0 {
 			name = strings.TrimPrefix(name, "\ufeff")
 		}
-		idx[i] = columnIndex(cols, strings.TrimSpace(name))
+		names[i] = strings.TrimSpace(name)
+	}
+	idx, absent, ok = checkHeader(f.kind, names, func(column, reason string) { ie.add(1, column, reason) })
+	return idx, absent, len(rec), ok
+}
+
+// checkHeader maps the column names of a file of ours (trimmed) to the
+// columns of kind: for each file column the index in Columns(kind) (-1 when
+// it is not read), and for each of ours whether the file lacks it. Each
+// problem — a column without a name, not of the kind or named twice, a
+// required column missing — goes to add. ok is false when no name is a
+// column of the kind: the first row is then not a header at all, and the
+// rows cannot be read.
+func checkHeader(kind Kind, names []string, add func(column, reason string)) (idx []int, absent []bool, ok bool) {
+	cols := logbook.Columns(kind)
+	index := func(name string) int {
+		for j, c := range cols {
+			if c.Name == name {
+				return j
+			}
+		}
+		return -1
+	}
+	expected := "(expected: " + strings.Join(Columns(kind), ", ") + ")"
+	idx = make([]int, len(names))
+	known := 0
+	for i, name := range names {
+		idx[i] = index(name)
 		if idx[i] >= 0 {
 			known++
 		}
 	}
 	if known == 0 {
-		ie.add(1, "header", fmt.Sprintf("the first line is not a header row: none of its %d values names a column of a %s file (they are not shown, as they may be patient data); the first line must name the columns %s", len(rec), f.kind, expected))
-		return nil, nil, 0, false
+		add("header", fmt.Sprintf("the first line is not a header row: none of its %d values names a column of a %s file (they are not shown, as they may be patient data); the first line must name the columns %s", len(names), kind, expected))
+		return nil, nil, false
 	}
 	seen := make([]bool, len(cols))
-	for i, name := range rec {
-		if i == 0 {
-			name = strings.TrimPrefix(name, "\ufeff")
-		}
-		name = strings.TrimSpace(name)
+	for i, name := range names {
 		j := idx[i]
 		switch {
 		case name == "":
-			ie.add(1, fmt.Sprintf("column %d", i+1), "has no name in the header")
+			add(fmt.Sprintf("column %d", i+1), "has no name in the header")
 		case j < 0 && shownAsIs(name):
-			ie.add(1, name, "is not a column of this kind of file "+expected)
+			add(name, "is not a column of this kind of file "+expected)
 		case j < 0:
-			ie.add(1, fmt.Sprintf("column %d", i+1), logbook.QuoteValue(name)+" is not a column of this kind of file "+expected)
+			add(fmt.Sprintf("column %d", i+1), logbook.QuoteValue(name)+" is not a column of this kind of file "+expected)
 		case seen[j]:
-			ie.add(1, name, "appears twice in the header")
+			add(name, "appears twice in the header")
 			idx[i] = -1 // the first is read
 		default:
 			seen[j] = true
@@ -262,12 +341,26 @@ func header[T any](f *csvFile, cols []column[T], ie *ImportError) (idx []int, ab
 	for j, c := range cols {
 		if !seen[j] {
 			absent[j] = true
-			if !c.optional {
-				ie.add(1, c.name, "required column is missing from the header")
+			if !c.Optional {
+				add(c.Name, "required column is missing from the header")
 			}
 		}
 	}
-	return idx, absent, len(rec), true
+	return idx, absent, true
+}
+
+// CheckHeader checks the header row of a file of ours that is not read
+// through Import — a workbook's sheet — exactly as Import checks a CSV
+// file's, so that both say the same of the same header. It returns, for
+// each column of the file, the index of the column of kind it holds (-1 for
+// one not read), for each of Columns(kind) whether the file lacks it, and
+// the problems, at line of file. ok is false when the row names no column of
+// the kind at all: it is not a header, and the rows cannot be read.
+func CheckHeader(kind Kind, file string, line int, names []string) (idx []int, absent []bool, problems []RowError, ok bool) {
+	idx, absent, ok = checkHeader(kind, names, func(column, reason string) {
+		problems = append(problems, RowError{File: file, Line: line, Column: column, Reason: reason})
+	})
+	return idx, absent, problems, ok
 }
 
 // shownAsIs reports whether a header name may stand in a message as it is:
@@ -341,20 +434,21 @@ var histologyRules = rules[H]{
 // it while the file has no problem at all.
 type rowSink[T any] func(line int, r *T, clean bool) error
 
-// readRows reads every data row of f and checks it: each value (its size,
-// UTF-8, and the column's parser, after undoing the apostrophe export puts
-// before a formula-like value), the record's validation (leaving out
-// fields already refused and columns the header lacks), and repeats within
-// the file. Every problem goes to ie; nothing stops at the first one, so a
-// file's problems are all listed in one run. progress, when set, is called
-// every ProgressEvery rows.
+// readRows reads every data row of f and checks it (readRecord, after
+// undoing the apostrophe export puts before a formula-like value) and
+// repeats within the file. Every problem goes to ie; nothing stops at the
+// first one, so a file's problems are all listed in one run. progress,
+// when set, is called every ProgressEvery rows.
 func readRows[T any](ctx context.Context, f *csvFile, ru rules[T], idx []int, absent []bool, width int,
 	cd *codec, today time.Time, ie *ImportError, progress func(rows int, bytes int64), sink rowSink[T]) error {
 	seen := map[string]bool{}
 	bad := make([]bool, len(ru.cols))
-	keyCols := make([]int, len(ru.keyFields))
-	for i, k := range ru.keyFields {
-		keyCols[i] = columnIndex(ru.cols, k)
+	vals := make([]string, len(ru.cols))
+	var order []int // our columns in the file's order
+	for _, j := range idx {
+		if j >= 0 {
+			order = append(order, j)
+		}
 	}
 	for {
 		if err := ctx.Err(); err != nil {
@@ -391,48 +485,13 @@ func readRows[T any](ctx context.Context, f *csvFile, ru rules[T], idx []int, ab
 			ie.add(line, "row", fmt.Sprintf("has %d fields but the header has %d", len(rec), width))
 			continue
 		}
-		r := ru.fresh()
-		clear(bad)
-		clean := true
 		for i, v := range rec {
-			j := idx[i]
-			if j < 0 {
-				continue
-			}
-			c := ru.cols[j]
-			v = strings.TrimSpace(v)
-			var reason string
-			switch {
-			case len(v) > MaxValueBytes:
-				reason = fmt.Sprintf("is %d bytes long; no value may be longer than %d", len(v), MaxValueBytes)
-			case !utf8.ValidString(v):
-				reason = "is not valid UTF-8 text (save the file as UTF-8 CSV)"
-			default:
-				if err := c.set(&r, PlainCell(v), cd); err != nil {
-					reason = err.Error()
-				}
-			}
-			if reason != "" {
-				ie.add(line, c.name, reason)
-				bad[j], clean = true, false
+			if j := idx[i]; j >= 0 {
+				vals[j] = strings.TrimSpace(v)
 			}
 		}
-		for _, p := range ru.validate(r, today) {
-			if j := columnIndex(ru.cols, p.Field); j >= 0 && (bad[j] || absent[j]) {
-				continue
-			}
-			ie.add(line, p.Field, p.Reason)
-			if j := columnIndex(ru.cols, p.Field); j >= 0 {
-				bad[j] = true
-			}
-			clean = false
-		}
-		usable := true
-		for _, j := range keyCols {
-			if bad[j] || absent[j] {
-				usable = false
-			}
-		}
+		r, clean, usable := readRecord(ru, vals, order, absent, true, cd, today, bad,
+			func(_ int, column, reason string) { ie.add(line, column, reason) }, nil)
 		if !usable {
 			continue
 		}
@@ -450,6 +509,73 @@ func readRows[T any](ctx context.Context, f *csvFile, ru rules[T], idx []int, ab
 	}
 }
 
+// readRecord reads one row into a record and checks it: each value of
+// vals (vals[j] is the value of ru.cols[j]; order lists the columns to read,
+// in the order problems are to be reported) for its size, UTF-8 and the
+// column's parser — after PlainCell when plain is set —, then the record's
+// rules, leaving out columns already refused and the columns the file lacks
+// (absent): a rule broken only because of such a column makes the record
+// unfit to store and goes to onAbsent when it is set; otherwise it is passed
+// over (the file's header was refused for it). Each problem goes to report with its column's index
+// (-1 for a rule naming no column of the kind). It returns the record,
+// whether it had no problem, and whether its identity (the key columns)
+// could be read. bad is scratch space, one flag per column.
+func readRecord[T any](ru rules[T], vals []string, order []int, absent []bool, plain bool, cd *codec, today time.Time, bad []bool,
+	report func(j int, column, reason string), onAbsent func(j int, reason string)) (r T, clean, usable bool) {
+	r = ru.fresh()
+	clear(bad)
+	clean = true
+	for _, j := range order {
+		c := ru.cols[j]
+		v := vals[j]
+		var reason string
+		switch {
+		case len(v) > MaxValueBytes:
+			reason = fmt.Sprintf("is %d bytes long; no value may be longer than %d", len(v), MaxValueBytes)
+		case !utf8.ValidString(v):
+			reason = "is not valid UTF-8 text (save the file as UTF-8 CSV)"
+		default:
+			if plain {
+				v = PlainCell(v)
+			}
+			if err := c.set(&r, v, cd); err != nil {
+				reason = err.Error()
+			}
+		}
+		if reason != "" {
+			report(j, c.name, reason)
+			bad[j], clean = true, false
+		}
+	}
+	for _, p := range ru.validate(r, today) {
+		j := columnIndex(ru.cols, p.Field)
+		switch {
+		case j >= 0 && bad[j]:
+			continue
+		case j >= 0 && absent[j]:
+			// Never stored, even though the problem is said once for the
+			// whole file.
+			clean = false
+			if onAbsent != nil {
+				onAbsent(j, p.Reason)
+			}
+			continue
+		}
+		report(j, p.Field, p.Reason)
+		if j >= 0 {
+			bad[j] = true
+		}
+		clean = false
+	}
+	usable = true
+	for _, k := range ru.keyFields {
+		if j := columnIndex(ru.cols, k); bad[j] || absent[j] && vals[j] == "" {
+			usable = false
+		}
+	}
+	return r, clean, usable
+}
+
 // importer holds one import's transaction and bookkeeping.
 type importer struct {
 	s      *Store
@@ -461,8 +587,45 @@ type importer struct {
 	opt    ImportOptions
 	roster map[string]bool // roster ids already checked
 	stmts  map[string]*sql.Stmt
+	today  time.Time
 	// keyChecked is set once the unit key has been matched to the database.
 	keyChecked bool
+	// origin names the row being checked in messages: nil for a CSV file
+	// of ours (its name and our column names).
+	origin *Origin
+	// refused holds the procedures of this import that were refused, so
+	// that a lesion of one is not reported again as having no procedure.
+	refused map[string]bool
+	// Of ImportRecords: what each kind's records repeat, scratch space, and
+	// the rules already reported for a column a file lacks.
+	kind        Kind
+	seen        map[Kind]map[string]bool
+	order       []int
+	absent, bad []bool
+	vals        []string
+	saidAbsent  map[absentRule]bool
+}
+
+// absentRule is a rule broken because a file lacks a column.
+type absentRule struct {
+	file   string
+	kind   Kind
+	column int
+}
+
+func (s *Store) newImporter(ctx context.Context, name string, opt ImportOptions) *importer {
+	return &importer{s: s, ctx: ctx, ie: &ImportError{File: name, Check: opt.Check}, opt: opt, cd: &codec{key: s.key},
+		roster: map[string]bool{}, stmts: map[string]*sql.Stmt{}, today: s.today(), refused: map[string]bool{}}
+}
+
+// add records a problem of the row being checked, named as its file names
+// it (see origin).
+func (im *importer) add(line int, column, reason string) {
+	if im.origin == nil {
+		im.ie.add(line, column, reason)
+		return
+	}
+	im.ie.addError(RowError{File: im.origin.File, Line: line, Column: im.origin.label(im.kind, column), Reason: reason})
 }
 
 func (im *importer) stmt(q string) (*sql.Stmt, error) {
@@ -518,22 +681,17 @@ func (im *importer) ensureOnRoster(id string, role logbook.Role) error {
 	return im.s.logChange(im.ctx, im.tx, "insert", "roster "+id, nil, rosterMap(r))
 }
 
-// writing reports whether a row that passed its checks is to be stored:
-// only while the file has no problem (a refused import writes nothing).
-func (im *importer) writing(clean bool) bool { return clean && !im.ie.any() }
-
 // Import reads a CSV file of the given kind and stores all of its rows in
 // one transaction, or none: on any bad row it returns an *ImportError listing
 // FILE:LINE: column: reason for every problem of the file — each value, each
 // row's rules, repeats within the file and rows that clash with or refer to
 // what is stored — and the database is unchanged. name is the file name
-// used in messages.
+// used in messages. With opt.Check nothing is stored in any case.
 func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader, opt ImportOptions) (ImportResult, error) {
 	if s.readOnly {
 		return ImportResult{}, errors.New("the database is open read-only")
 	}
-	ie := &ImportError{File: name}
-	im := &importer{s: s, ctx: ctx, ie: ie, opt: opt, cd: &codec{key: s.key}, roster: map[string]bool{}, stmts: map[string]*sql.Stmt{}}
+	im := s.newImporter(ctx, name, opt)
 	f := newCSVFile(name, kind, r)
 	var run func() error
 	switch kind {
@@ -547,31 +705,53 @@ func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader,
 		return ImportResult{}, fmt.Errorf("kind %q is not procedures, lesions or histology", kind)
 	}
 	if run == nil {
-		return ImportResult{}, ie // the first line is not a header: no row can be read
+		return ImportResult{}, im.ie // the first line is not a header: no row can be read
 	}
-	err := s.inTx(ctx, func(tx *sql.Tx) error {
+	return im.run(run)
+}
+
+// errCheckOnly rolls back an import that was a check only.
+var errCheckOnly = errors.New("checked only")
+
+// run runs an import's reading in one transaction and commits it when
+// nothing was refused (and it was not a check only). Every row that passes
+// its checks is written as it comes, even after another row was refused, so
+// that later rows are checked against it (a lesion against its procedure);
+// a refused import is rolled back whole.
+func (im *importer) run(read func() error) (ImportResult, error) {
+	s := im.s
+	err := s.inTx(im.ctx, func(tx *sql.Tx) error {
 		im.tx = tx
 		defer func() {
 			for _, st := range im.stmts {
 				st.Close()
 			}
 		}()
-		if err := run(); err != nil {
+		if err := read(); err != nil {
 			return err
 		}
-		if ie.any() {
-			return ie // rolls back
+		switch {
+		case im.ie.any():
+			return im.ie // rolls back
+		case im.opt.Check:
+			return errCheckOnly
 		}
 		return nil
 	})
+	im.res.Rows = im.ie.Rows
+	if im.opt.Check && (err == nil || errors.Is(err, errCheckOnly) || errors.As(err, new(*ImportError))) {
+		if errors.Is(err, errCheckOnly) {
+			err = nil
+		}
+		return im.res, err
+	}
 	if err != nil {
 		var refused *ImportError
 		if errors.As(err, &refused) {
 			return ImportResult{}, refused
 		}
-		return ImportResult{}, fmt.Errorf("import %s: %w; nothing was imported", name, s.explain(err))
+		return ImportResult{}, fmt.Errorf("import %s: %w; nothing was imported", im.ie.File, s.explain(err))
 	}
-	im.res.Rows = ie.Rows
 	return im.res, nil
 }
 
@@ -631,7 +811,7 @@ func csvReason(err error) string {
 
 func (im *importer) problems(line int, ps logbook.Problems) {
 	for _, p := range ps {
-		im.ie.add(line, p.Field, p.Reason)
+		im.add(line, p.Field, p.Reason)
 	}
 }
 
@@ -643,11 +823,14 @@ func (im *importer) procedure(line int, p *logbook.Procedure, clean bool) error 
 		return err
 	}
 	if found && !im.opt.Update {
-		im.ie.add(line, "procedure_id", p.ID+" is already in the logbook (import with --update to replace it)")
+		im.add(line, "procedure_id", p.ID+" is already in the logbook (import with --update to replace it)")
+		im.res.clash(Procedures)
+		im.refused[p.ID] = true
 		return nil
 	}
-	if !im.writing(clean) {
-		return nil // the import will be refused; keep checking rows without writing
+	if !clean {
+		im.refused[p.ID] = true
+		return nil // the import will be refused; keep checking rows
 	}
 	if im.cd.hashed && !im.keyChecked {
 		if err := im.s.checkKey(im.ctx, im.tx); err != nil {
@@ -669,24 +852,27 @@ func (im *importer) procedure(line int, p *logbook.Procedure, clean bool) error 
 		if err := updateProcedure(im.ctx, im.tx, p); err != nil {
 			return err
 		}
-		im.res.Updated++
+		im.res.count(Procedures, true)
 		return im.s.logChange(im.ctx, im.tx, "update", "procedure "+p.ID, recordJSON(procedureColumns, &old), recordJSON(procedureColumns, p))
 	}
 	if err := im.exec(procedureInsertSQL, storedArgs(procedureColumns, p)...); err != nil {
 		return err
 	}
-	im.res.Inserted++
+	im.res.count(Procedures, false)
 	return im.s.logChange(im.ctx, im.tx, "insert", "procedure "+p.ID, nil, recordJSON(procedureColumns, p))
 }
 
 // lesion checks one lesions.csv row against the logbook and stores it.
 func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
+	if im.refused[l.ProcedureID] {
+		return nil // its procedure, earlier in this import, was refused: said there
+	}
 	found, err := im.exists("SELECT 1 FROM procedures WHERE id = ?", l.ProcedureID)
 	if err != nil {
 		return err
 	}
 	if !found {
-		im.ie.add(line, "procedure_id", l.ProcedureID+" is not in the logbook (import its procedure first)")
+		im.add(line, "procedure_id", l.ProcedureID+" is not in the logbook (import its procedure first)")
 		return nil
 	}
 	have, err := im.exists("SELECT 1 FROM lesions WHERE procedure_id = ? AND lesion_no = ?", l.ProcedureID, l.LesionNo)
@@ -694,10 +880,11 @@ func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
 		return err
 	}
 	if have && !im.opt.Update {
-		im.ie.add(line, "lesion_no", fmt.Sprintf("procedure %s already has lesion %d (import with --update to replace it)", l.ProcedureID, l.LesionNo))
+		im.add(line, "lesion_no", fmt.Sprintf("procedure %s already has lesion %d (import with --update to replace it)", l.ProcedureID, l.LesionNo))
+		im.res.clash(Lesions)
 		return nil
 	}
-	if !im.writing(clean) {
+	if !clean {
 		return nil
 	}
 	if have {
@@ -720,13 +907,13 @@ func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
 		if err := im.exec(lesionInsertSQL, storedArgs(lesionStoredColumns, l)...); err != nil {
 			return err
 		}
-		im.res.Updated++
+		im.res.count(Lesions, true)
 		return im.s.logChange(im.ctx, im.tx, "update", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, l))
 	}
 	if err := im.exec(lesionInsertSQL, storedArgs(lesionStoredColumns, l)...); err != nil {
 		return err
 	}
-	im.res.Inserted++
+	im.res.count(Lesions, false)
 	return im.s.logChange(im.ctx, im.tx, "insert", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), nil, recordJSON(lesionStoredColumns, l))
 }
 
@@ -739,12 +926,6 @@ func (im *importer) histology(line int, h *logbook.HistologyResult, clean bool) 
 		im.problems(line, ps)
 		return err
 	}
-	if !im.writing(clean) {
-		// The import will be refused: go on checking, without writing.
-		_, _, ps, err := im.s.checkHistology(im.ctx, im.tx, *h, im.opt.Update)
-		im.problems(line, ps)
-		return err
-	}
 	ps, err := im.s.applyHistology(im.ctx, im.tx, *h, im.opt.Update)
 	if err != nil {
 		return err
@@ -753,6 +934,6 @@ func (im *importer) histology(line int, h *logbook.HistologyResult, clean bool) 
 		im.problems(line, ps)
 		return nil
 	}
-	im.res.Updated++
+	im.res.recorded(Histology)
 	return nil
 }

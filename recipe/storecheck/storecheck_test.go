@@ -1,7 +1,8 @@
 // Package storecheck holds the tests that join the recipe and sheet
 // packages to the store: what a recipe produces is what the store accepts,
 // a unit's exports survive a workbook, and the workbook's formula-safety
-// rule is the CSV export's. They live apart so that
+// rule is the CSV export's; a file mapped through a recipe is checked
+// against a real store without changing it. They live apart so that
 // the recipe package's own tests, and its fuzzing, do not link the
 // database engine.
 package storecheck_test
@@ -10,6 +11,8 @@ import (
 	"bytes"
 	"context"
 	"encoding/csv"
+	"errors"
+	"fmt"
 	"io"
 	"os"
 	"path/filepath"
@@ -21,11 +24,12 @@ import (
 	"polypledger/recipe"
 	"polypledger/sheet"
 	"polypledger/store"
+	"polypledger/workspace"
 )
 
 const sources = "../../testdata/sources"
 
-func readFile(t *testing.T, path string) string {
+func readFile(t testing.TB, path string) string {
 	t.Helper()
 	b, err := os.ReadFile(path)
 	if err != nil {
@@ -45,16 +49,6 @@ func openUnit(t *testing.T) *store.Store {
 	}
 	t.Cleanup(func() { s.Close() })
 	return s
-}
-
-// TestColumnsMatchOurCSV keeps the recipe's field list the same as the
-// store's CSV columns (architecture.md, "CSV interchange").
-func TestColumnsMatchOurCSV(t *testing.T) {
-	for _, k := range recipe.Kinds {
-		if got, want := recipe.Columns(k), store.Columns(store.Kind(k)); !reflect.DeepEqual(got, want) {
-			t.Errorf("%s: recipe columns\n%q\nstore columns\n%q", k, got, want)
-		}
-	}
 }
 
 // TestShippedRecordsAreAccepted imports our CSV files of the shipped shapes
@@ -85,9 +79,8 @@ func TestShippedRecordsAreAccepted(t *testing.T) {
 	}
 }
 
-// TestWorkbookExportRoundTrip writes a unit's CSV exports as one workbook,
-// a sheet per kind with each column typed as SheetTypes says, and reads it
-// back: every sheet gives exactly the CSV export's rows.
+// TestWorkbookExportRoundTrip exports a unit as one workbook, a sheet per
+// kind, and reads it back: every sheet gives exactly the CSV export's rows.
 func TestWorkbookExportRoundTrip(t *testing.T) {
 	ctx := context.Background()
 	s := openUnit(t)
@@ -103,14 +96,9 @@ func TestWorkbookExportRoundTrip(t *testing.T) {
 		}
 	}
 	exports := map[recipe.Kind][][]string{}
-	var book bytes.Buffer
-	w, err := sheet.NewWriter(&book)
-	if err != nil {
-		t.Fatal(err)
-	}
 	for _, k := range recipe.Kinds {
 		var b bytes.Buffer
-		if _, err := s.Export(ctx, store.Kind(k), &b); err != nil {
+		if _, err := s.Export(ctx, k, &b); err != nil {
 			t.Fatal(err)
 		}
 		recs, err := csv.NewReader(&b).ReadAll()
@@ -118,16 +106,9 @@ func TestWorkbookExportRoundTrip(t *testing.T) {
 			t.Fatal(err)
 		}
 		exports[k] = recs
-		if err := w.AddSheet(string(k), recs[0], recipe.SheetTypes(k)); err != nil {
-			t.Fatal(err)
-		}
-		for _, r := range recs[1:] {
-			if err := w.WriteRow(r); err != nil {
-				t.Fatal(err)
-			}
-		}
 	}
-	if err := w.Close(); err != nil {
+	var book bytes.Buffer
+	if _, err := s.ExportWorkbook(ctx, recipe.Kinds, &book); err != nil {
 		t.Fatal(err)
 	}
 	for _, k := range recipe.Kinds {
@@ -157,22 +138,93 @@ func TestWorkbookExportRoundTrip(t *testing.T) {
 }
 
 // TestFormulaLikeMatchesCSVExport keeps the workbook's rule and the CSV
-// export's the same.
+// export's the same: the CSV export puts an apostrophe before exactly the
+// cells that are formula-like once the apostrophes they begin with are set
+// aside (one more apostrophe keeps a value that really begins with one).
 func TestFormulaLikeMatchesCSVExport(t *testing.T) {
-	for _, v := range []string{"", "=1+1", "+44 20", "-12", "-2.5", "-1e5", "-inf", "-nan", "-0x10", "-A1", "@sum", "\tx", "\rx", "x=1", "P-1", "-", "--1", "1-2"} {
-		if got, want := sheet.FormulaLike(v), store.SafeCell(v) != v; got != want {
-			t.Errorf("FormulaLike(%q) = %v, but the CSV export neutralises it: %v", v, got, want)
-		}
+	for _, v := range []string{"", "=1+1", "+44 20", "-12", "-2.5", "-1e5", "-inf", "-nan", "-0x10", "-A1", "@sum", "\tx", "\rx", "x=1", "P-1", "-", "--1", "1-2",
+		"＝1", "＋1", "－3", "＠A1", "'+", "''=1", "'abc", "'-12"} {
+		checkFormulaLike(t, v)
+	}
+}
+
+func checkFormulaLike(t *testing.T, v string) {
+	t.Helper()
+	if got, want := sheet.FormulaLike(strings.TrimLeft(v, "'")), store.SafeCell(v) != v; got != want {
+		t.Errorf("FormulaLike(%q without its leading apostrophes) = %v, but the CSV export neutralises it: %v", v, got, want)
 	}
 }
 
 func FuzzFormulaLike(f *testing.F) {
-	for _, v := range []string{"=1", "-1", "-x", "@", "+", "a"} {
+	for _, v := range []string{"=1", "-1", "-x", "@", "+", "a", "'+"} {
 		f.Add(v)
 	}
-	f.Fuzz(func(t *testing.T, v string) {
-		if got, want := sheet.FormulaLike(v), store.SafeCell(v) != v; got != want {
-			t.Errorf("FormulaLike(%q) = %v, CSV export %v", v, got, want)
+	f.Fuzz(checkFormulaLike)
+}
+
+// FuzzImportThroughRecipe maps arbitrary CSV text through the room
+// system's recipe and checks it against a real store (ImportFile with
+// Check), as `import --check --recipe` does: it never panics, a refusal is
+// an *ImportError whose every problem names the file, and the store is
+// unchanged whatever the input.
+func FuzzImportThroughRecipe(f *testing.F) {
+	room := readFile(f, filepath.Join(sources, "room", "room.csv"))
+	f.Add(room)
+	f.Add(strings.Replace(room, "58,Female", "17,Female", 1))
+	f.Add(strings.Replace(room, "Positive FIT", "Bowel scope", 1))
+	f.Add("ExamID,ExamDate\nX1,05-Mar-2026\n")
+	rcp, err := recipe.Load(filepath.Join(sources, "room", "recipe.toml"))
+	if err != nil {
+		f.Fatal(err)
+	}
+	dir := f.TempDir()
+	f.Setenv("POLYPLEDGER_HOME", filepath.Join(dir, "home"))
+	ctx := context.Background()
+	st, err := workspace.OpenStore(ctx, filepath.Join(dir, "unit.db"), true)
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Cleanup(func() { st.Close() })
+	if _, err := workspace.ImportFile(ctx, st, workspace.ImportRequest{Path: filepath.Join(sources, "room", "procedures.csv"), Kind: store.Procedures}); err != nil {
+		f.Fatal(err)
+	}
+	before := exported(f, st)
+	f.Fuzz(func(t *testing.T, data string) {
+		path := filepath.Join(t.TempDir(), "room.csv")
+		if err := os.WriteFile(path, []byte(data), 0o600); err != nil {
+			t.Fatal(err)
+		}
+		_, err := workspace.ImportFile(ctx, st, workspace.ImportRequest{Path: path, Recipe: rcp, Check: true})
+		var ie *store.ImportError
+		var se *sheet.Error
+		switch {
+		case errors.As(err, &ie):
+			for _, p := range ie.Errors {
+				if !strings.HasPrefix(p.String(), path) {
+					t.Errorf("a problem that does not name the file: %s", p)
+				}
+			}
+		case errors.As(err, &se), err == nil:
+		default:
+			t.Fatalf("%T %v", err, err)
+		}
+		if after := exported(t, st); after != before {
+			t.Fatal("a check changed the store")
 		}
 	})
+}
+
+// exported says what a store holds, cheaply: its procedures and its
+// change log's entries (every write adds one).
+func exported(t testing.TB, st *store.Store) string {
+	ctx := context.Background()
+	n, err := st.CountProcedures(ctx, store.ListQuery{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	log, err := st.ChangeLog(ctx, 1<<20)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return fmt.Sprint(n, len(log))
 }
