@@ -268,15 +268,26 @@ func (s *session) resize() {
 	s.t.Helper()
 	want := fmt.Sprintf("WIDTH=%d\nHEIGHT=%d", s.d.w, s.d.h)
 	var geo string
+	var canvas screen
 	for i := 0; i < 40; i++ {
 		s.xdo("windowsize", s.wid, strconv.Itoa(s.d.w), strconv.Itoa(s.d.h))
 		geo = s.xdoOut(5*time.Second, "getwindowgeometry", "--shell", s.wid)
 		if strings.Contains(geo, want) {
-			return
+			// The X window has its size; the toolkit may still lay out
+			// at its first size (it can apply that after this resize
+			// when the machine is busy), so wait until the program's own
+			// canvas says it has the new size, and resize again if not.
+			var ok bool
+			canvas, ok = s.poll(3*time.Second, func(sc screen) bool {
+				return int(sc.Width+0.5) == s.d.w && int(sc.Height+0.5) == s.d.h
+			})
+			if ok {
+				return
+			}
 		}
 		time.Sleep(150 * time.Millisecond)
 	}
-	s.t.Fatalf("the window will not take %d × %d; it stays at\n%s", s.d.w, s.d.h, geo)
+	s.t.Fatalf("the window will not take %d × %d; it stays at\n%s\nand the program lays out at %.0f × %.0f", s.d.w, s.d.h, geo, canvas.Width, canvas.Height)
 }
 
 // xdo runs xdotool on the display.
