@@ -2,7 +2,6 @@ package store
 
 import (
 	"context"
-	"database/sql"
 	"errors"
 	"fmt"
 
@@ -20,7 +19,7 @@ import (
 func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.RosterEntry, source string,
 	each func(emit func(*logbook.Case) error) error, progress func(n int)) (int, error) {
 	var n int
-	err := s.inTx(ctx, func(tx *sql.Tx) error {
+	err := s.inTx(ctx, func(tx *txn) error {
 		var have int
 		if err := tx.QueryRowContext(ctx, "SELECT count(*) FROM procedures").Scan(&have); err != nil {
 			return err
@@ -41,7 +40,7 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			if ps := logbook.ValidateRosterEntry(r); len(ps) > 0 {
 				return &ValidationError{Record: "roster entry " + r.ID, Problems: ps}
 			}
-			if _, err := tx.ExecContext(ctx, "INSERT INTO roster (id, name, role, retired) VALUES (?, ?, ?, ?)", r.ID, r.Name, string(r.Role), r.Retired); err != nil {
+			if _, err := tx.ExecContext(ctx, "INSERT INTO roster (id, name, role, retired) VALUES (?, ?, ?, ?)", r.ID, r.Name, string(r.Role), boolInt(r.Retired)); err != nil {
 				return err
 			}
 			if err := s.logChange(ctx, tx, "insert", "roster "+r.ID, nil, rosterMap(r)); err != nil {
@@ -49,16 +48,24 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			}
 			onRoster[r.ID] = true
 		}
-		ps, err := tx.PrepareContext(ctx, procedureInsertSQL)
+		// Procedures go in before their lesions (which refer to them): a
+		// prepared INSERT each on SQLite, COPY in batches on a server.
+		pw, err := s.be.bulk(ctx, tx, "procedures", columnNames(procedureColumns))
 		if err != nil {
 			return err
 		}
-		defer ps.Close()
-		ls, err := tx.PrepareContext(ctx, lesionInsertSQL)
+		defer pw.close()
+		lw, err := s.be.bulk(ctx, tx, "lesions", columnNames(lesionStoredColumns))
 		if err != nil {
 			return err
 		}
-		defer ls.Close()
+		defer lw.close()
+		flush := func() error {
+			if err := pw.flush(ctx); err != nil {
+				return err
+			}
+			return lw.flush(ctx)
+		}
 		today := s.today()
 		var first, last string
 		var lesions int
@@ -79,11 +86,11 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			if len(probs) > 0 {
 				return &ValidationError{Record: "procedure " + c.ID, Problems: probs}
 			}
-			if _, err := ps.ExecContext(ctx, storedArgs(procedureColumns, &c.Procedure)...); err != nil {
+			if err := pw.write(ctx, storedArgs(procedureColumns, &c.Procedure)); err != nil {
 				return fmt.Errorf("procedure %s: %w", c.ID, err)
 			}
 			for i := range c.Lesions {
-				if _, err := ls.ExecContext(ctx, storedArgs(lesionStoredColumns, &c.Lesions[i])...); err != nil {
+				if err := lw.write(ctx, storedArgs(lesionStoredColumns, &c.Lesions[i])); err != nil {
 					return fmt.Errorf("procedure %s lesion %d: %w", c.ID, c.Lesions[i].LesionNo, err)
 				}
 			}
@@ -93,12 +100,20 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			last = c.ID
 			lesions += len(c.Lesions)
 			n++
-			if progress != nil && n%ProgressEvery == 0 {
-				progress(n)
+			if n%ProgressEvery == 0 {
+				if err := flush(); err != nil {
+					return err
+				}
+				if progress != nil {
+					progress(n)
+				}
 			}
 			return nil
 		})
 		if err != nil {
+			return err
+		}
+		if err := flush(); err != nil {
 			return err
 		}
 		return s.logChange(ctx, tx, "insert", "bulk load", nil, map[string]any{

@@ -21,7 +21,7 @@ func countWithPrefix(t testing.TB, path, prefix string) int {
 	}
 	defer s.Close()
 	var n int
-	if err := s.db.QueryRow("SELECT count(*) FROM procedures WHERE id LIKE ? || '%'", prefix).Scan(&n); err != nil {
+	if err := s.db.QueryRowContext(context.Background(), "SELECT count(*) FROM procedures WHERE id LIKE ? || '%'", prefix).Scan(&n); err != nil {
 		t.Fatal(err)
 	}
 	return n
@@ -108,17 +108,21 @@ func processTest(t *testing.T) (dir, home string) {
 func holdWriteLock(t *testing.T, path string) (release func()) {
 	t.Helper()
 	holder := openTest(t, path, Options{})
-	tx, err := holder.db.BeginTx(context.Background(), nil) // BEGIN IMMEDIATE: takes the write lock now
+	ctx := context.Background()
+	tx, err := holder.db.begin(ctx, nil) // BEGIN IMMEDIATE on SQLite: takes the write lock now
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := tx.Exec("INSERT INTO settings (key, value) VALUES ('lock-holder', 'x')"); err != nil {
+	if err := holder.be.lockWrites(ctx, tx); err != nil { // the write lock on a server
+		t.Fatal(err)
+	}
+	if _, err := tx.ExecContext(ctx, "INSERT INTO settings (key, value) VALUES ('lock-holder', 'x')"); err != nil {
 		t.Fatal(err)
 	}
 	var once sync.Once
 	release = func() {
 		once.Do(func() {
-			tx.Rollback()
+			tx.rollback()
 			holder.Close()
 		})
 	}
@@ -131,8 +135,11 @@ func holdWriteLock(t *testing.T, path string) (release func()) {
 // import must give up after about its timeout with ErrBusy's message and
 // store nothing; once the lock is released the same import succeeds.
 func TestBusyWriterStoresNothing(t *testing.T) {
-	dir := t.TempDir()
-	db := filepath.Join(dir, "unit.db")
+	EachBackend(t, testBusyWriterStoresNothing)
+}
+
+func testBusyWriterStoresNothing(t *testing.T, b TestBackend) {
+	db := b.NewDB(t)
 	openTest(t, db, Options{}).Close()
 	cases := inventedCases(t, 50, "W", 11)
 	data := proceduresCSV(t, cases)

@@ -118,10 +118,27 @@ func plural(n int, one, many string) string {
 	return many
 }
 
+// add records a problem. Problems are listed in the order of their lines
+// (those of one line in the order found), although an import finds the
+// problems a row has with the logbook only when its batch is checked, after
+// the rows that follow it in the batch; the first MaxReportedErrors by line
+// are kept.
 func (e *ImportError) add(line int, column, reason string) {
-	if len(e.Errors) < MaxReportedErrors {
-		e.Errors = append(e.Errors, RowError{File: e.File, Line: line, Column: column, Reason: reason})
-	} else {
+	re := RowError{File: e.File, Line: line, Column: column, Reason: reason}
+	n := len(e.Errors)
+	if n == MaxReportedErrors && line >= e.Errors[n-1].Line {
+		e.More++
+		return
+	}
+	i := n
+	for i > 0 && e.Errors[i-1].Line > line {
+		i--
+	}
+	e.Errors = append(e.Errors, RowError{})
+	copy(e.Errors[i+1:], e.Errors[i:])
+	e.Errors[i] = re
+	if len(e.Errors) > MaxReportedErrors {
+		e.Errors = e.Errors[:MaxReportedErrors]
 		e.More++
 	}
 }
@@ -454,7 +471,7 @@ func readRows[T any](ctx context.Context, f *csvFile, ru rules[T], idx []int, ab
 type importer struct {
 	s      *Store
 	ctx    context.Context
-	tx     *sql.Tx
+	tx     *txn
 	ie     *ImportError
 	cd     *codec
 	res    ImportResult
@@ -463,6 +480,176 @@ type importer struct {
 	stmts  map[string]*sql.Stmt
 	// keyChecked is set once the unit key has been matched to the database.
 	keyChecked bool
+	// Rows are handled in batches of importBatch: what they need to know
+	// of the logbook is read for the whole batch at once (procedures and
+	// lesions already stored), and their new records and change-log
+	// entries go through bulk writers (COPY on a server), flushed at the
+	// end of each batch.
+	procedures map[string]bool // of the batch's procedure ids, those stored
+	lesions    map[string]bool // of the batch's lesions, those stored ("P1#2")
+	writers    []bulkWriter
+	procW      bulkWriter
+	lesionW    bulkWriter
+	logW       bulkWriter
+}
+
+// importBatch is how many rows are checked against the logbook, and
+// written, at once.
+const importBatch = 500
+
+// startWriters opens the bulk writers inside the import's transaction.
+func (im *importer) startWriters() error {
+	for _, w := range []struct {
+		to    *bulkWriter
+		table string
+		cols  []string
+	}{
+		{&im.procW, "procedures", columnNames(procedureColumns)},
+		{&im.lesionW, "lesions", columnNames(lesionStoredColumns)},
+		{&im.logW, "change_log", im.s.logColumns()},
+	} {
+		bw, err := im.s.be.bulk(im.ctx, im.tx, w.table, w.cols)
+		if err != nil {
+			return err
+		}
+		*w.to = bw
+		im.writers = append(im.writers, bw)
+	}
+	return nil
+}
+
+// flushWriters writes what the bulk writers hold, procedures before the
+// lesions that may refer to them.
+func (im *importer) flushWriters() error {
+	for _, w := range im.writers {
+		if err := w.flush(im.ctx); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// logChange adds a change-log entry through the bulk writer, so that the
+// log keeps the order of the file's rows.
+func (im *importer) logChange(action, record string, old, new any) error {
+	return im.logW.write(im.ctx, im.s.changeValues(action, record, old, new))
+}
+
+// batched returns a sink that collects rows and hands each full batch —
+// and, through the returned flush, the last one — to prefetch and then,
+// row by row, to sink, before writing what the batch stored.
+func batched[T any](im *importer, prefetch func(rows []*T) error, sink rowSink[T]) (rowSink[T], func() error) {
+	type item struct {
+		line  int
+		r     T
+		clean bool
+	}
+	var items []item
+	flush := func() error {
+		if len(items) == 0 {
+			return nil
+		}
+		rs := make([]*T, len(items))
+		for i := range items {
+			rs[i] = &items[i].r
+		}
+		if err := prefetch(rs); err != nil {
+			return err
+		}
+		for i := range items {
+			if err := sink(items[i].line, &items[i].r, items[i].clean); err != nil {
+				return err
+			}
+		}
+		items = items[:0]
+		return im.flushWriters()
+	}
+	return func(line int, r *T, clean bool) error {
+		items = append(items, item{line, *r, clean})
+		if len(items) == importBatch {
+			return flush()
+		}
+		return nil
+	}, flush
+}
+
+// storedIDs returns which of ids are procedures in the logbook.
+func (im *importer) storedIDs(ids []string) (map[string]bool, error) {
+	out := make(map[string]bool, len(ids))
+	if len(ids) == 0 {
+		return out, nil
+	}
+	args := make([]any, len(ids))
+	for i, id := range ids {
+		args[i] = id
+	}
+	rows, err := im.tx.QueryContext(im.ctx, "SELECT id FROM procedures WHERE id IN ("+placeholders(len(ids))+")", args...)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var id string
+		if err := rows.Scan(&id); err != nil {
+			return nil, err
+		}
+		out[id] = true
+	}
+	return out, rows.Err()
+}
+
+// prefetchProcedures reads which of a batch's procedures are stored.
+func (im *importer) prefetchProcedures(rows []*logbook.Procedure) error {
+	var err error
+	im.procedures, err = im.storedIDs(distinct(rows, func(p *logbook.Procedure) string { return p.ID }))
+	return err
+}
+
+// prefetchLesions reads which of a batch's procedures, and which of their
+// lesions, are stored.
+func (im *importer) prefetchLesions(rows []*logbook.Lesion) error {
+	ids := distinct(rows, func(l *logbook.Lesion) string { return l.ProcedureID })
+	var err error
+	if im.procedures, err = im.storedIDs(ids); err != nil {
+		return err
+	}
+	im.lesions = map[string]bool{}
+	if len(ids) == 0 {
+		return nil
+	}
+	args := make([]any, len(ids))
+	for i, id := range ids {
+		args[i] = id
+	}
+	q, err := im.tx.QueryContext(im.ctx, "SELECT procedure_id, lesion_no FROM lesions WHERE procedure_id IN ("+placeholders(len(ids))+")", args...)
+	if err != nil {
+		return err
+	}
+	defer q.Close()
+	for q.Next() {
+		var id string
+		var no int
+		if err := q.Scan(&id, &no); err != nil {
+			return err
+		}
+		im.lesions[lesionKey(id, no)] = true
+	}
+	return q.Err()
+}
+
+func lesionKey(procedureID string, no int) string { return fmt.Sprintf("%s#%d", procedureID, no) }
+
+// distinct returns the different keys of rows, in order of first use.
+func distinct[T any](rows []*T, key func(*T) string) []string {
+	seen := make(map[string]bool, len(rows))
+	var out []string
+	for _, r := range rows {
+		if k := key(r); !seen[k] {
+			seen[k] = true
+			out = append(out, k)
+		}
+	}
+	return out
 }
 
 func (im *importer) stmt(q string) (*sql.Stmt, error) {
@@ -515,7 +702,7 @@ func (im *importer) ensureOnRoster(id string, role logbook.Role) error {
 		return err
 	}
 	im.res.RosterAdded = append(im.res.RosterAdded, r)
-	return im.s.logChange(im.ctx, im.tx, "insert", "roster "+id, nil, rosterMap(r))
+	return im.logChange("insert", "roster "+id, nil, rosterMap(r))
 }
 
 // writing reports whether a row that passed its checks is to be stored:
@@ -538,24 +725,30 @@ func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader,
 	var run func() error
 	switch kind {
 	case Procedures:
-		run = importFile(im, f, procedureRules, im.procedure)
+		run = importFile(im, f, procedureRules, im.prefetchProcedures, im.procedure)
 	case Lesions:
-		run = importFile(im, f, lesionRules, im.lesion)
+		run = importFile(im, f, lesionRules, im.prefetchLesions, im.lesion)
 	case Histology:
-		run = importFile(im, f, histologyRules, im.histology)
+		run = importFile(im, f, histologyRules, func([]*H) error { return nil }, im.histology)
 	default:
 		return ImportResult{}, fmt.Errorf("kind %q is not procedures, lesions or histology", kind)
 	}
 	if run == nil {
 		return ImportResult{}, ie // the first line is not a header: no row can be read
 	}
-	err := s.inTx(ctx, func(tx *sql.Tx) error {
+	err := s.inTx(ctx, func(tx *txn) error {
 		im.tx = tx
 		defer func() {
 			for _, st := range im.stmts {
 				st.Close()
 			}
+			for _, w := range im.writers {
+				w.close()
+			}
 		}()
+		if err := im.startWriters(); err != nil {
+			return err
+		}
 		if err := run(); err != nil {
 			return err
 		}
@@ -576,14 +769,19 @@ func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader,
 }
 
 // importFile reads f's header and returns the function that reads its rows
-// into the import, or nil when the file has no header row.
-func importFile[T any](im *importer, f *csvFile, ru rules[T], sink rowSink[T]) func() error {
+// into the import in batches (see batched), or nil when the file has no
+// header row.
+func importFile[T any](im *importer, f *csvFile, ru rules[T], prefetch func([]*T) error, sink rowSink[T]) func() error {
 	idx, absent, width, ok := header(f, ru.cols, im.ie)
 	if !ok {
 		return nil
 	}
 	return func() error {
-		return readRows(im.ctx, f, ru, idx, absent, width, im.cd, im.s.today(), im.ie, im.opt.Progress, sink)
+		each, last := batched(im, prefetch, sink)
+		if err := readRows(im.ctx, f, ru, idx, absent, width, im.cd, im.s.today(), im.ie, im.opt.Progress, each); err != nil {
+			return err
+		}
+		return last()
 	}
 }
 
@@ -638,10 +836,7 @@ func (im *importer) problems(line int, ps logbook.Problems) {
 // procedure checks one procedures.csv row against the logbook and stores
 // it.
 func (im *importer) procedure(line int, p *logbook.Procedure, clean bool) error {
-	found, err := im.exists("SELECT 1 FROM procedures WHERE id = ?", p.ID)
-	if err != nil {
-		return err
-	}
+	found := im.procedures[p.ID]
 	if found && !im.opt.Update {
 		im.ie.add(line, "procedure_id", p.ID+" is already in the logbook (import with --update to replace it)")
 		return nil
@@ -670,29 +865,22 @@ func (im *importer) procedure(line int, p *logbook.Procedure, clean bool) error 
 			return err
 		}
 		im.res.Updated++
-		return im.s.logChange(im.ctx, im.tx, "update", "procedure "+p.ID, recordJSON(procedureColumns, &old), recordJSON(procedureColumns, p))
+		return im.logChange("update", "procedure "+p.ID, recordJSON(procedureColumns, &old), recordJSON(procedureColumns, p))
 	}
-	if err := im.exec(procedureInsertSQL, storedArgs(procedureColumns, p)...); err != nil {
+	if err := im.procW.write(im.ctx, storedArgs(procedureColumns, p)); err != nil {
 		return err
 	}
 	im.res.Inserted++
-	return im.s.logChange(im.ctx, im.tx, "insert", "procedure "+p.ID, nil, recordJSON(procedureColumns, p))
+	return im.logChange("insert", "procedure "+p.ID, nil, recordJSON(procedureColumns, p))
 }
 
 // lesion checks one lesions.csv row against the logbook and stores it.
 func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
-	found, err := im.exists("SELECT 1 FROM procedures WHERE id = ?", l.ProcedureID)
-	if err != nil {
-		return err
-	}
-	if !found {
+	if !im.procedures[l.ProcedureID] {
 		im.ie.add(line, "procedure_id", l.ProcedureID+" is not in the logbook (import its procedure first)")
 		return nil
 	}
-	have, err := im.exists("SELECT 1 FROM lesions WHERE procedure_id = ? AND lesion_no = ?", l.ProcedureID, l.LesionNo)
-	if err != nil {
-		return err
-	}
+	have := im.lesions[lesionKey(l.ProcedureID, l.LesionNo)]
 	if have && !im.opt.Update {
 		im.ie.add(line, "lesion_no", fmt.Sprintf("procedure %s already has lesion %d (import with --update to replace it)", l.ProcedureID, l.LesionNo))
 		return nil
@@ -721,13 +909,13 @@ func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
 			return err
 		}
 		im.res.Updated++
-		return im.s.logChange(im.ctx, im.tx, "update", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, l))
+		return im.logChange("update", "lesion "+lesionKey(l.ProcedureID, l.LesionNo), recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, l))
 	}
-	if err := im.exec(lesionInsertSQL, storedArgs(lesionStoredColumns, l)...); err != nil {
+	if err := im.lesionW.write(im.ctx, storedArgs(lesionStoredColumns, l)); err != nil {
 		return err
 	}
 	im.res.Inserted++
-	return im.s.logChange(im.ctx, im.tx, "insert", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), nil, recordJSON(lesionStoredColumns, l))
+	return im.logChange("insert", "lesion "+lesionKey(l.ProcedureID, l.LesionNo), nil, recordJSON(lesionStoredColumns, l))
 }
 
 // histology checks one histology.csv row against the lesion it is for and

@@ -15,19 +15,14 @@ type CaseFilter struct {
 	TraineeID  string
 }
 
-func (f CaseFilter) where(alias string) (string, []any) { return f.whereOpt(alias, false) }
+func (f CaseFilter) where(alias string) (string, []any) { return f.whereOpt(alias, "") }
 
-// whereOpt builds the WHERE clause; scanDates keeps the date conditions off
-// the date index (the unary plus), for reads that go through the table in
-// stored order anyway: filtering rows as they pass is cheaper than sorting
-// an index range back into that order.
-func (f CaseFilter) whereOpt(alias string, scanDates bool) (string, []any) {
+// whereOpt builds the WHERE clause; datePrefix goes before the date
+// column (SQLite's unary plus keeps a condition off an index).
+func (f CaseFilter) whereOpt(alias, datePrefix string) (string, []any) {
 	var conds []string
 	var args []any
-	date := alias + "performed_on"
-	if scanDates {
-		date = "+" + date
-	}
+	date := datePrefix + alias + "performed_on"
 	if !f.From.IsZero() {
 		conds = append(conds, date+" >= ?")
 		args = append(args, logbook.FormatDate(f.From))

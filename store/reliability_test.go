@@ -262,7 +262,7 @@ func countsOf(t testing.TB, path string) dbCounts {
 		{"SELECT count(*) FROM lesions", &c.lesions},
 		{"SELECT count(*) FROM change_log", &c.changes},
 	} {
-		if err := s.db.QueryRow(q.sql).Scan(q.n); err != nil {
+		if err := s.db.QueryRowContext(context.Background(), q.sql).Scan(q.n); err != nil {
 			t.Fatalf("%s: %v", q.sql, err)
 		}
 	}
