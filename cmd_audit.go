@@ -66,7 +66,7 @@ func (a *auditSetup) guideline(flagValue string) (report.Guideline, error) {
 
 func cmdInterval(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("interval", "--db PATH [--procedure ID] [--guideline G] [--format json|text]", e.stderr)
-	db := fs.String("db", "", "database file")
+	db := fs.String("db", defaultDB(), dbUsage)
 	id := fs.String("procedure", "", "procedure id (default: every procedure)")
 	guide := fs.String("guideline", "", "usmstf-2020, esge-2020 or bsg-2020 (default from unit settings)")
 	format := fs.String("format", "text", "json or text")
@@ -149,7 +149,7 @@ func (a *auditSetup) computeMetrics(ctx context.Context, from, to time.Time, g r
 
 func cmdMetrics(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("metrics", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID] [--format json|table]", e.stderr)
-	db := fs.String("db", "", "database file")
+	db := fs.String("db", defaultDB(), dbUsage)
 	fromS := fs.String("from", "", "first day of the period (YYYY-MM-DD)")
 	toS := fs.String("to", "", "last day of the period (YYYY-MM-DD)")
 	standard := fs.String("standard", "", "standard profile id (default from unit settings)")

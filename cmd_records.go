@@ -27,7 +27,7 @@ func cmdVersion(ctx context.Context, e *env, args []string) error {
 
 func cmdDemo(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("demo", "--db PATH [--procedures N] [--seed S]", e.stderr)
-	db := fs.String("db", "", "database file to create")
+	db := fs.String("db", defaultDB(), dbUsage)
 	n := fs.Int("procedures", 4000, "how many procedures to invent")
 	seed := fs.Uint64("seed", 1, "seed: the same seed gives the same unit")
 	if err := parseFlagsOnly(fs, args); err != nil {
@@ -52,13 +52,16 @@ func cmdDemo(ctx context.Context, e *env, args []string) error {
 	})
 	warnKey(e)
 	if err != nil {
-		return fmt.Errorf("demo %s: %w", *db, err)
+		return fmt.Errorf("demo %s: %w", store.Describe(*db), err)
 	}
 	verb := "created"
-	if !created {
+	switch {
+	case store.IsServerURL(*db):
+		verb = "filled the empty" // "database NAME on server …"
+	case !created:
 		verb = "filled the empty database"
 	}
-	fmt.Fprintf(e.stdout, "%s %s: %s, %d procedures (invented data)\n", verb, *db, demo.UnitName, count)
+	fmt.Fprintf(e.stdout, "%s %s: %s, %d procedures (invented data)\n", verb, store.Describe(*db), demo.UnitName, count)
 	return nil
 }
 
@@ -71,7 +74,7 @@ func warnKey(e *env) {
 
 func cmdImport(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("import", "--db PATH --kind procedures|lesions|histology [--update] FILE.csv", e.stderr)
-	db := fs.String("db", "", "database file (created if it does not exist)")
+	db := fs.String("db", defaultDB(), dbUsage)
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
 	update := fs.Bool("update", false, "replace records already stored instead of refusing them")
 	pos, err := parse(fs, args)
@@ -119,7 +122,7 @@ func cmdImport(ctx context.Context, e *env, args []string) error {
 	created, err := workspace.Fill(ctx, *db, kind == store.Procedures, func(st *store.Store) error {
 		if reads++; reads > 1 {
 			if _, err := f.Seek(0, io.SeekStart); err != nil {
-				return fmt.Errorf("another program created %s while %s was being read, and %s cannot be read a second time; nothing was imported — run the import again", *db, name, name)
+				return fmt.Errorf("another program created %s while %s was being read, and %s cannot be read a second time; nothing was imported — run the import again", store.Describe(*db), name, name)
 			}
 		}
 		var err error
@@ -133,7 +136,7 @@ func cmdImport(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	if created {
-		fmt.Fprintf(e.stdout, "created a new database %s\n", *db)
+		fmt.Fprintf(e.stdout, "created a new database %s\n", store.Describe(*db))
 	}
 	fmt.Fprintf(e.stdout, "%s: imported %d %s (%d new, %d updated)\n", name, res.Rows, plural(res.Rows, "row", "rows"), res.Inserted, res.Updated)
 	for _, r := range res.RosterAdded {
@@ -159,6 +162,9 @@ var recordWords = map[store.Kind][2]string{
 
 // output is where a command writes a file: the --out and --force flags.
 func output(out string, force bool, db string) workspace.Output {
+	if store.IsServerURL(db) {
+		db = "" // no file of the database to protect
+	}
 	return workspace.Output{Path: out, Replace: force, Database: db}
 }
 
@@ -172,7 +178,7 @@ func forceHint(err error) error {
 
 func cmdExport(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("export", "--db PATH --kind procedures|lesions|histology --out FILE.csv [--force]", e.stderr)
-	db := fs.String("db", "", "database file")
+	db := fs.String("db", defaultDB(), dbUsage)
 	kindName := fs.String("kind", "", "procedures, lesions or histology")
 	out := fs.String("out", "", "CSV file to write (- for standard output)")
 	force := fs.Bool("force", false, "replace the file if it exists (never a database)")
@@ -225,7 +231,7 @@ func cmdExport(ctx context.Context, e *env, args []string) error {
 
 func cmdCheck(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("check", "--db PATH", e.stderr)
-	db := fs.String("db", "", "database file")
+	db := fs.String("db", defaultDB(), dbUsage)
 	if err := parseFlagsOnly(fs, args); err != nil {
 		return err
 	}
@@ -242,19 +248,19 @@ func cmdCheck(ctx context.Context, e *env, args []string) error {
 	defer st.Close()
 	findings, err := st.Check(ctx)
 	if err != nil {
-		return fmt.Errorf("%s: %w", *db, err)
+		return fmt.Errorf("%s: %w", st.Location(), err)
 	}
 	if len(findings) > 0 {
-		return fmt.Errorf("%s has %d %s:\n%s", *db, len(findings), plural(len(findings), "problem", "problems"), strings.Join(findings, "\n"))
+		return fmt.Errorf("%s has %d %s:\n%s", st.Location(), len(findings), plural(len(findings), "problem", "problems"), strings.Join(findings, "\n"))
 	}
 	n, _ := st.CountProcedures(ctx, store.ListQuery{})
-	fmt.Fprintf(e.stdout, "%s: ok (schema %d, %d %s)\n", *db, store.SchemaVersion, n, plural(n, "procedure", "procedures"))
+	fmt.Fprintf(e.stdout, "%s: ok (schema %d, %d %s)\n", st.Location(), store.SchemaVersion, n, plural(n, "procedure", "procedures"))
 	return nil
 }
 
 func cmdBackup(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("backup", "--db PATH --out FILE [--force]", e.stderr)
-	db := fs.String("db", "", "database file")
+	db := fs.String("db", defaultDB(), dbUsage)
 	out := fs.String("out", "", "backup file to create")
 	force := fs.Bool("force", false, "replace the file if it exists (never a database: an older backup is not replaced)")
 	if err := parseFlagsOnly(fs, args); err != nil {
@@ -278,6 +284,6 @@ func cmdBackup(ctx context.Context, e *env, args []string) error {
 	if err := st.Backup(ctx, *out, *force); err != nil {
 		return forceHint(err)
 	}
-	fmt.Fprintf(e.stdout, "backed up %s to %s (checked)\n", *db, *out)
+	fmt.Fprintf(e.stdout, "backed up %s to %s (checked)\n", st.Location(), *out)
 	return nil
 }

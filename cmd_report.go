@@ -18,7 +18,7 @@ import (
 // report (--operator) or a trainee's logbook (--trainee).
 func cmdReport(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("report", "--db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf [--force]", e.stderr)
-	db := fs.String("db", "", "database file")
+	db := fs.String("db", defaultDB(), dbUsage)
 	fromS := fs.String("from", "", "first day of the period (YYYY-MM-DD)")
 	toS := fs.String("to", "", "last day of the period (YYYY-MM-DD)")
 	standard := fs.String("standard", "", "standard profile id (default from unit settings)")

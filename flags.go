@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"polypledger/logbook"
+	"polypledger/store"
 )
 
 // errHelp reports that -h was asked for and usage has been printed.
@@ -93,9 +94,20 @@ func parseFlagsOnly(fs *flag.FlagSet, args []string) error {
 	return nil
 }
 
+// dbUsage is the help text of every command's --db flag.
+const dbUsage = "database: a file, or a postgres:// URL of a unit server (default $POLYPLEDGER_DB)"
+
+// defaultDB is the --db value when none is given: $POLYPLEDGER_DB, which
+// a workstation of a unit server sets to the server's URL.
+func defaultDB() string { return os.Getenv("POLYPLEDGER_DB") }
+
 // mustExist refuses a --db path that names no file, rather than letting a
-// reading command create an empty database.
+// reading command create an empty database. A server database is checked
+// when it is opened.
 func mustExist(db string) error {
+	if store.IsServerURL(db) {
+		return nil
+	}
 	if _, err := os.Stat(db); err != nil {
 		return fmt.Errorf("database %s does not exist", db)
 	}

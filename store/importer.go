@@ -716,8 +716,8 @@ func (im *importer) writing(clean bool) bool { return clean && !im.ie.any() }
 // what is stored — and the database is unchanged. name is the file name
 // used in messages.
 func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader, opt ImportOptions) (ImportResult, error) {
-	if s.readOnly {
-		return ImportResult{}, errors.New("the database is open read-only")
+	if ok, why := s.Writable(); !ok {
+		return ImportResult{}, fmt.Errorf("import %s: %s; nothing was imported", name, why)
 	}
 	ie := &ImportError{File: name}
 	im := &importer{s: s, ctx: ctx, ie: ie, opt: opt, cd: &codec{key: s.key}, roster: map[string]bool{}, stmts: map[string]*sql.Stmt{}}

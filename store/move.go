@@ -69,7 +69,7 @@ func Move(ctx context.Context, src *Store, dst string, opt Options, progress fun
 		}
 		return MoveResult{}, fmt.Errorf("%w; nothing was copied", err)
 	}
-	say("checking %s", dst)
+	say("checking %s", Describe(dst))
 	d, err := Open(ctx, dst, Options{ReadOnly: true})
 	if err != nil {
 		return res, err

@@ -55,7 +55,7 @@ func connectPostgres(ctx context.Context, rawURL string, opt Options) (*Store, e
 	be := &pgBackend{cfg: cfg, database: cfg.Database, role: cfg.User}
 	be.server = serverName(cfg)
 	s := newStore(be, opt)
-	s.location = fmt.Sprintf("database %s on %s", cfg.Database, be.server)
+	s.location = Describe(rawURL)
 	if cfg.ConnectTimeout == 0 {
 		cfg.ConnectTimeout = connectTimeout
 	}
@@ -131,7 +131,7 @@ func createPostgres(ctx context.Context, rawURL string, opt Options, fill func(*
 	defer s.Close()
 	if err := s.createSchema(ctx, opt.migrateTo, fill); err != nil {
 		if errors.Is(err, ErrExists) {
-			return fmt.Errorf("%s: %w (it already holds a polypledger unit)", s.location, ErrExists)
+			return unitExists{s.location}
 		}
 		var ve *ValidationError
 		var ie *ImportError
@@ -142,6 +142,13 @@ func createPostgres(ctx context.Context, rawURL string, opt Options, fill func(*
 	}
 	return nil
 }
+
+// unitExists is Create's refusal of a server database that holds a unit
+// already; it matches ErrExists.
+type unitExists struct{ location string }
+
+func (e unitExists) Error() string        { return e.location + " already holds a polypledger unit" }
+func (e unitExists) Is(target error) bool { return target == ErrExists }
 
 // createSchema makes the schema in a database holding no tables and runs
 // fill, all in one transaction that commits only when both succeed; the
@@ -188,6 +195,21 @@ func (s *Store) createSchema(ctx context.Context, stopAt int, fill func(*Store) 
 	return nil
 }
 
+// Describe names a database location for messages and screens the way
+// Store.Location does, without opening it: a file's path as given, or
+// "database NAME on server HOST:PORT" for a server URL — never the URL
+// itself, which may hold a password.
+func Describe(location string) string {
+	if !IsServerURL(location) {
+		return location
+	}
+	cfg, err := pgx.ParseConfig(location)
+	if err != nil {
+		return "a database on a server (its URL cannot be read)"
+	}
+	return fmt.Sprintf("database %s on %s", cfg.Database, serverName(cfg))
+}
+
 // serverName names the server for messages: host and port, or the local
 // socket folder.
 func serverName(cfg *pgx.ConnConfig) string {
@@ -219,6 +241,9 @@ func (b *pgBackend) connectError(err error) error {
 	if errors.As(err, &pe) {
 		switch pe.Code {
 		case "28P01":
+			if b.cfg.Password == "" {
+				return fmt.Errorf("%s asks for the password of role %s and none was found: keep it in your password file (~/.pgpass, mode 0600), not in the URL", capital(b.server), b.role)
+			}
 			return fmt.Errorf("%s refused the password of role %s: check the password kept for it in your password file (~/.pgpass, or the file PGPASSFILE names)", capital(b.server), b.role)
 		case "28000":
 			return fmt.Errorf("%s does not let role %s connect to database %s from this computer (no such role, or not allowed here): ask the unit's IT person", capital(b.server), b.role, b.database)

@@ -307,7 +307,7 @@ func (s *Store) inTx(ctx context.Context, fn func(tx *txn) error) error {
 		return errReadOnlyStore
 	}
 	if s.cannotWrite != "" {
-		return errors.New(s.cannotWrite)
+		return fmt.Errorf("%s; nothing was stored", s.cannotWrite)
 	}
 	tx, err := s.db.begin(ctx, nil)
 	if err != nil {
