@@ -252,7 +252,9 @@ func TestServerConnectionProblems(t *testing.T) {
 		t.Fatal(err)
 	}
 	requirePassword(t, c, "pw_user")
-	withPassword := func(pw string) string { return strings.Replace(c.URL(name, "pw_user"), "pw_user@", "pw_user:"+pw+"@", 1) }
+	withPassword := func(pw string) string {
+		return strings.Replace(c.URL(name, "pw_user"), "pw_user@", "pw_user:"+pw+"@", 1)
+	}
 	emptyDir := t.TempDir()
 	cases := []struct {
 		name, url string
