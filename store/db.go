@@ -67,10 +67,16 @@ const (
 	failReadOnlyTx         // the store was opened for reading only
 )
 
-// rowSource yields the rows of one stream, each as the record's stored
-// values (nil for NULL) in column order; the slices are reused for the next
-// row.
-type rowSource func(yield func(fields [][]byte) error) error
+// rowSource is one stream of rows: each row holds the record's stored
+// values in column order, separated by sep, an empty value standing for
+// NULL (the store never keeps empty strings). With copyText, a row is in
+// the text format of PostgreSQL's COPY: \N is NULL and a backslash starts
+// an escape. A row is valid until the next one.
+type rowSource struct {
+	each     func(yield func(row []byte) error) error
+	sep      byte
+	copyText bool
+}
 
 // bulkWriter stores many rows of one table in a transaction: one prepared
 // statement on SQLite, COPY on PostgreSQL. Rows are written when flush is

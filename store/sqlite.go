@@ -8,7 +8,6 @@ package store
 // counterpart for a unit server.
 
 import (
-	"bytes"
 	"context"
 	"database/sql"
 	"encoding/binary"
@@ -293,11 +292,11 @@ func (b *sqliteBackend) readPool(busy time.Duration) (*sql.DB, error) {
 func (b *sqliteBackend) streamCases(ctx context.Context, s *Store, f CaseFilter) (procs, lesions rowSource, done func(), err error) {
 	db, err := b.readPool(s.busy)
 	if err != nil {
-		return nil, nil, nil, err
+		return rowSource{}, rowSource{}, nil, err
 	}
 	ptx, ltx, err := pairedSnapshot(ctx, db)
 	if err != nil {
-		return nil, nil, nil, err
+		return rowSource{}, rowSource{}, nil, err
 	}
 	procSQL, lesionSQL, args := sqliteStreamQueries(f)
 	done = func() {
@@ -324,39 +323,25 @@ func sqliteStreamQueries(f CaseFilter) (procSQL, lesionSQL string, args []any) {
 }
 
 // packedRows runs a query returning one packed value per row (see
-// packedFields) and yields each row's fields.
+// packedFields) and yields each.
 func packedRows(ctx context.Context, tx *sql.Tx, query string, args []any) rowSource {
-	return func(yield func([][]byte) error) error {
+	return rowSource{sep: fieldSep, each: func(yield func([]byte) error) error {
 		rows, err := tx.QueryContext(ctx, query, args...)
 		if err != nil {
 			return err
 		}
 		defer rows.Close()
 		var raw sql.RawBytes
-		var fields [][]byte
 		for rows.Next() {
 			if err := rows.Scan(&raw); err != nil {
 				return err
 			}
-			fields = splitPacked(raw, fields[:0])
-			if err := yield(fields); err != nil {
+			if err := yield(raw); err != nil {
 				return err
 			}
 		}
 		return rows.Err()
-	}
-}
-
-// splitPacked splits a packed row at the field separator.
-func splitPacked(row []byte, fields [][]byte) [][]byte {
-	for {
-		j := bytes.IndexByte(row, fieldSep)
-		if j < 0 {
-			return append(fields, row)
-		}
-		fields = append(fields, row[:j])
-		row = row[j+1:]
-	}
+	}}
 }
 
 // snapshotTx opens a read transaction on its own connection and returns it

@@ -27,16 +27,33 @@ func columnNames[T any](cols []column[T]) []string {
 	return out
 }
 
-// unpack fills r from one row's stored values in column order (empty for
-// NULL: the store never keeps empty strings). A value that cannot be read
+// unpack fills r from one row of src's format. A value that cannot be read
 // is passed to bad, when it is set, and the rest of the row is read;
-// otherwise it stops the row with an error naming the column.
-func unpack[T any](cols []column[T], fields [][]byte, r *T, rc *rawCache, bad func(column string, err error)) error {
+// otherwise it stops the row with an error naming the column. scratch holds
+// a value whose escapes had to be undone.
+func unpack[T any](cols []column[T], src *rowSource, row []byte, scratch *[]byte, r *T, rc *rawCache, bad func(column string, err error)) error {
+	sep := src.sep
 	for i := range cols {
-		if i >= len(fields) {
-			break
+		j, escaped := 0, false
+		for j < len(row) && row[j] != sep {
+			if row[j] == '\\' {
+				escaped = true
+			}
+			j++
 		}
-		field := fields[i]
+		field := row[:j]
+		if j < len(row) {
+			row = row[j+1:]
+		} else {
+			row = nil
+		}
+		if escaped && src.copyText {
+			if len(field) == 2 && field[1] == 'N' {
+				continue // NULL
+			}
+			*scratch = unescapeCopy((*scratch)[:0], field)
+			field = *scratch
+		}
 		if len(field) == 0 {
 			continue
 		}
@@ -74,9 +91,10 @@ func produce[T any](ctx context.Context, src rowSource, cols []column[T], fresh 
 	onBad unreadable, free chan []T, out chan<- []T) error {
 	defer close(out)
 	var rc rawCache
+	var scratch []byte
 	batch := <-free
 	batch = batch[:0]
-	err := src(func(fields [][]byte) error {
+	err := src.each(func(row []byte) error {
 		r := fresh()
 		var bad func(column string, err error)
 		var problems []func()
@@ -86,7 +104,7 @@ func produce[T any](ctx context.Context, src rowSource, cols []column[T], fresh 
 				problems = append(problems, func() { onBad(name(&r), column, err) })
 			}
 		}
-		if err := unpack(cols, fields, &r, &rc, bad); err != nil {
+		if err := unpack(cols, &src, row, &scratch, &r, &rc, bad); err != nil {
 			return fmt.Errorf("%s: %w", name(&r), err)
 		}
 		for _, p := range problems {
