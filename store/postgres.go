@@ -542,9 +542,12 @@ func (*pgBackend) streamCases(ctx context.Context, s *Store, f CaseFilter) (proc
 	where, args := f.where("p.")
 	where = inlineArgs(where, args)
 	procSQL := "SELECT " + prefixed("p.", columnNames(procedureColumns)) + " FROM procedures p" + where + " ORDER BY p.rowid"
-	lesionSQL := "SELECT " + prefixed("l.", columnNames(lesionStoredColumns)) + " FROM lesions l"
+	// A lesion without its procedure (only a hand-made one can be: see
+	// Check) has no place in the order, and is left out as SQLite's join
+	// leaves it out.
+	lesionSQL := "SELECT " + prefixed("l.", columnNames(lesionStoredColumns)) + " FROM lesions l WHERE l.procedure_rowid IS NOT NULL"
 	if where != "" {
-		lesionSQL += " WHERE l.procedure_rowid IN (SELECT p.rowid FROM procedures p" + where + ")"
+		lesionSQL += " AND l.procedure_rowid IN (SELECT p.rowid FROM procedures p" + where + ")"
 	}
 	lesionSQL += " ORDER BY l.procedure_rowid, l.lesion_no"
 	done = func() {
