@@ -16,7 +16,7 @@ type MoveResult struct {
 }
 
 // counts reads how many rows each table holds.
-func (s *Store) counts(ctx context.Context, q querier) (MoveResult, error) {
+func (s *Store) tableCounts(ctx context.Context, q querier) (MoveResult, error) {
 	var r MoveResult
 	err := q.QueryRowContext(ctx, `SELECT
 		(SELECT count(*) FROM procedures), (SELECT count(*) FROM lesions), (SELECT count(*) FROM roster),
@@ -92,7 +92,7 @@ func copyUnit(ctx context.Context, src, d *Store, say func(string, ...any)) (Mov
 	if err != nil {
 		return MoveResult{}, err
 	}
-	want, err := src.counts(ctx, src.db)
+	want, err := src.tableCounts(ctx, src.db)
 	if err != nil {
 		return MoveResult{}, src.explain(err)
 	}
@@ -160,7 +160,7 @@ func copyUnit(ctx context.Context, src, d *Store, say func(string, ...any)) (Mov
 		}); err != nil {
 			return err
 		}
-		if got, err = d.counts(ctx, tx); err != nil {
+		if got, err = d.tableCounts(ctx, tx); err != nil {
 			return err
 		}
 		want.Changes++

@@ -451,6 +451,17 @@ CREATE TRIGGER change_log_no_delete BEFORE DELETE ON change_log
 CREATE TRIGGER change_log_no_truncate BEFORE TRUNCATE ON change_log
     FOR EACH STATEMENT EXECUTE FUNCTION change_log_append_only();
 `,
+		3: `
+-- The case list sorts a value not recorded before every value, as SQLite
+-- does; these indexes keep NULL first so that they serve that order both
+-- ways.
+DROP INDEX procedures_by_age;
+DROP INDEX procedures_by_indication;
+DROP INDEX procedures_by_extent;
+CREATE INDEX procedures_by_age ON procedures (age NULLS FIRST, id);
+CREATE INDEX procedures_by_indication ON procedures (indication NULLS FIRST, id);
+CREATE INDEX procedures_by_extent ON procedures (extent NULLS FIRST, id);
+`,
 	}
 }
 

@@ -120,6 +120,8 @@ type Store struct {
 	// cannotWrite, when set, is why this connection may not write (a
 	// server role granted reading only); every write is refused with it.
 	cannotWrite string
+	// counts keeps the case list's counts until the next change.
+	counts countCache
 }
 
 // Open opens the unit database at location — a file path, or a

@@ -120,13 +120,13 @@ func utPragma(t *testing.T, q querier, pragma string) string {
 
 // utNames lists the database's indexes ("index") or triggers ("trigger")
 // by name, as the backend keeps them; a server's primary-key indexes and
-// its index of the stored order (SQLite's rowid) are left out.
+// its indexes of the stored order (SQLite's rowid) are left out.
 func utNames(t *testing.T, s *Store, kind string) []string {
 	t.Helper()
 	query := "SELECT name FROM sqlite_master WHERE type = ? AND name NOT LIKE 'sqlite_%' ORDER BY name"
 	if s.OnServer() {
 		query = map[string]string{
-			"index":   "SELECT indexname FROM pg_indexes WHERE schemaname = current_schema() AND indexname NOT LIKE '%_pkey' AND indexname <> 'procedures_by_rowid' AND ? <> '' ORDER BY 1",
+			"index":   "SELECT indexname FROM pg_indexes WHERE schemaname = current_schema() AND indexname NOT LIKE '%_pkey' AND indexname NOT IN ('procedures_by_rowid', 'lesions_by_procedure_rowid') AND ? <> '' ORDER BY 1",
 			"trigger": "SELECT tgname FROM pg_trigger WHERE tgrelid = 'change_log'::regclass AND NOT tgisinternal AND ? <> '' ORDER BY 1",
 		}[kind]
 	}
@@ -992,4 +992,60 @@ func testOpenersOfAnOldDatabaseMigrateOnce(t *testing.T, b TestBackend) {
 			t.Errorf("round %d: check: %q, %v", round, findings, err)
 		}
 	}
+}
+
+// TestChangeMarkSeesOtherWriters: the change mark a workstation watches
+// grows with every change another program stores — a case, a result, an
+// import — and stays put while others only read.
+func TestChangeMarkSeesOtherWriters(t *testing.T) {
+	EachBackend(t, func(t *testing.T, b TestBackend) {
+		ctx := context.Background()
+		loc := b.NewDB(t)
+		mine := utOpen(t, loc, Options{})
+		theirs := utOpen(t, loc, Options{User: "colleague", Host: "room-2"})
+		utAddRoster(t, theirs)
+		last, err := mine.ChangeMark(ctx)
+		if err != nil {
+			t.Fatal(err)
+		}
+		steps := []struct {
+			name   string
+			do     func() error
+			change bool
+		}{
+			{"a case", func() error { return theirs.SaveCase(ctx, utCase("P1"), true) }, true},
+			{"reads", func() error {
+				_, err := theirs.ListProcedures(ctx, ListQuery{})
+				if err == nil {
+					_, err = theirs.Check(ctx)
+				}
+				return err
+			}, false},
+			{"a result", func() error {
+				return theirs.RecordHistology(ctx, logbook.HistologyResult{ProcedureID: "P1", LesionNo: 2, Histology: logbook.HistSSL, Dysplasia: logbook.DysplasiaNone, ReportedOn: utDate("2026-10-20")}, false)
+			}, true},
+			{"a refused case", func() error {
+				if theirs.SaveCase(ctx, utCase("P1"), true) == nil {
+					return errors.New("a repeated case was stored")
+				}
+				return nil
+			}, false},
+		}
+		for _, st := range steps {
+			if err := st.do(); err != nil {
+				t.Fatalf("%s: %v", st.name, err)
+			}
+			mark, err := mine.ChangeMark(ctx)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if (mark != last) != st.change {
+				t.Errorf("%s: mark %d after %d; want a change: %v", st.name, mark, last, st.change)
+			}
+			last = mark
+		}
+		if e, _, _ := utLastChange(t, mine); e.User != "colleague" || e.Host != "room-2" {
+			t.Errorf("the change log names %s on %s, want colleague on room-2", e.User, e.Host)
+		}
+	})
 }
