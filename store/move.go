@@ -141,7 +141,10 @@ func copyUnit(ctx context.Context, src, d *Store, say func(string, ...any)) (Mov
 				if err := flush(); err != nil {
 					return err
 				}
-				say("copied %d of %d procedures (%d%%)", n, want.Procedures, n*100/max(want.Procedures, 1))
+				// Every 10,000 procedures, or every tenth of a large unit.
+				if every := max(ProgressEvery, want.Procedures/10/ProgressEvery*ProgressEvery); n%every == 0 {
+					say("copied %d of %d procedures (%d%%)", n, want.Procedures, n*100/max(want.Procedures, 1))
+				}
 			}
 			return nil
 		})
