@@ -69,6 +69,9 @@ func connectPostgres(ctx context.Context, rawURL string, opt Options) (*Store, e
 	rp["lock_timeout"] = strconv.FormatInt(s.busy.Milliseconds(), 10)
 	// Literals inlined into COPY statements rely on it.
 	rp["standard_conforming_strings"] = "on"
+	// The full read is two plain index scans: compiling them (JIT) costs
+	// time and gains nothing.
+	rp["jit"] = "off"
 	if opt.ReadOnly {
 		rp["default_transaction_read_only"] = "on"
 	}
