@@ -13,10 +13,22 @@ import (
 	"bufio"
 	"bytes"
 	"context"
+	"crypto/ecdsa"
+	"crypto/elliptic"
+	"crypto/rand"
+	"crypto/x509"
+	"crypto/x509/pkix"
+	"encoding/pem"
 	"fmt"
+	"math/big"
+	"net"
 	"net/url"
 	"os"
+	"os/exec"
+	"os/user"
 	"path/filepath"
+	"reflect"
+	"strconv"
 	"strings"
 	"sync"
 	"testing"
@@ -40,10 +52,10 @@ func serverUnit(t *testing.T, c *pgtest.Cluster) (loc, name string) {
 }
 
 // privateCluster starts a cluster of the test's own, stopped at its end.
-func privateCluster(t *testing.T, settings ...string) *pgtest.Cluster {
+func privateCluster(t *testing.T, opt pgtest.Options) *pgtest.Cluster {
 	t.Helper()
 	testCluster(t) // skips where no server can be started
-	c, err := pgtest.Start(pgtest.Options{Settings: settings})
+	c, err := pgtest.Start(opt)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -189,7 +201,7 @@ func TestServerLostMidImport(t *testing.T) {
 	cliBinary(t)
 	for _, how := range []string{"server stopped", "connection terminated"} {
 		t.Run(how, func(t *testing.T) {
-			c := privateCluster(t)
+			c := privateCluster(t, pgtest.Options{})
 			db, name := serverUnit(t, c)
 			before := countsOf(t, db)
 			wait, progress := startImport(t, home, nil, db, csvPath)
@@ -455,7 +467,7 @@ func TestServerReadOnlyAuditRole(t *testing.T) {
 // find them).
 func TestServerNeverSeesHospitalNumbers(t *testing.T) {
 	dir, home := processTest(t)
-	c := privateCluster(t, "log_statement = 'all'", "log_min_duration_statement = 0")
+	c := privateCluster(t, pgtest.Options{Settings: []string{"log_statement = 'all'", "log_min_duration_statement = 0"}})
 	db, _ := serverUnit(t, c)
 	cases := inventedCases(t, 400, "H", 23)
 	csvPath := writeFile(t, dir, "p.csv", proceduresCSV(t, cases))
@@ -529,4 +541,178 @@ func TestServerNeverSeesHospitalNumbers(t *testing.T) {
 		t.Errorf("the typed patient's pseudonym was not found in any of %d files: the search proves nothing", files)
 	}
 	t.Logf("searched %d files of the data folder and the log", files)
+}
+
+// TestServerDumpAndRestore follows the README's backup and restore: a
+// unit dumped with pg_dump (custom format) and restored with pg_restore
+// into a new database owned by the workstations' role passes check and
+// holds the same unit — records, settings, roster and change log — with
+// its guards in force, and takes new cases after the restore.
+func TestServerDumpAndRestore(t *testing.T) {
+	dir, _ := processTest(t)
+	c := testCluster(t)
+	ctx := context.Background()
+	src := Backends[1].NewDB(t)
+	moveFixture(t, src)
+	want := contentsOf(t, src)
+	dump := filepath.Join(dir, "unit.dump")
+	run := func(name string, args ...string) {
+		t.Helper()
+		out, err := exec.Command(filepath.Join(c.Bin, name), args...).CombinedOutput()
+		if err != nil {
+			t.Fatalf("%s: %v\n%s", name, err, out)
+		}
+	}
+	run("pg_dump", "--format=custom", "--file="+dump, "--dbname="+src)
+	if err := c.Exec(ctx, "postgres",
+		"DO $$ BEGIN IF NOT EXISTS (SELECT FROM pg_roles WHERE rolname = 'unit_rw') THEN CREATE ROLE unit_rw LOGIN; END IF; END $$",
+		"CREATE DATABASE restored_unit OWNER unit_rw"); err != nil {
+		t.Fatal(err)
+	}
+	restored := c.URL("restored_unit", "unit_rw")
+	run("pg_restore", "--no-owner", "--role=unit_rw", "--dbname="+c.URL("restored_unit", ""), dump)
+	mustCheck(t, restored)
+	got := contentsOf(t, restored)
+	if !reflect.DeepEqual(got, want) {
+		t.Error("the restored unit differs from the dumped one")
+	}
+	s := openTest(t, restored, Options{})
+	defer s.Close()
+	if _, err := s.db.ExecContext(ctx, "DELETE FROM change_log"); err == nil || !strings.Contains(err.Error(), "append-only") {
+		t.Errorf("the restored change log is not guarded: %v", err)
+	}
+	if err := s.SaveCase(ctx, utCase("AFTER-RESTORE"), true); err != nil {
+		t.Fatalf("a new case in the restored unit: %v", err)
+	}
+	if err := s.Close(); err != nil {
+		t.Fatal(err)
+	}
+	mustCheck(t, restored)
+}
+
+// TestServerTLS runs a server that takes TCP connections with TLS, with a
+// certificate made out to localhost by an authority of the test's own:
+// with sslmode=verify-full and that authority's certificate the program
+// connects and works; without it, or from a server without TLS, it is
+// refused in one sentence saying why.
+func TestServerTLS(t *testing.T) {
+	dir, home := processTest(t)
+	caPEM, certPEM, keyPEM := testCertificates(t)
+	port := freePort(t)
+	c := privateCluster(t, pgtest.Options{Port: port, Settings: []string{"listen_addresses = '127.0.0.1'"}})
+	// TLS is turned on once the certificate files are in place, and the
+	// server restarted.
+	owner, err := user.Lookup(c.Superuser)
+	if err != nil {
+		t.Fatal(err)
+	}
+	uid, _ := strconv.Atoi(owner.Uid)
+	gid, _ := strconv.Atoi(owner.Gid)
+	for name, data := range map[string][]byte{"server.crt": certPEM, "server.key": keyPEM} {
+		p := filepath.Join(c.DataDir(), name)
+		if err := os.WriteFile(p, data, 0o600); err != nil {
+			t.Fatal(err)
+		}
+		os.Chown(p, uid, gid)
+	}
+	conf, err := os.OpenFile(filepath.Join(c.DataDir(), "postgresql.conf"), os.O_APPEND|os.O_WRONLY, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	conf.WriteString("\nssl = on\nssl_cert_file = 'server.crt'\nssl_key_file = 'server.key'\n")
+	conf.Close()
+	if err := c.StopServer(); err != nil {
+		t.Fatal(err)
+	}
+	if err := c.StartServer(); err != nil {
+		t.Fatal(err)
+	}
+	name, err := c.NewDatabase(context.Background(), "tls")
+	if err != nil {
+		t.Fatal(err)
+	}
+	ca := writeFile(t, dir, "root.crt", caPEM)
+	otherCA, _, _ := testCertificates(t)
+	other := writeFile(t, dir, "other.crt", otherCA)
+	tcp := func(query string) string {
+		return fmt.Sprintf("postgres://%s@localhost:%d/%s?%s", c.Superuser, port, name, query)
+	}
+	if r := runCLI(t, home, nil, "init", "--db", tcp("sslmode=verify-full&sslrootcert="+ca)); r.code != 0 {
+		t.Fatalf("init over TLS with the unit's authority: exit %d, %s", r.code, r.stderr)
+	}
+	for _, tc := range []struct {
+		name, query, want string
+	}{
+		{"the right authority", "sslmode=verify-full&sslrootcert=" + ca, ""},
+		{"another authority", "sslmode=verify-full&sslrootcert=" + other, "could not be verified"},
+	} {
+		r := runCLI(t, home, nil, "check", "--db", tcp(tc.query))
+		msg := strings.TrimSpace(r.stderr)
+		switch {
+		case tc.want == "" && r.code != 0:
+			t.Errorf("%s: exit %d, %s", tc.name, r.code, msg)
+		case tc.want != "" && (r.code != exitBadInput || !strings.Contains(msg, tc.want) || strings.Contains(msg, "\n") || strings.Contains(msg, "x509")):
+			t.Errorf("%s: exit %d, %q; want one sentence saying %q", tc.name, r.code, msg, tc.want)
+		}
+	}
+	// A server without TLS, asked for it.
+	plainPort := freePort(t)
+	plain := privateCluster(t, pgtest.Options{Port: plainPort, Settings: []string{"listen_addresses = '127.0.0.1'"}})
+	r := runCLI(t, home, nil, "check", "--db", fmt.Sprintf("postgres://%s@localhost:%d/postgres?sslmode=require", plain.Superuser, plainPort))
+	if msg := strings.TrimSpace(r.stderr); r.code != exitBadInput || !strings.Contains(msg, "does not offer encrypted (TLS) connections") {
+		t.Errorf("a server without TLS: exit %d, %q", r.code, msg)
+	}
+}
+
+// freePort returns a TCP port on the loopback address that was free a
+// moment ago.
+func freePort(t *testing.T) int {
+	t.Helper()
+	l, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer l.Close()
+	return l.Addr().(*net.TCPAddr).Port
+}
+
+// testCertificates makes a certificate authority and a server certificate
+// it signs for localhost, in PEM.
+func testCertificates(t *testing.T) (caPEM, certPEM, keyPEM []byte) {
+	t.Helper()
+	caKey, err := ecdsa.GenerateKey(elliptic.P256(), rand.Reader)
+	if err != nil {
+		t.Fatal(err)
+	}
+	now := time.Now()
+	caTmpl := &x509.Certificate{
+		SerialNumber: big.NewInt(1), Subject: pkix.Name{CommonName: "Invented Hospital Test Authority"},
+		NotBefore: now.Add(-time.Hour), NotAfter: now.Add(24 * time.Hour),
+		IsCA: true, BasicConstraintsValid: true, KeyUsage: x509.KeyUsageCertSign | x509.KeyUsageDigitalSignature,
+	}
+	caDER, err := x509.CreateCertificate(rand.Reader, caTmpl, caTmpl, &caKey.PublicKey, caKey)
+	if err != nil {
+		t.Fatal(err)
+	}
+	caCert, _ := x509.ParseCertificate(caDER)
+	key, err := ecdsa.GenerateKey(elliptic.P256(), rand.Reader)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tmpl := &x509.Certificate{
+		SerialNumber: big.NewInt(2), Subject: pkix.Name{CommonName: "localhost"},
+		NotBefore: now.Add(-time.Hour), NotAfter: now.Add(24 * time.Hour),
+		DNSNames: []string{"localhost"}, KeyUsage: x509.KeyUsageDigitalSignature, ExtKeyUsage: []x509.ExtKeyUsage{x509.ExtKeyUsageServerAuth},
+	}
+	der, err := x509.CreateCertificate(rand.Reader, tmpl, caCert, &key.PublicKey, caKey)
+	if err != nil {
+		t.Fatal(err)
+	}
+	keyDER, err := x509.MarshalPKCS8PrivateKey(key)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return pem.EncodeToMemory(&pem.Block{Type: "CERTIFICATE", Bytes: caDER}),
+		pem.EncodeToMemory(&pem.Block{Type: "CERTIFICATE", Bytes: der}),
+		pem.EncodeToMemory(&pem.Block{Type: "PRIVATE KEY", Bytes: keyDER})
 }
