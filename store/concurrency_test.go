@@ -32,6 +32,7 @@ func countWithPrefix(t testing.TB, path, prefix string) int {
 // lock (transactions take it at BEGIN), so both succeed and every row of
 // both files is there, with no corruption.
 func TestTwoImportingProcesses(t *testing.T) {
+	sqliteOnly("on a server, TestServerEightImportingProcesses runs eight")
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}

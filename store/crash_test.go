@@ -195,6 +195,7 @@ func importAndKill(t *testing.T, home, db, csvPath string, kp killPoint) bool {
 // never an empty or half-made file; and the next import into the same
 // place removes what the killed one left under its temporary name.
 func TestImportKilledIntoNewDatabase(t *testing.T) {
+	sqliteOnly("a new file made whole under a temporary name")
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}
