@@ -289,6 +289,9 @@ func (s *Store) migrate(ctx context.Context, from, stopAt int) error {
 		})
 		if err != nil {
 			if s.be.classify(err) == failDenied {
+				if from == 0 {
+					return errors.New("the unit's tables can be made only by a role allowed to create tables in this database (its owner): run polypledger init --db with that role once; nothing was changed")
+				}
 				return fmt.Errorf("it has schema %d and must be upgraded to %d, which only the role that owns its tables may do: run polypledger init --db with that role once; nothing was changed", from, SchemaVersion)
 			}
 			return err
@@ -416,6 +419,8 @@ func (s *Store) explain(err error) error {
 		return fmt.Errorf("the connection to the database server was lost (%s); nothing was stored — try again when the server is back", lostReason(err))
 	case failConflict:
 		return errors.New("another program changed the same records at the same moment; nothing was stored — try again")
+	case failReadOnlyTx:
+		return fmt.Errorf("the database is open for reading only (or the server takes no writes); nothing was stored: %v", err)
 	}
 	return err
 }
