@@ -48,24 +48,11 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			}
 			onRoster[r.ID] = true
 		}
-		// Procedures go in before their lesions (which refer to them): a
-		// prepared INSERT each on SQLite, COPY in batches on a server.
-		pw, err := s.be.bulk(ctx, tx, "procedures", columnNames(procedureColumns))
+		cw, err := s.newCaseWriter(ctx, tx)
 		if err != nil {
 			return err
 		}
-		defer pw.close()
-		lw, err := s.be.bulk(ctx, tx, "lesions", columnNames(lesionStoredColumns))
-		if err != nil {
-			return err
-		}
-		defer lw.close()
-		flush := func() error {
-			if err := pw.flush(ctx); err != nil {
-				return err
-			}
-			return lw.flush(ctx)
-		}
+		defer cw.close()
 		today := s.today()
 		var first, last string
 		var lesions int
@@ -86,13 +73,8 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			if len(probs) > 0 {
 				return &ValidationError{Record: "procedure " + c.ID, Problems: probs}
 			}
-			if err := pw.write(ctx, storedArgs(procedureColumns, &c.Procedure)); err != nil {
-				return fmt.Errorf("procedure %s: %w", c.ID, err)
-			}
-			for i := range c.Lesions {
-				if err := lw.write(ctx, storedArgs(lesionStoredColumns, &c.Lesions[i])); err != nil {
-					return fmt.Errorf("procedure %s lesion %d: %w", c.ID, c.Lesions[i].LesionNo, err)
-				}
+			if err := cw.write(c); err != nil {
+				return err
 			}
 			if first == "" {
 				first = c.ID
@@ -101,7 +83,7 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			lesions += len(c.Lesions)
 			n++
 			if n%ProgressEvery == 0 {
-				if err := flush(); err != nil {
+				if err := cw.flush(); err != nil {
 					return err
 				}
 				if progress != nil {
@@ -113,7 +95,7 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 		if err != nil {
 			return err
 		}
-		if err := flush(); err != nil {
+		if err := cw.flush(); err != nil {
 			return err
 		}
 		return s.logChange(ctx, tx, "insert", "bulk load", nil, map[string]any{
@@ -128,4 +110,50 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 		return 0, s.explain(err)
 	}
 	return n, nil
+}
+
+// caseWriter stores whole cases in bulk inside a transaction — a prepared
+// INSERT each on SQLite, COPY in batches on a server —, procedures before
+// the lesions that refer to them. Cases written are stored when flush is
+// called; call it every few thousand cases and before the transaction ends.
+type caseWriter struct {
+	ctx            context.Context
+	procs, lesions bulkWriter
+}
+
+func (s *Store) newCaseWriter(ctx context.Context, tx *txn) (*caseWriter, error) {
+	pw, err := s.be.bulk(ctx, tx, "procedures", columnNames(procedureColumns))
+	if err != nil {
+		return nil, err
+	}
+	lw, err := s.be.bulk(ctx, tx, "lesions", columnNames(lesionStoredColumns))
+	if err != nil {
+		pw.close()
+		return nil, err
+	}
+	return &caseWriter{ctx: ctx, procs: pw, lesions: lw}, nil
+}
+
+func (w *caseWriter) write(c *logbook.Case) error {
+	if err := w.procs.write(w.ctx, storedArgs(procedureColumns, &c.Procedure)); err != nil {
+		return fmt.Errorf("procedure %s: %w", c.ID, err)
+	}
+	for i := range c.Lesions {
+		if err := w.lesions.write(w.ctx, storedArgs(lesionStoredColumns, &c.Lesions[i])); err != nil {
+			return fmt.Errorf("procedure %s lesion %d: %w", c.ID, c.Lesions[i].LesionNo, err)
+		}
+	}
+	return nil
+}
+
+func (w *caseWriter) flush() error {
+	if err := w.procs.flush(w.ctx); err != nil {
+		return err
+	}
+	return w.lesions.flush(w.ctx)
+}
+
+func (w *caseWriter) close() {
+	w.procs.close()
+	w.lesions.close()
 }

@@ -111,34 +111,18 @@ func copyUnit(ctx context.Context, src, d *Store, say func(string, ...any)) (Mov
 		if err := copyTable(ctx, src, d, tx, "roster", []string{"id", "name", "role", "retired"}, "id"); err != nil {
 			return err
 		}
-		pw, err := d.be.bulk(ctx, tx, "procedures", columnNames(procedureColumns))
+		cw, err := d.newCaseWriter(ctx, tx)
 		if err != nil {
 			return err
 		}
-		defer pw.close()
-		lw, err := d.be.bulk(ctx, tx, "lesions", columnNames(lesionStoredColumns))
-		if err != nil {
-			return err
-		}
-		defer lw.close()
-		flush := func() error {
-			if err := pw.flush(ctx); err != nil {
-				return err
-			}
-			return lw.flush(ctx)
-		}
+		defer cw.close()
 		n := 0
 		err = src.ForEachCase(ctx, CaseFilter{}, func(c *logbook.Case) error {
-			if err := pw.write(ctx, storedArgs(procedureColumns, &c.Procedure)); err != nil {
+			if err := cw.write(c); err != nil {
 				return err
 			}
-			for i := range c.Lesions {
-				if err := lw.write(ctx, storedArgs(lesionStoredColumns, &c.Lesions[i])); err != nil {
-					return err
-				}
-			}
 			if n++; n%ProgressEvery == 0 {
-				if err := flush(); err != nil {
+				if err := cw.flush(); err != nil {
 					return err
 				}
 				// Every 10,000 procedures, or every tenth of a large unit.
@@ -151,7 +135,7 @@ func copyUnit(ctx context.Context, src, d *Store, say func(string, ...any)) (Mov
 		if err != nil {
 			return err
 		}
-		if err := flush(); err != nil {
+		if err := cw.flush(); err != nil {
 			return err
 		}
 		say("copying the change log (%d entries)", want.Changes)

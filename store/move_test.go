@@ -1,18 +1,14 @@
 package store
 
 import (
-	"bufio"
 	"bytes"
 	"context"
 	"errors"
-	"io"
 	"os"
 	"path/filepath"
 	"reflect"
 	"strings"
-	"syscall"
 	"testing"
-	"time"
 
 	"polypledger/logbook"
 )
@@ -218,38 +214,11 @@ func TestMoveKilledLeavesNothing(t *testing.T) {
 		{"into a file", file, filepath.Join(dir, "out", "moved.db")},
 	} {
 		t.Run(dest.name, func(t *testing.T) {
-			cmd := cliCommand(t, home, nil, "move", "--from", src, "--to", dest.loc)
-			stderr, err := cmd.StderrPipe()
-			if err != nil {
-				t.Fatal(err)
-			}
-			cmd.Stdout = io.Discard
-			if err := cmd.Start(); err != nil {
-				t.Fatal(err)
-			}
-			copying := make(chan struct{})
-			go func() {
-				sc := bufio.NewScanner(stderr)
-				once := false
-				for sc.Scan() {
-					if strings.Contains(sc.Text(), "copied 10000 of") && !once {
-						once = true
-						close(copying)
-					}
-				}
-				if !once {
-					close(copying)
-				}
-			}()
-			select {
-			case <-copying:
-			case <-time.After(2 * time.Minute):
-				t.Fatal("the move reported no progress")
-			}
-			cmd.Process.Signal(syscall.SIGKILL)
-			cmd.Wait()
-			if ws, _ := cmd.ProcessState.Sys().(syscall.WaitStatus); !ws.Signaled() {
-				t.Fatalf("the move finished before it could be killed")
+			lines, kill, wait := startCLI(t, home, nil, "move", "--from", src, "--to", dest.loc)
+			waitForLine(t, lines, "copied 10000 of")
+			kill()
+			if r := wait(); r.code != -1 {
+				t.Fatalf("the move ended (exit %d) before it could be killed", r.code)
 			}
 			if n := dest.b.Tables(t, dest.loc); n != 0 {
 				t.Errorf("the killed move left %d tables", n)

@@ -677,6 +677,9 @@ func (r *copyReader) Write(p []byte) (int, error) {
 	return n, nil
 }
 
+// copyEscapes are the one-letter escapes of COPY's text format.
+var copyEscapes = map[byte]byte{'b': '\b', 'f': '\f', 'n': '\n', 'r': '\r', 't': '\t', 'v': '\v'}
+
 // unescapeCopy appends a field of COPY's text format with its backslash
 // escapes undone.
 func unescapeCopy(b, f []byte) []byte {
@@ -687,37 +690,28 @@ func unescapeCopy(b, f []byte) []byte {
 			continue
 		}
 		i++
-		switch e := f[i]; e {
-		case 'b':
-			b = append(b, '\b')
-		case 'f':
-			b = append(b, '\f')
-		case 'n':
-			b = append(b, '\n')
-		case 'r':
-			b = append(b, '\r')
-		case 't':
-			b = append(b, '\t')
-		case 'v':
-			b = append(b, '\v')
-		case 'x':
+		e := f[i]
+		if v, ok := copyEscapes[e]; ok {
+			b = append(b, v)
+			continue
+		}
+		switch {
+		case e == 'x':
 			v, k := 0, 0
 			for ; k < 2 && i+1 < len(f) && isHex(f[i+1]); k++ {
 				i++
 				v = v*16 + hexVal(f[i])
 			}
 			b = append(b, byte(v))
-		default:
-			if e >= '0' && e <= '7' {
-				v := int(e - '0')
-				for k := 0; k < 2 && i+1 < len(f) && f[i+1] >= '0' && f[i+1] <= '7'; k++ {
-					i++
-					v = v*8 + int(f[i]-'0')
-				}
-				b = append(b, byte(v))
-			} else {
-				b = append(b, e)
+		case e >= '0' && e <= '7':
+			v := int(e - '0')
+			for k := 0; k < 2 && i+1 < len(f) && f[i+1] >= '0' && f[i+1] <= '7'; k++ {
+				i++
+				v = v*8 + int(f[i]-'0')
 			}
+			b = append(b, byte(v))
+		default:
+			b = append(b, e)
 		}
 	}
 	return b

@@ -30,7 +30,7 @@ import (
 	"reflect"
 	"strconv"
 	"strings"
-	"sync"
+	"syscall"
 	"testing"
 	"time"
 
@@ -120,12 +120,13 @@ func TestServerEightImportingProcesses(t *testing.T) {
 	}
 }
 
-// startImport starts an import process and returns it with a channel of
-// the rows its progress lines report, and a buffer collecting the rest of
-// what it prints on standard error.
-func startImport(t *testing.T, home string, env []string, db, csvPath string) (wait func() cliRun, progress <-chan int) {
+// startCLI starts the binary and returns a channel of the lines it prints
+// on standard error (closed when it exits), a function that kills it with
+// SIGKILL, and the function that waits for its end (what it printed on
+// standard error is in the cliRun; its code is -1 when it was killed).
+func startCLI(t *testing.T, home string, env []string, args ...string) (lines <-chan string, kill func(), wait func() cliRun) {
 	t.Helper()
-	cmd := cliCommand(t, home, env, "import", "--db", db, "--kind", "procedures", csvPath)
+	cmd := cliCommand(t, home, env, args...)
 	stderr, err := cmd.StderrPipe()
 	if err != nil {
 		t.Fatal(err)
@@ -135,54 +136,44 @@ func startImport(t *testing.T, home string, env []string, db, csvPath string) (w
 	if err := cmd.Start(); err != nil {
 		t.Fatal(err)
 	}
-	rows := make(chan int, 64)
+	ch := make(chan string, 1024)
 	var errText strings.Builder
-	var mu sync.Mutex
 	done := make(chan struct{})
 	go func() {
 		defer close(done)
-		defer close(rows)
+		defer close(ch)
 		sc := bufio.NewScanner(stderr)
 		for sc.Scan() {
-			line := sc.Text()
-			var n int
-			if i := strings.Index(line, ": "); i >= 0 {
-				if _, err := fmt.Sscanf(line[i+2:], "%d rows read", &n); err == nil {
-					rows <- n
-					continue
-				}
+			errText.WriteString(sc.Text() + "\n")
+			select {
+			case ch <- sc.Text():
+			default: // nobody is listening any more
 			}
-			mu.Lock()
-			errText.WriteString(line + "\n")
-			mu.Unlock()
 		}
 	}()
-	return func() cliRun {
-		for range rows {
-		}
+	kill = func() { cmd.Process.Signal(syscall.SIGKILL) }
+	return ch, kill, func() cliRun {
 		<-done
 		cmd.Wait()
-		mu.Lock()
-		defer mu.Unlock()
 		return cliRun{stdout: stdout.String(), stderr: errText.String(), code: cmd.ProcessState.ExitCode()}
-	}, rows
+	}
 }
 
-// waitForRows waits until an import has reported reading at least n rows.
-func waitForRows(t *testing.T, progress <-chan int, n int) {
+// waitForLine waits until the process prints a line containing text.
+func waitForLine(t *testing.T, lines <-chan string, text string) {
 	t.Helper()
 	deadline := time.After(2 * time.Minute)
 	for {
 		select {
-		case rows, ok := <-progress:
+		case l, ok := <-lines:
 			if !ok {
-				t.Fatalf("the import ended before it read %d rows", n)
+				t.Fatalf("the process ended before it printed %q", text)
 			}
-			if rows >= n {
+			if strings.Contains(l, text) {
 				return
 			}
 		case <-deadline:
-			t.Fatalf("no progress line for %d rows within two minutes", n)
+			t.Fatalf("no line %q within two minutes", text)
 		}
 	}
 }
@@ -204,8 +195,8 @@ func TestServerLostMidImport(t *testing.T) {
 			c := privateCluster(t, pgtest.Options{})
 			db, name := serverUnit(t, c)
 			before := countsOf(t, db)
-			wait, progress := startImport(t, home, nil, db, csvPath)
-			waitForRows(t, progress, ProgressEvery)
+			lines, _, wait := startCLI(t, home, nil, "import", "--db", db, "--kind", "procedures", csvPath)
+			waitForLine(t, lines, fmt.Sprintf("%d rows read", ProgressEvery))
 			switch how {
 			case "server stopped":
 				if err := c.StopServer(); err != nil {
@@ -226,8 +217,14 @@ func TestServerLostMidImport(t *testing.T) {
 			if r.code != exitBadInput {
 				t.Fatalf("exit %d, want %d; stderr:\n%s", r.code, exitBadInput, r.stderr)
 			}
-			msg := strings.TrimSpace(r.stderr)
-			if strings.Count(msg, "\n") > 0 || !strings.Contains(msg, "connection to the database server was lost") || !strings.Contains(msg, "nothing was stored") {
+			var said []string // beside the progress lines
+			for _, l := range strings.Split(strings.TrimSpace(r.stderr), "\n") {
+				if !strings.Contains(l, " rows read (") {
+					said = append(said, l)
+				}
+			}
+			msg := strings.Join(said, "\n")
+			if len(said) != 1 || !strings.Contains(msg, "connection to the database server was lost") || !strings.Contains(msg, "nothing was stored") {
 				t.Errorf("the message is not one line saying the connection was lost and nothing was stored:\n%s", msg)
 			}
 			for _, dump := range []string{"SQLSTATE", "pgconn", "failed to", "goroutine", "unexpected EOF"} {
