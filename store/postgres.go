@@ -174,15 +174,21 @@ func (s *Store) createSchema(ctx context.Context, stopAt int, fill func(*Store) 
 			tx.rollback()
 		}
 	}()
-	if err := s.be.lockWrites(ctx, tx); err != nil {
-		return err
-	}
-	v, err := s.be.vet(ctx, tx)
-	if err != nil {
-		return err
-	}
-	if v > 0 {
-		return ErrExists
+	// A unit already there is found without waiting for the write lock;
+	// one being made by another program is found once it is made.
+	for _, locked := range []bool{false, true} {
+		if locked {
+			if err := s.be.lockWrites(ctx, tx); err != nil {
+				return err
+			}
+		}
+		v, err := s.be.vet(ctx, tx)
+		if err != nil {
+			return err
+		}
+		if v > 0 {
+			return ErrExists
+		}
 	}
 	s.db.bound = tx
 	if err := s.migrate(ctx, 0, stopAt); err != nil {
@@ -359,7 +365,7 @@ func (*pgBackend) numbered() bool { return true }
 // there is none).
 func (*pgBackend) version(ctx context.Context, q querier) (int, error) {
 	var ours bool
-	if err := q.QueryRowContext(ctx, "SELECT to_regclass('polypledger') IS NOT NULL").Scan(&ours); err != nil || !ours {
+	if err := q.QueryRowContext(ctx, "SELECT EXISTS (SELECT 1 FROM pg_catalog.pg_tables WHERE schemaname = current_schema() AND tablename = 'polypledger')").Scan(&ours); err != nil || !ours {
 		return 0, err
 	}
 	var v int
@@ -367,11 +373,13 @@ func (*pgBackend) version(ctx context.Context, q querier) (int, error) {
 	return v, err
 }
 
-// vet refuses a database holding tables but no polypledger schema.
+// vet refuses a database holding tables but no polypledger schema. Both
+// are read from one snapshot of the catalog, so that a unit another
+// program is making at that moment is seen whole or not at all.
 func (b *pgBackend) vet(ctx context.Context, q querier) (int, error) {
 	var ours bool
 	var tables int
-	err := q.QueryRowContext(ctx, "SELECT to_regclass('polypledger') IS NOT NULL, (SELECT count(*) FROM pg_catalog.pg_tables WHERE schemaname = current_schema())").Scan(&ours, &tables)
+	err := q.QueryRowContext(ctx, "SELECT count(*) FILTER (WHERE tablename = 'polypledger') > 0, count(*) FROM pg_catalog.pg_tables WHERE schemaname = current_schema()").Scan(&ours, &tables)
 	if err != nil {
 		return 0, err
 	}
