@@ -14,7 +14,8 @@ import (
 // its own statements for each migration step, integrity checks, the full
 // streaming read, bulk writes and the meaning of the driver's errors.
 type backend interface {
-	// placeholders reports whether "?" must be rewritten to "$1, $2, …".
+	// numbered reports whether "?" placeholders must be rewritten as "$1",
+	// "$2", … (see rebind).
 	numbered() bool
 	// version reads the schema version (0 for a database with no
 	// polypledger tables yet).
