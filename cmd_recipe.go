@@ -96,7 +96,7 @@ func importData(ctx context.Context, e *env, a importArgs) error {
 		return err
 	}
 	if created {
-		fmt.Fprintf(e.stdout, "created a new database %s\n", a.db)
+		fmt.Fprintf(e.stdout, "created a new database %s\n", store.Describe(a.db))
 	}
 	if req.Recipe == nil && req.Kind != "" {
 		fmt.Fprintf(e.stdout, "%s: imported %d %s (%d new, %d updated)\n", a.file, rep.Rows, plural(rep.Rows, "row", "rows"), rep.Inserted, rep.Updated)

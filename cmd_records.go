@@ -48,13 +48,16 @@ func cmdDemo(ctx context.Context, e *env, args []string) error {
 	})
 	warnKey(e)
 	if err != nil {
-		return fmt.Errorf("demo %s: %w", fs.db, err)
+		return fmt.Errorf("demo %s: %w", store.Describe(fs.db), err)
 	}
 	verb := "created"
-	if !created {
+	switch {
+	case store.IsServerURL(fs.db):
+		verb = "filled the empty" // "database NAME on server …"
+	case !created:
 		verb = "filled the empty database"
 	}
-	fmt.Fprintf(e.stdout, "%s %s: %s, %d procedures (invented data)\n", verb, fs.db, demo.UnitName, count)
+	fmt.Fprintf(e.stdout, "%s %s: %s, %d procedures (invented data)\n", verb, store.Describe(fs.db), demo.UnitName, count)
 	return nil
 }
 
@@ -101,6 +104,9 @@ var recordWords = map[store.Kind][2]string{
 
 // output is where a command writes a file: the --out and --force flags.
 func output(out string, force bool, db string) workspace.Output {
+	if store.IsServerURL(db) {
+		db = "" // no file of the database to protect
+	}
 	return workspace.Output{Path: out, Replace: force, Database: db}
 }
 
@@ -177,13 +183,13 @@ func cmdCheck(ctx context.Context, e *env, args []string) error {
 	defer st.Close()
 	findings, err := st.Check(ctx)
 	if err != nil {
-		return fmt.Errorf("%s: %w", fs.db, err)
+		return fmt.Errorf("%s: %w", st.Location(), err)
 	}
 	if len(findings) > 0 {
-		return fmt.Errorf("%s has %d %s:\n%s", fs.db, len(findings), plural(len(findings), "problem", "problems"), strings.Join(findings, "\n"))
+		return fmt.Errorf("%s has %d %s:\n%s", st.Location(), len(findings), plural(len(findings), "problem", "problems"), strings.Join(findings, "\n"))
 	}
 	n, _ := st.CountProcedures(ctx, store.ListQuery{})
-	fmt.Fprintf(e.stdout, "%s: ok (schema %d, %d %s)\n", fs.db, store.SchemaVersion, n, plural(n, "procedure", "procedures"))
+	fmt.Fprintf(e.stdout, "%s: ok (schema %d, %d %s)\n", st.Location(), store.SchemaVersion, n, plural(n, "procedure", "procedures"))
 	return nil
 }
 
@@ -206,6 +212,6 @@ func cmdBackup(ctx context.Context, e *env, args []string) error {
 	if err := st.Backup(ctx, fs.out, fs.force); err != nil {
 		return forceHint(err)
 	}
-	fmt.Fprintf(e.stdout, "backed up %s to %s (checked)\n", fs.db, fs.out)
+	fmt.Fprintf(e.stdout, "backed up %s to %s (checked)\n", st.Location(), fs.out)
 	return nil
 }

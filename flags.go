@@ -12,6 +12,7 @@ import (
 
 	"polypledger/logbook"
 	"polypledger/workspace"
+	"polypledger/store"
 )
 
 // errHelp reports that -h was asked for and usage has been printed.
@@ -72,13 +73,15 @@ func newCommand(name string, w io.Writer) *cmdFlags {
 	return &cmdFlags{FlagSet: newFlags(name, synopsis, w)}
 }
 
-// withDB declares the required --db; help says what the database is for
-// ("" for "database file").
+// withDB declares the required --db (default $POLYPLEDGER_DB); help says
+// what the database is for ("" for the usual words).
 func (c *cmdFlags) withDB(help string) *cmdFlags {
 	if help == "" {
-		help = "database file"
+		help = dbUsage
+	} else {
+		help += "; a file, or a postgres:// URL of a unit server (default $POLYPLEDGER_DB)"
 	}
-	c.StringVar(&c.db, "db", "", help)
+	c.StringVar(&c.db, "db", defaultDB(), help)
 	c.hasDB = true
 	return c
 }
@@ -214,9 +217,20 @@ func periodFlags(fromS, toS string) (from, to time.Time, err error) {
 	return from, to, nil
 }
 
+// dbUsage is the help text of every command's --db flag.
+const dbUsage = "database: a file, or a postgres:// URL of a unit server (default $POLYPLEDGER_DB)"
+
+// defaultDB is the --db value when none is given: $POLYPLEDGER_DB, which
+// a workstation of a unit server sets to the server's URL.
+func defaultDB() string { return os.Getenv("POLYPLEDGER_DB") }
+
 // mustExist refuses a --db path that names no file, rather than letting a
-// reading command create an empty database.
+// reading command create an empty database. A server database is checked
+// when it is opened.
 func mustExist(db string) error {
+	if store.IsServerURL(db) {
+		return nil
+	}
 	if _, err := os.Stat(db); err != nil {
 		return fmt.Errorf("database %s does not exist", db)
 	}

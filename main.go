@@ -32,7 +32,11 @@ Commands:
   report    --db PATH --from DATE --to DATE [--standard ID] [--operator ID | --trainee ID] --out FILE.pdf [--force]
   check     --db PATH                                     integrity check
   backup    --db PATH --out FILE [--force]                consistent copy while in use
+  init      --db PATH                                     create (or upgrade) an empty unit database
+  move      --from PATH --to PATH                         copy a unit between a file and a server
   version                                                 program and schema version
+PATH is a database file or a unit server's postgres://ROLE@HOST/DATABASE URL;
+$POLYPLEDGER_DB, when set, is the default --db.
 Run "polypledger COMMAND -h" for a command's flags.`
 
 // exit codes (architecture.md): 0 success, 1 bad input, 2 usage error.
@@ -94,6 +98,8 @@ var commands = map[string]command{
 	"interval": cmdInterval,
 	"report":   cmdReport,
 	"recipe":   cmdRecipe,
+	"init":     cmdInit,
+	"move":     cmdMove,
 }
 
 func main() {
@@ -157,6 +163,9 @@ func run(ctx context.Context, args []string, e *env) (code int) {
 }
 
 func runApp(e *env, dbPath string) int {
+	if dbPath == "" {
+		dbPath = defaultDB()
+	}
 	if dbPath == "" {
 		p, err := store.DefaultDBPath()
 		if err != nil {

@@ -152,7 +152,7 @@ func TestHelp(t *testing.T) {
 		t.Errorf("import -h: exit %d, stderr:\n%s", code, stderr)
 	}
 	code, stdout, _ := cli(t, "version")
-	if code != exitOK || stdout != "polypledger dev (database schema 3)\n" {
+	if code != exitOK || stdout != "polypledger dev (database schema 4)\n" {
 		t.Errorf("version: exit %d, %q", code, stdout)
 	}
 }
@@ -165,7 +165,7 @@ func TestCommandUsageCoversEveryCommand(t *testing.T) {
 		if !strings.HasPrefix(got, "usage: polypledger "+name) {
 			t.Errorf("commandUsage(%q) = %q", name, got)
 		}
-		if name != "version" && name != "recipe" && !strings.Contains(got, "--db PATH") {
+		if name != "version" && name != "recipe" && !strings.Contains(got, "--db PATH") && !strings.Contains(got, "--from PATH") {
 			t.Errorf("commandUsage(%q) = %q, want its synopsis", name, got)
 		}
 	}
@@ -248,7 +248,7 @@ func TestDemoCheckExportImportRoundTrip(t *testing.T) {
 		return stdout
 	}
 	must("created "+a+": Larkfield Endoscopy Unit (invented demo data), 700 procedures (invented data)", "demo", "--db", a, "--procedures", "700", "--seed", "11")
-	must(a+": ok (schema 3, 700 procedures)", "check", "--db", a)
+	must(a+": ok (schema 4, 700 procedures)", "check", "--db", a)
 
 	kinds := []string{"procedures", "lesions", "histology"}
 	for _, k := range kinds {
@@ -262,7 +262,7 @@ func TestDemoCheckExportImportRoundTrip(t *testing.T) {
 	}
 	must("", "import", "--db", b, "--kind", "lesions", filepath.Join(dir, "a-lesions.csv"))
 	must("", "import", "--db", b, "--kind", "histology", filepath.Join(dir, "a-histology.csv"))
-	must(b+": ok (schema 3, 700 procedures)", "check", "--db", b)
+	must(b+": ok (schema 4, 700 procedures)", "check", "--db", b)
 	for _, k := range kinds {
 		must("", "export", "--db", b, "--kind", k, "--out", filepath.Join(dir, "b-"+k+".csv"))
 		first, second := readFile(t, filepath.Join(dir, "a-"+k+".csv")), readFile(t, filepath.Join(dir, "b-"+k+".csv"))
@@ -281,7 +281,7 @@ func TestDemoCheckExportImportRoundTrip(t *testing.T) {
 	// A backup is a database that passes check.
 	backup := filepath.Join(dir, "backup.db")
 	must("backed up", "backup", "--db", b, "--out", backup)
-	must(backup+": ok (schema 3, 700 procedures)", "check", "--db", backup)
+	must(backup+": ok (schema 4, 700 procedures)", "check", "--db", backup)
 	// Export to standard output gives the same file.
 	if got := must("", "export", "--db", b, "--kind", "lesions", "--out", "-"); got != readFile(t, filepath.Join(dir, "a-lesions.csv")) {
 		t.Error("export to standard output differs from the exported file")

@@ -79,6 +79,8 @@ type ui struct {
 	// names are what fields outside the forms are called, for the layout
 	// file of the end-to-end tests (layoutfile.go).
 	names map[fyne.CanvasObject]string
+
+	stopWatch func() // stops watchChanges
 }
 
 func newUI(a fyne.App, w fyne.Window, now func() time.Time) *ui {
@@ -91,7 +93,7 @@ func (u *ui) today() time.Time { return logbook.Today(u.now()) }
 // start opens dbPath, or shows the first-run choices when it does not exist
 // or cannot be opened.
 func (u *ui) start(dbPath string) {
-	if _, err := os.Stat(dbPath); errors.Is(err, os.ErrNotExist) {
+	if _, err := os.Stat(dbPath); errors.Is(err, os.ErrNotExist) && !store.IsServerURL(dbPath) {
 		u.showFirstRun(dbPath, "")
 		return
 	}
@@ -159,6 +161,10 @@ func (u *ui) adopt(st *store.Store, profiles []*audit.Profile) error {
 
 // close closes the open database.
 func (u *ui) close() error {
+	if u.stopWatch != nil {
+		u.stopWatch()
+		u.stopWatch = nil
+	}
 	if u.st == nil {
 		return nil
 	}
@@ -217,6 +223,10 @@ func (u *ui) showMain() {
 	}
 	u.tabs.SelectIndex(start)
 	u.tabShown(start)
+	if u.stopWatch != nil {
+		u.stopWatch()
+	}
+	u.stopWatch = u.watchChanges(watchEvery)
 	u.warnAboutKey()
 }
 
@@ -333,11 +343,11 @@ func (u *ui) updateStatus() {
 	n, err := u.st.CountProcedures(u.ctx, store.ListQuery{})
 	waiting, err2 := u.st.CountAwaitingHistology(u.ctx)
 	if err := errors.Join(err, err2); err != nil {
-		u.status.SetText("Database " + u.st.Path() + ": " + err.Error())
+		u.status.SetText(u.databaseName() + ": " + err.Error())
 		return
 	}
-	u.status.SetText(fmt.Sprintf("%s  ·  %d procedures, %d lesions awaiting histology  ·  database %s",
-		u.settings.UnitName, n, waiting, u.st.Path()))
+	u.status.SetText(fmt.Sprintf("%s  ·  %d procedures, %d lesions awaiting histology  ·  %s",
+		u.settings.UnitName, n, waiting, u.databaseName()))
 }
 
 // recordsChanged is called after any case or result is stored.

@@ -2,7 +2,6 @@ package store
 
 import (
 	"context"
-	"database/sql"
 	"errors"
 	"fmt"
 
@@ -20,7 +19,7 @@ import (
 func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.RosterEntry, source string,
 	each func(emit func(*logbook.Case) error) error, progress func(n int)) (int, error) {
 	var n int
-	err := s.inTx(ctx, func(tx *sql.Tx) error {
+	err := s.inTx(ctx, func(tx *txn) error {
 		var have int
 		if err := tx.QueryRowContext(ctx, "SELECT count(*) FROM procedures").Scan(&have); err != nil {
 			return err
@@ -41,7 +40,7 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			if ps := logbook.ValidateRosterEntry(r); len(ps) > 0 {
 				return &ValidationError{Record: "roster entry " + r.ID, Problems: ps}
 			}
-			if _, err := tx.ExecContext(ctx, "INSERT INTO roster (id, name, role, retired) VALUES (?, ?, ?, ?)", r.ID, r.Name, string(r.Role), r.Retired); err != nil {
+			if _, err := tx.ExecContext(ctx, "INSERT INTO roster (id, name, role, retired) VALUES (?, ?, ?, ?)", r.ID, r.Name, string(r.Role), boolInt(r.Retired)); err != nil {
 				return err
 			}
 			if err := s.logChange(ctx, tx, "insert", "roster "+r.ID, nil, rosterMap(r)); err != nil {
@@ -49,16 +48,11 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			}
 			onRoster[r.ID] = true
 		}
-		ps, err := tx.PrepareContext(ctx, procedureInsertSQL)
+		cw, err := s.newCaseWriter(ctx, tx)
 		if err != nil {
 			return err
 		}
-		defer ps.Close()
-		ls, err := tx.PrepareContext(ctx, lesionInsertSQL)
-		if err != nil {
-			return err
-		}
-		defer ls.Close()
+		defer cw.close()
 		today := s.today()
 		var first, last string
 		var lesions int
@@ -79,13 +73,8 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			if len(probs) > 0 {
 				return &ValidationError{Record: "procedure " + c.ID, Problems: probs}
 			}
-			if _, err := ps.ExecContext(ctx, storedArgs(procedureColumns, &c.Procedure)...); err != nil {
-				return fmt.Errorf("procedure %s: %w", c.ID, err)
-			}
-			for i := range c.Lesions {
-				if _, err := ls.ExecContext(ctx, storedArgs(lesionStoredColumns, &c.Lesions[i])...); err != nil {
-					return fmt.Errorf("procedure %s lesion %d: %w", c.ID, c.Lesions[i].LesionNo, err)
-				}
+			if err := cw.write(c); err != nil {
+				return err
 			}
 			if first == "" {
 				first = c.ID
@@ -93,12 +82,20 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 			last = c.ID
 			lesions += len(c.Lesions)
 			n++
-			if progress != nil && n%ProgressEvery == 0 {
-				progress(n)
+			if n%ProgressEvery == 0 {
+				if err := cw.flush(); err != nil {
+					return err
+				}
+				if progress != nil {
+					progress(n)
+				}
 			}
 			return nil
 		})
 		if err != nil {
+			return err
+		}
+		if err := cw.flush(); err != nil {
 			return err
 		}
 		return s.logChange(ctx, tx, "insert", "bulk load", nil, map[string]any{
@@ -113,4 +110,50 @@ func (s *Store) InsertCases(ctx context.Context, st Settings, roster []logbook.R
 		return 0, s.explain(err)
 	}
 	return n, nil
+}
+
+// caseWriter stores whole cases in bulk inside a transaction — a prepared
+// INSERT each on SQLite, COPY in batches on a server —, procedures before
+// the lesions that refer to them. Cases written are stored when flush is
+// called; call it every few thousand cases and before the transaction ends.
+type caseWriter struct {
+	ctx            context.Context
+	procs, lesions bulkWriter
+}
+
+func (s *Store) newCaseWriter(ctx context.Context, tx *txn) (*caseWriter, error) {
+	pw, err := s.be.bulk(ctx, tx, "procedures", columnNames(procedureColumns))
+	if err != nil {
+		return nil, err
+	}
+	lw, err := s.be.bulk(ctx, tx, "lesions", columnNames(lesionStoredColumns))
+	if err != nil {
+		pw.close()
+		return nil, err
+	}
+	return &caseWriter{ctx: ctx, procs: pw, lesions: lw}, nil
+}
+
+func (w *caseWriter) write(c *logbook.Case) error {
+	if err := w.procs.write(w.ctx, storedArgs(procedureColumns, &c.Procedure)); err != nil {
+		return fmt.Errorf("procedure %s: %w", c.ID, err)
+	}
+	for i := range c.Lesions {
+		if err := w.lesions.write(w.ctx, storedArgs(lesionStoredColumns, &c.Lesions[i])); err != nil {
+			return fmt.Errorf("procedure %s lesion %d: %w", c.ID, c.Lesions[i].LesionNo, err)
+		}
+	}
+	return nil
+}
+
+func (w *caseWriter) flush() error {
+	if err := w.procs.flush(w.ctx); err != nil {
+		return err
+	}
+	return w.lesions.flush(w.ctx)
+}
+
+func (w *caseWriter) close() {
+	w.procs.close()
+	w.lesions.close()
 }

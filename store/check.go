@@ -12,13 +12,15 @@ import (
 	"polypledger/logbook"
 )
 
-// Check runs SQLite's integrity and foreign-key checks and then the
-// program's own invariants on every record: each procedure and lesion passes
-// validation, lesion numbers are unique, operators and trainees are on the
-// roster, the schema version is current, and the change log is guarded. It
-// returns one line per finding; none means the database is sound.
+// Check runs the backend's own checks (SQLite's integrity and foreign-key
+// checks; on a server, that every lesion has its procedure and every
+// constraint and guard is in force) and then the program's own invariants
+// on every record: each procedure and lesion passes validation, lesion
+// numbers are unique, operators and trainees are on the roster, the schema
+// version is current, and the change log is guarded. It returns one line
+// per finding; none means the database is sound.
 func (s *Store) Check(ctx context.Context) ([]string, error) {
-	out, err := integrityFindings(ctx, s.db)
+	out, err := s.be.integrity(ctx, s)
 	if err != nil {
 		return nil, s.explain(err)
 	}
@@ -27,11 +29,9 @@ func (s *Store) Check(ctx context.Context) ([]string, error) {
 	} else if v != SchemaVersion {
 		out = append(out, fmt.Sprintf("schema: version %d, expected %d", v, SchemaVersion))
 	}
-	var triggers int
-	if err := s.db.QueryRowContext(ctx, "SELECT count(*) FROM sqlite_master WHERE type = 'trigger' AND name LIKE 'change_log_no_%'").Scan(&triggers); err != nil {
+	if ok, err := s.be.guarded(ctx, s.db); err != nil {
 		return nil, s.explain(err)
-	}
-	if triggers != 2 {
+	} else if !ok {
 		out = append(out, "change log: the append-only guards are missing")
 	}
 	roster, err := s.Roster(ctx)
@@ -116,6 +116,9 @@ func (s *Store) Backup(ctx context.Context, out string, replace bool) error {
 	if err := CheckOutput(abs, s.path, replace); err != nil {
 		return fmt.Errorf("backup %s: %w", out, err)
 	}
+	if s.OnServer() {
+		return s.backupServer(ctx, out, abs, replace)
+	}
 	if err := quickCheck(ctx, s.db); err != nil {
 		return fmt.Errorf("backup refused: %w", s.explain(err))
 	}
@@ -128,7 +131,7 @@ func (s *Store) Backup(ctx context.Context, out string, replace bool) error {
 		return fmt.Errorf("backup %s: %w", out, err)
 	}
 	defer removeJournals(tmp)
-	if err := vacuumInto(ctx, s.db, tmp); err != nil {
+	if err := vacuumInto(ctx, s.db.pool, tmp); err != nil {
 		os.Remove(tmp)
 		return fmt.Errorf("backup %s: %w", out, s.explain(err))
 	}

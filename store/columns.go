@@ -29,11 +29,43 @@ type column[T any] struct {
 	fromRaw func(*T, []byte, *rawCache) bool
 }
 
-// rawCache remembers the last stored date read by one reader, since a full
-// pass reads the same few hundred dates again and again.
+// rawCache remembers what one reader of a full pass has read already, so
+// that values that repeat are not made again: the last stored date (a full
+// pass reads the same few hundred dates again and again), the staff ids
+// (a unit has a few dozen), and the last procedure id of the lesion stream
+// (a procedure's lesions come together).
 type rawCache struct {
 	dateRaw []byte
 	date    time.Time
+	staff   map[string]string
+	lastID  string
+}
+
+// maxStaffIDs bounds the staff ids a reader keeps.
+const maxStaffIDs = 4096
+
+// staffID returns the stored staff id b as a string, made once.
+func (rc *rawCache) staffID(b []byte) string {
+	if s, ok := rc.staff[string(b)]; ok {
+		return s
+	}
+	s := string(b)
+	if rc.staff == nil {
+		rc.staff = map[string]string{}
+	}
+	if len(rc.staff) < maxStaffIDs {
+		rc.staff[s] = s
+	}
+	return s
+}
+
+// sameID returns the stored procedure id b as a string, the one made for
+// the row before when it is the same.
+func (rc *rawCache) sameID(b []byte) string {
+	if rc.lastID != string(b) {
+		rc.lastID = string(b)
+	}
+	return rc.lastID
 }
 
 // rawCount reads a stored whole number of up to nine digits.
@@ -94,6 +126,20 @@ func textCol[T any](name string, f func(*T) *string) column[T] {
 	return column[T]{name: name,
 		get: func(r *T) string { return *f(r) },
 		set: func(r *T, s string, _ *codec) error { *f(r) = s; return nil }}
+}
+
+// reusedTextCol is a text column whose stored values repeat, read through
+// the reader's cache (see rawCache).
+func reusedTextCol[T any](name string, f func(*T) *string, reuse func(*rawCache, []byte) string) column[T] {
+	c := textCol(name, f)
+	c.fromRaw = func(r *T, b []byte, rc *rawCache) bool {
+		if rc == nil {
+			return false
+		}
+		*f(r) = reuse(rc, b)
+		return true
+	}
+	return c
 }
 
 func codeCol[T any, C ~string](name string, set []C, f func(*T) *C) column[T] {
@@ -196,8 +242,8 @@ type H = logbook.HistologyResult
 var procedureColumns = []column[P]{
 	withSQLName(textCol("procedure_id", func(p *P) *string { return &p.ID }), "id"),
 	dateCol("performed_on", func(p *P) *time.Time { return &p.PerformedOn }),
-	textCol("operator_id", func(p *P) *string { return &p.OperatorID }),
-	textCol("trainee_id", func(p *P) *string { return &p.TraineeID }),
+	reusedTextCol("operator_id", func(p *P) *string { return &p.OperatorID }, (*rawCache).staffID),
+	reusedTextCol("trainee_id", func(p *P) *string { return &p.TraineeID }, (*rawCache).staffID),
 	codeCol("supervision", logbook.Supervisions, func(p *P) *logbook.Supervision { return &p.Supervision }),
 	yesNoCol("trainee_reached_caecum", false, func(p *P) *logbook.YesNo { return &p.TraineeReachedCaecum }),
 	{
@@ -244,7 +290,7 @@ var procedureColumns = []column[P]{
 // lesionColumns is lesions.csv in the order of the contract; tattoo is
 // optional on import and always exported.
 var lesionColumns = []column[L]{
-	textCol("procedure_id", func(l *L) *string { return &l.ProcedureID }),
+	reusedTextCol("procedure_id", func(l *L) *string { return &l.ProcedureID }, (*rawCache).sameID),
 	countCol("lesion_no", func(l *L) *int { return &l.LesionNo }),
 	codeCol("segment", logbook.Segments, func(l *L) *logbook.Segment { return &l.Segment }),
 	countCol("size_mm", func(l *L) *int { return &l.SizeMM }),

@@ -21,7 +21,7 @@ func countWithPrefix(t testing.TB, path, prefix string) int {
 	}
 	defer s.Close()
 	var n int
-	if err := s.db.QueryRow("SELECT count(*) FROM procedures WHERE id LIKE ? || '%'", prefix).Scan(&n); err != nil {
+	if err := s.db.QueryRowContext(context.Background(), "SELECT count(*) FROM procedures WHERE id LIKE ? || '%'", prefix).Scan(&n); err != nil {
 		t.Fatal(err)
 	}
 	return n
@@ -32,6 +32,7 @@ func countWithPrefix(t testing.TB, path, prefix string) int {
 // lock (transactions take it at BEGIN), so both succeed and every row of
 // both files is there, with no corruption.
 func TestTwoImportingProcesses(t *testing.T) {
+	sqliteOnly("on a server, TestServerEightImportingProcesses runs eight")
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}
@@ -108,17 +109,21 @@ func processTest(t *testing.T) (dir, home string) {
 func holdWriteLock(t *testing.T, path string) (release func()) {
 	t.Helper()
 	holder := openTest(t, path, Options{})
-	tx, err := holder.db.BeginTx(context.Background(), nil) // BEGIN IMMEDIATE: takes the write lock now
+	ctx := context.Background()
+	tx, err := holder.db.begin(ctx, nil) // BEGIN IMMEDIATE on SQLite: takes the write lock now
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := tx.Exec("INSERT INTO settings (key, value) VALUES ('lock-holder', 'x')"); err != nil {
+	if err := holder.be.lockWrites(ctx, tx); err != nil { // the write lock on a server
+		t.Fatal(err)
+	}
+	if _, err := tx.ExecContext(ctx, "INSERT INTO settings (key, value) VALUES ('lock-holder', 'x')"); err != nil {
 		t.Fatal(err)
 	}
 	var once sync.Once
 	release = func() {
 		once.Do(func() {
-			tx.Rollback()
+			tx.rollback()
 			holder.Close()
 		})
 	}
@@ -131,8 +136,11 @@ func holdWriteLock(t *testing.T, path string) (release func()) {
 // import must give up after about its timeout with ErrBusy's message and
 // store nothing; once the lock is released the same import succeeds.
 func TestBusyWriterStoresNothing(t *testing.T) {
-	dir := t.TempDir()
-	db := filepath.Join(dir, "unit.db")
+	EachBackend(t, testBusyWriterStoresNothing)
+}
+
+func testBusyWriterStoresNothing(t *testing.T, b TestBackend) {
+	db := b.NewDB(t)
 	openTest(t, db, Options{}).Close()
 	cases := inventedCases(t, 50, "W", 11)
 	data := proceduresCSV(t, cases)
@@ -177,17 +185,21 @@ func TestBusyWriterStoresNothing(t *testing.T) {
 // whose busy timeout (POLYPLEDGER_BUSY_TIMEOUT) passes while a write
 // transaction is held exits 1 with ErrBusy's message and stores nothing.
 func TestBusyCommandSaysSo(t *testing.T) {
+	EachBackend(t, testBusyCommandSaysSo)
+}
+
+func testBusyCommandSaysSo(t *testing.T, b TestBackend) {
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}
 	dir := t.TempDir()
 	home := filepath.Join(dir, "home")
 	os.Mkdir(home, 0o700)
-	db := filepath.Join(dir, "unit.db")
+	db := b.NewDB(t)
 	openTest(t, db, Options{}).Close()
 	csvPath := writeFile(t, dir, "p.csv", proceduresCSV(t, inventedCases(t, 50, "C", 5)))
 	before := countsOf(t, db)
-	dbHash := hashFile(t, db)
+	dbHash := b.Fingerprint(t, db)
 
 	release := holdWriteLock(t, db)
 	r := runCLI(t, home, []string{"POLYPLEDGER_BUSY_TIMEOUT=250ms"}, "import", "--db", db, "--kind", "procedures", csvPath)
@@ -201,8 +213,8 @@ func TestBusyCommandSaysSo(t *testing.T) {
 	if got := countsOf(t, db); got != before {
 		t.Fatalf("a refused import changed the database: %+v, was %+v", got, before)
 	}
-	if h := hashFile(t, db); h != dbHash {
-		t.Errorf("the database file changed although nothing was stored")
+	if h := b.Fingerprint(t, db); h != dbHash {
+		t.Errorf("the database changed although nothing was stored")
 	}
 
 	// A malformed timeout is refused plainly rather than ignored.

@@ -44,6 +44,10 @@ type killPoint struct {
 // none or all of the file's rows, with the change log to match, and pass
 // both the in-process Check and the `check` command.
 func TestImportKilledLeavesNothingOrEverything(t *testing.T) {
+	EachBackend(t, testImportKilledLeavesNothingOrEverything)
+}
+
+func testImportKilledLeavesNothingOrEverything(t *testing.T, b TestBackend) {
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}
@@ -55,14 +59,24 @@ func TestImportKilledLeavesNothingOrEverything(t *testing.T) {
 	cases := inventedCases(t, crashRows, "K", 7)
 	csvPath := writeFile(t, dir, "procedures.csv", proceduresCSV(t, cases))
 
-	// A migrated, empty database to copy for every run.
+	// A migrated, empty database for every run: a copy of one file, or a
+	// new database on the server.
 	pristine := filepath.Join(dir, "pristine.db")
 	openTest(t, pristine, Options{}).Close()
+	fresh := func(name string) string {
+		if b.Server() {
+			db := b.NewDB(t)
+			openTest(t, db, Options{}).Close()
+			return db
+		}
+		db := filepath.Join(dir, name)
+		copyFile(t, pristine, db)
+		return db
+	}
 
 	// One uninterrupted import: the reference for "everything", and how long
 	// an import takes here, so that the kill points scale with the machine.
-	full := filepath.Join(dir, "full.db")
-	copyFile(t, pristine, full)
+	full := fresh("full.db")
 	start := time.Now()
 	r := runCLI(t, home, nil, "import", "--db", full, "--kind", "procedures", csvPath)
 	took := time.Since(start)
@@ -92,8 +106,7 @@ func TestImportKilledLeavesNothingOrEverything(t *testing.T) {
 	var interrupted, completed int
 	for i, kp := range points {
 		t.Run(kp.name, func(t *testing.T) {
-			db := filepath.Join(dir, fmt.Sprintf("run%02d.db", i))
-			copyFile(t, pristine, db)
+			db := fresh(fmt.Sprintf("run%02d.db", i))
 			killed := importAndKill(t, home, db, csvPath, kp)
 			got := countsOf(t, db)
 			switch got.procedures {
@@ -182,6 +195,7 @@ func importAndKill(t *testing.T, home, db, csvPath string, kp killPoint) bool {
 // never an empty or half-made file; and the next import into the same
 // place removes what the killed one left under its temporary name.
 func TestImportKilledIntoNewDatabase(t *testing.T) {
+	sqliteOnly("a new file made whole under a temporary name")
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}

@@ -73,8 +73,8 @@ type Feed func(emit func(Record) error, refuse func(RowError)) error
 // import in the last line of a refusal, whose problems are listed in the
 // order of their lines. With opt.Check nothing is stored in any case. Progress is the feed's to report (opt.Progress is not called).
 func (s *Store) ImportRecords(ctx context.Context, name string, feed Feed, opt ImportOptions) (ImportResult, error) {
-	if s.readOnly {
-		return ImportResult{}, errors.New("the database is open read-only")
+	if ok, why := s.Writable(); !ok {
+		return ImportResult{}, fmt.Errorf("import %s: %s; nothing was imported", name, why)
 	}
 	im := s.newImporter(ctx, name, opt)
 	im.seen = map[Kind]map[string]bool{}

@@ -77,97 +77,99 @@ func contains(list []string, s string) bool {
 }
 
 func TestImportRecords(t *testing.T) {
-	po, lo := roomOrigin(store.Procedures), roomOrigin(store.Lesions)
-	tests := []struct {
-		name     string
-		stored   []store.Record // imported first, plainly
-		recs     []store.Record
-		problems []store.RowError
-		want     []string // the problems; none: stored
-		counts   map[store.Kind]store.KindCount
-	}{
-		{
-			name:   "procedures and their lesions in one import",
-			recs:   []store.Record{proc(2, po, "P1", nil), les(2, lo, "P1", "1"), les(3, lo, "P1", "2"), proc(4, po, "P2", nil)},
-			counts: map[store.Kind]store.KindCount{store.Procedures: {New: 2}, store.Lesions: {New: 2}},
-		},
-		{
-			name: "a value is named by the source's column and line",
-			recs: []store.Record{proc(2, po, "P1", map[string]string{"age": "200"}), proc(3, po, "P2", nil)},
-			want: []string{"room.csv:2: PtAge (age): 200 is outside 18–110"},
-		},
-		{
-			name: "the lesions of a refused procedure are not reported again",
-			recs: []store.Record{proc(2, po, "P1", map[string]string{"age": "200"}), les(2, lo, "P1", "1"), les(3, lo, "P1", "2")},
-			want: []string{"room.csv:2: PtAge (age): 200 is outside 18–110"},
-		},
-		{
-			name: "a lesion after a refused row is still checked against its stored procedure",
-			recs: []store.Record{proc(2, po, "P1", map[string]string{"age": "200"}), proc(3, po, "P2", nil), les(3, lo, "P2", "1"), les(4, lo, "P9", "1")},
-			want: []string{"room.csv:2: PtAge (age): 200 is outside 18–110", "room.csv:4: ExamID: P9 is not in the logbook (import its procedure first)"},
-		},
-		{
-			name:   "a procedure already stored: its lesions are not reported as clashes too",
-			stored: []store.Record{proc(1, nil, "P1", nil), les(1, nil, "P1", "1")},
-			recs:   []store.Record{proc(2, po, "P1", nil), les(2, lo, "P1", "1")},
-			want:   []string{"room.csv:2: ExamID: P1 is already in the logbook (import with --update to replace it)"},
-		},
-		{
-			name: "a required column the file lacks is reported once",
-			recs: []store.Record{proc(2, roomOrigin(store.Procedures, "performed_on"), "P1", map[string]string{"performed_on": ""}),
-				proc(3, roomOrigin(store.Procedures, "performed_on"), "P2", map[string]string{"performed_on": ""})},
-			want: []string{"room.csv:2: ExamDate (performed_on): is required, on this row and every other: room.csv has no column for it; add performed_on to the recipe's [columns]"},
-		},
-		{
-			name: "a record repeated in the import",
-			recs: []store.Record{proc(2, po, "P1", nil), les(2, lo, "P1", "1"), les(3, lo, "P1", "1")},
-			want: []string{"room.csv:3: LesionNo (lesion_no): lesion 1 of procedure P1 appears more than once in this file"},
-		},
-		{
-			name:     "the feed's own problems refuse the import, listed in line order with the store's",
-			recs:     []store.Record{proc(2, po, "P1", map[string]string{"age": "17"}), proc(8, po, "P2", nil)},
-			problems: []store.RowError{{File: "room.csv", Line: 7, Column: "Referral (indication)", Reason: `"Bowel scope" is not in the recipe: add it under [values.indication]`}},
-			want:     []string{"room.csv:2: PtAge (age): 17 is outside 18–110", `room.csv:7: Referral (indication): "Bowel scope" is not in the recipe: add it under [values.indication]`},
-		},
-	}
-	for _, tt := range tests {
-		t.Run(tt.name, func(t *testing.T) {
-			s := openUnit(t)
-			ctx := context.Background()
-			if tt.stored != nil {
-				if _, err := s.ImportRecords(ctx, "first", feedOf(tt.stored), store.ImportOptions{}); err != nil {
-					t.Fatal(err)
+	store.EachBackend(t, func(t *testing.T, be store.TestBackend) {
+		po, lo := roomOrigin(store.Procedures), roomOrigin(store.Lesions)
+		tests := []struct {
+			name     string
+			stored   []store.Record // imported first, plainly
+			recs     []store.Record
+			problems []store.RowError
+			want     []string // the problems; none: stored
+			counts   map[store.Kind]store.KindCount
+		}{
+			{
+				name:   "procedures and their lesions in one import",
+				recs:   []store.Record{proc(2, po, "P1", nil), les(2, lo, "P1", "1"), les(3, lo, "P1", "2"), proc(4, po, "P2", nil)},
+				counts: map[store.Kind]store.KindCount{store.Procedures: {New: 2}, store.Lesions: {New: 2}},
+			},
+			{
+				name: "a value is named by the source's column and line",
+				recs: []store.Record{proc(2, po, "P1", map[string]string{"age": "200"}), proc(3, po, "P2", nil)},
+				want: []string{"room.csv:2: PtAge (age): 200 is outside 18–110"},
+			},
+			{
+				name: "the lesions of a refused procedure are not reported again",
+				recs: []store.Record{proc(2, po, "P1", map[string]string{"age": "200"}), les(2, lo, "P1", "1"), les(3, lo, "P1", "2")},
+				want: []string{"room.csv:2: PtAge (age): 200 is outside 18–110"},
+			},
+			{
+				name: "a lesion after a refused row is still checked against its stored procedure",
+				recs: []store.Record{proc(2, po, "P1", map[string]string{"age": "200"}), proc(3, po, "P2", nil), les(3, lo, "P2", "1"), les(4, lo, "P9", "1")},
+				want: []string{"room.csv:2: PtAge (age): 200 is outside 18–110", "room.csv:4: ExamID: P9 is not in the logbook (import its procedure first)"},
+			},
+			{
+				name:   "a procedure already stored: its lesions are not reported as clashes too",
+				stored: []store.Record{proc(1, nil, "P1", nil), les(1, nil, "P1", "1")},
+				recs:   []store.Record{proc(2, po, "P1", nil), les(2, lo, "P1", "1")},
+				want:   []string{"room.csv:2: ExamID: P1 is already in the logbook (import with --update to replace it)"},
+			},
+			{
+				name: "a required column the file lacks is reported once",
+				recs: []store.Record{proc(2, roomOrigin(store.Procedures, "performed_on"), "P1", map[string]string{"performed_on": ""}),
+					proc(3, roomOrigin(store.Procedures, "performed_on"), "P2", map[string]string{"performed_on": ""})},
+				want: []string{"room.csv:2: ExamDate (performed_on): is required, on this row and every other: room.csv has no column for it; add performed_on to the recipe's [columns]"},
+			},
+			{
+				name: "a record repeated in the import",
+				recs: []store.Record{proc(2, po, "P1", nil), les(2, lo, "P1", "1"), les(3, lo, "P1", "1")},
+				want: []string{"room.csv:3: LesionNo (lesion_no): lesion 1 of procedure P1 appears more than once in this file"},
+			},
+			{
+				name:     "the feed's own problems refuse the import, listed in line order with the store's",
+				recs:     []store.Record{proc(2, po, "P1", map[string]string{"age": "17"}), proc(8, po, "P2", nil)},
+				problems: []store.RowError{{File: "room.csv", Line: 7, Column: "Referral (indication)", Reason: `"Bowel scope" is not in the recipe: add it under [values.indication]`}},
+				want:     []string{"room.csv:2: PtAge (age): 17 is outside 18–110", `room.csv:7: Referral (indication): "Bowel scope" is not in the recipe: add it under [values.indication]`},
+			},
+		}
+		for _, tt := range tests {
+			t.Run(tt.name, func(t *testing.T) {
+				s := openUnit(t, be)
+				ctx := context.Background()
+				if tt.stored != nil {
+					if _, err := s.ImportRecords(ctx, "first", feedOf(tt.stored), store.ImportOptions{}); err != nil {
+						t.Fatal(err)
+					}
 				}
-			}
-			before := counts(t, s)
-			res, err := s.ImportRecords(ctx, "room.csv", feedOf(tt.recs, tt.problems...), store.ImportOptions{})
-			if tt.want == nil {
-				if err != nil {
-					t.Fatal(err)
+				before := counts(t, s)
+				res, err := s.ImportRecords(ctx, "room.csv", feedOf(tt.recs, tt.problems...), store.ImportOptions{})
+				if tt.want == nil {
+					if err != nil {
+						t.Fatal(err)
+					}
+					if !reflect.DeepEqual(res.Kinds, tt.counts) {
+						t.Errorf("counts %v, want %v", res.Kinds, tt.counts)
+					}
+					return
 				}
-				if !reflect.DeepEqual(res.Kinds, tt.counts) {
-					t.Errorf("counts %v, want %v", res.Kinds, tt.counts)
+				ie := importError(t, err)
+				if got := errorLines(ie); !reflect.DeepEqual(got, tt.want) {
+					t.Errorf("problems\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(tt.want, "\n"))
 				}
-				return
-			}
-			ie := importError(t, err)
-			if got := errorLines(ie); !reflect.DeepEqual(got, tt.want) {
-				t.Errorf("problems\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(tt.want, "\n"))
-			}
-			words := func(n int, one string) string {
-				if n == 1 {
-					return "1 " + one
+				words := func(n int, one string) string {
+					if n == 1 {
+						return "1 " + one
+					}
+					return fmt.Sprintf("%d %ss", n, one)
 				}
-				return fmt.Sprintf("%d %ss", n, one)
-			}
-			if !strings.HasSuffix(ie.Error(), "room.csv: nothing was imported ("+words(len(tt.want), "problem")+" in "+words(len(tt.recs), "row")+")") {
-				t.Errorf("last line of %q", ie.Error())
-			}
-			if after := counts(t, s); after != before {
-				t.Errorf("a refused import changed the logbook: %v → %v", before, after)
-			}
-		})
-	}
+				if !strings.HasSuffix(ie.Error(), "room.csv: nothing was imported ("+words(len(tt.want), "problem")+" in "+words(len(tt.recs), "row")+")") {
+					t.Errorf("last line of %q", ie.Error())
+				}
+				if after := counts(t, s); after != before {
+					t.Errorf("a refused import changed the logbook: %v → %v", before, after)
+				}
+			})
+		}
+	})
 }
 
 // TestImportCheckStoresNothing checks files against a logbook: the result
@@ -299,68 +301,72 @@ func exportWorkbook(t *testing.T, s *store.Store) []byte {
 // and imports it into a new database: the same records come back, and the
 // CSV exports of both databases are the same bytes.
 func TestWorkbookRoundTrip(t *testing.T) {
-	a := openUnit(t)
-	files := map[store.Kind]string{}
-	for _, k := range kinds {
-		files[k] = fixture(t, string(k)+".csv")
-	}
-	importAll(t, a, files)
-	importHostile(t, a)
-
-	b := openUnit(t)
-	if _, err := importWorkbook(t, b, "unit.xlsx", exportWorkbook(t, a)); err != nil {
-		t.Fatal(err)
-	}
-	first, second := exportAll(t, a), exportAll(t, b)
-	for _, k := range kinds {
-		if first[k] != second[k] {
-			t.Errorf("%s: the records differ after the workbook round trip at %s", k, firstDifference(second[k], first[k]))
+	store.EachBackend(t, func(t *testing.T, be store.TestBackend) {
+		a := openUnit(t, be)
+		files := map[store.Kind]string{}
+		for _, k := range kinds {
+			files[k] = fixture(t, string(k)+".csv")
 		}
-	}
-	if ca, cb := counts(t, a), counts(t, b); ca[0] != cb[0] || ca[1] != cb[1] {
-		t.Errorf("procedures and lesions: %v before, %v after", ca, cb)
-	}
+		importAll(t, a, files)
+		importHostile(t, a)
+
+		b := openUnit(t, be)
+		if _, err := importWorkbook(t, b, "unit.xlsx", exportWorkbook(t, a)); err != nil {
+			t.Fatal(err)
+		}
+		first, second := exportAll(t, a), exportAll(t, b)
+		for _, k := range kinds {
+			if first[k] != second[k] {
+				t.Errorf("%s: the records differ after the workbook round trip at %s", k, firstDifference(second[k], first[k]))
+			}
+		}
+		if ca, cb := counts(t, a), counts(t, b); ca[0] != cb[0] || ca[1] != cb[1] {
+			t.Errorf("procedures and lesions: %v before, %v after", ca, cb)
+		}
+	})
 }
 
 // TestWorkbookProblemsNameTheSheetAndRow imports a workbook of ours whose
 // procedures sheet has a bad value and lacks a column: the messages name
 // the sheet and its own row numbers, as CSV messages name the line.
 func TestWorkbookProblemsNameTheSheetAndRow(t *testing.T) {
-	var book bytes.Buffer
-	w, err := sheet.NewWriter(&book)
-	if err != nil {
-		t.Fatal(err)
-	}
-	header := store.Columns(store.Procedures)
-	header = append(header[:1:1], header[2:]...) // no performed_on
-	must := func(err error) {
-		t.Helper()
+	store.EachBackend(t, func(t *testing.T, be store.TestBackend) {
+		var book bytes.Buffer
+		w, err := sheet.NewWriter(&book)
 		if err != nil {
 			t.Fatal(err)
 		}
-	}
-	must(w.AddSheet("procedures", header, nil))
-	row := func(id, age string) []string {
-		vals := map[string]string{"procedure_id": id, "operator_id": "E01", "age": age, "sex": "F", "indication": "screening", "extent": "caecum"}
-		out := make([]string, len(header))
-		for i, h := range header {
-			out[i] = vals[h]
+		header := store.Columns(store.Procedures)
+		header = append(header[:1:1], header[2:]...) // no performed_on
+		must := func(err error) {
+			t.Helper()
+			if err != nil {
+				t.Fatal(err)
+			}
 		}
-		return out
-	}
-	must(w.WriteRow(row("P1", "60")))
-	must(w.WriteRow(row("P2", "200")))
-	for _, k := range kinds[1:] {
-		must(w.AddSheet(string(k), store.Columns(k), nil))
-	}
-	must(w.Close())
-	s := openUnit(t)
-	_, err = importWorkbook(t, s, "unit.xlsx", book.Bytes())
-	want := []string{
-		"unit.xlsx[procedures]:1: performed_on: required column is missing from the header",
-		"unit.xlsx[procedures]:3: age: 200 is outside 18–110",
-	}
-	if got := errorLines(importError(t, err)); !reflect.DeepEqual(got, want) {
-		t.Errorf("problems\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
-	}
+		must(w.AddSheet("procedures", header, nil))
+		row := func(id, age string) []string {
+			vals := map[string]string{"procedure_id": id, "operator_id": "E01", "age": age, "sex": "F", "indication": "screening", "extent": "caecum"}
+			out := make([]string, len(header))
+			for i, h := range header {
+				out[i] = vals[h]
+			}
+			return out
+		}
+		must(w.WriteRow(row("P1", "60")))
+		must(w.WriteRow(row("P2", "200")))
+		for _, k := range kinds[1:] {
+			must(w.AddSheet(string(k), store.Columns(k), nil))
+		}
+		must(w.Close())
+		s := openUnit(t, be)
+		_, err = importWorkbook(t, s, "unit.xlsx", book.Bytes())
+		want := []string{
+			"unit.xlsx[procedures]:1: performed_on: required column is missing from the header",
+			"unit.xlsx[procedures]:3: age: 200 is outside 18–110",
+		}
+		if got := errorLines(importError(t, err)); !reflect.DeepEqual(got, want) {
+			t.Errorf("problems\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
+		}
+	})
 }

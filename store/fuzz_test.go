@@ -236,7 +236,7 @@ func storeCounts(t testing.TB, s *Store) dbCounts {
 		{"SELECT count(*) FROM lesions", &c.lesions},
 		{"SELECT count(*) FROM change_log", &c.changes},
 	} {
-		if err := s.db.QueryRow(q.sql).Scan(q.n); err != nil {
+		if err := s.db.QueryRowContext(context.Background(), q.sql).Scan(q.n); err != nil {
 			t.Fatal(err)
 		}
 	}

@@ -47,6 +47,7 @@ func noTemporaries(t testing.TB, dir string) {
 // and the database must pass check. Repeated over several rounds, so that
 // the processes meet at different moments of creation.
 func TestProcessesCreatingOneDatabase(t *testing.T) {
+	sqliteOnly("a new file made whole under a temporary name; on a server, TestServerEightImportingProcesses races to create a unit")
 	dir, home := processTest(t)
 	const n = 1500
 	good := map[string]string{}
@@ -120,6 +121,7 @@ func corruptRootPage(t *testing.T, path string) {
 // says so, and import and backup refuse it — the import writes nothing, the
 // backup makes no file — rather than write to it or copy it as sound.
 func TestDamagedDatabaseRefusedByWriters(t *testing.T) {
+	sqliteOnly("a damaged page of a file")
 	dir, home := processTest(t)
 	db := filepath.Join(dir, "unit.db")
 	populatedDB(t, db, 600)
@@ -185,6 +187,7 @@ func foreignWALDatabase(t *testing.T, dir string) string {
 // files and their folder byte for byte as they were: no checkpoint, no
 // -wal or -shm made, nothing migrated, no backup made.
 func TestForeignDatabasesLeftUntouched(t *testing.T) {
+	sqliteOnly("another program's SQLite files and their logs")
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}
@@ -254,6 +257,7 @@ func TestForeignDatabasesLeftUntouched(t *testing.T) {
 // byte for byte as it was — not migrated. While the backup runs, no file in
 // its folder is ever readable by others, even with a permissive umask.
 func TestBackupChangesNothingInItsSource(t *testing.T) {
+	sqliteOnly("a file's bytes and SQLite's online copy")
 	dir, home := processTest(t)
 	src := filepath.Join(dir, "old.db")
 	old := openTest(t, src, Options{migrateTo: 1})
@@ -332,6 +336,7 @@ func TestBackupChangesNothingInItsSource(t *testing.T) {
 // next run of the same command removes what the killed one left and
 // succeeds.
 func TestKilledWritersLeaveNoTemporaryBehind(t *testing.T) {
+	sqliteOnly("temporary files beside a database file")
 	dir, home := processTest(t)
 	db := filepath.Join(dir, "unit.db")
 	populatedDB(t, db, 30000)

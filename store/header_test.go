@@ -8,6 +8,7 @@ import "testing"
 // TestImportKilledLeavesNothingOrEverything when the kill lands in the final
 // checkpoint).
 func TestShortFileWithLogIsNotDamaged(t *testing.T) {
+	sqliteOnly("a file header and its write-ahead log")
 	short := fileHeader{exists: true, size: 4 * 4096, pageSize: 4096, pages: 10}
 	if err := short.vet("x.db", SchemaVersion); err == nil {
 		t.Error("a short file with no write-ahead log was accepted")

@@ -580,7 +580,7 @@ func readRecord[T any](ru rules[T], vals []string, order []int, absent []bool, p
 type importer struct {
 	s      *Store
 	ctx    context.Context
-	tx     *sql.Tx
+	tx     *txn
 	ie     *ImportError
 	cd     *codec
 	res    ImportResult
@@ -688,8 +688,8 @@ func (im *importer) ensureOnRoster(id string, role logbook.Role) error {
 // what is stored — and the database is unchanged. name is the file name
 // used in messages. With opt.Check nothing is stored in any case.
 func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader, opt ImportOptions) (ImportResult, error) {
-	if s.readOnly {
-		return ImportResult{}, errors.New("the database is open read-only")
+	if ok, why := s.Writable(); !ok {
+		return ImportResult{}, fmt.Errorf("import %s: %s; nothing was imported", name, why)
 	}
 	im := s.newImporter(ctx, name, opt)
 	f := newCSVFile(name, kind, r)
@@ -720,7 +720,7 @@ var errCheckOnly = errors.New("checked only")
 // a refused import is rolled back whole.
 func (im *importer) run(read func() error) (ImportResult, error) {
 	s := im.s
-	err := s.inTx(im.ctx, func(tx *sql.Tx) error {
+	err := s.inTx(im.ctx, func(tx *txn) error {
 		im.tx = tx
 		defer func() {
 			for _, st := range im.stmts {

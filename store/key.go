@@ -115,7 +115,7 @@ var ErrOtherKey = errors.New("this database's patient pseudonyms were made with 
 // made with; the first time, it records the key's fingerprint (in tx, with a
 // change-log entry). Several users sharing one database therefore cannot
 // silently give one patient two pseudonyms.
-func (s *Store) checkKey(ctx context.Context, tx *sql.Tx) error {
+func (s *Store) checkKey(ctx context.Context, tx *txn) error {
 	fp := keyFingerprint(s.key)
 	var have string
 	err := tx.QueryRowContext(ctx, "SELECT value FROM settings WHERE key = ?", keyCheckSetting).Scan(&have)

@@ -3,7 +3,6 @@ package store
 import (
 	"context"
 	"errors"
-	"path/filepath"
 	"strings"
 	"testing"
 )
@@ -12,8 +11,12 @@ import (
 // hospital number offered under a different unit key is refused, and
 // nothing is stored.
 func TestOtherUnitKeyIsRefused(t *testing.T) {
+	EachBackend(t, testOtherUnitKeyIsRefused)
+}
+
+func testOtherUnitKeyIsRefused(t *testing.T, be TestBackend) {
 	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), "shared.db")
+	path := be.NewDB(t)
 	header := "procedure_id,performed_on,operator_id,trainee_id,supervision,trainee_reached_caecum,patient_ref,age,sex,indication,setting,exclusion,extent,incomplete_reason,caecal_photo,withdrawal_seconds,bbps_right,bbps_transverse,bbps_left,retroversion,midazolam_mg,fentanyl_ug,pethidine_mg,propofol,comfort,detection_aid,adverse_event,recommended_interval\n"
 	row := func(id, ref string) string {
 		return id + ",2025-03-04,E01,,,," + ref + ",60,F,screening,outpatient,none,caecum,,yes,480,2,2,2,yes,2,50,,no,2,no,none,\n"

@@ -2,7 +2,10 @@ package store
 
 import (
 	"context"
+	"fmt"
+	"slices"
 	"strings"
+	"sync"
 	"time"
 
 	"polypledger/logbook"
@@ -15,19 +18,14 @@ type CaseFilter struct {
 	TraineeID  string
 }
 
-func (f CaseFilter) where(alias string) (string, []any) { return f.whereOpt(alias, false) }
+func (f CaseFilter) where(alias string) (string, []any) { return f.whereOpt(alias, "") }
 
-// whereOpt builds the WHERE clause; scanDates keeps the date conditions off
-// the date index (the unary plus), for reads that go through the table in
-// stored order anyway: filtering rows as they pass is cheaper than sorting
-// an index range back into that order.
-func (f CaseFilter) whereOpt(alias string, scanDates bool) (string, []any) {
+// whereOpt builds the WHERE clause; datePrefix goes before the date
+// column (SQLite's unary plus keeps a condition off an index).
+func (f CaseFilter) whereOpt(alias, datePrefix string) (string, []any) {
 	var conds []string
 	var args []any
-	date := alias + "performed_on"
-	if scanDates {
-		date = "+" + date
-	}
+	date := datePrefix + alias + "performed_on"
 	if !f.From.IsZero() {
 		conds = append(conds, date+" >= ?")
 		args = append(args, logbook.FormatDate(f.From))
@@ -72,6 +70,9 @@ var sortColumns = map[string]string{
 	"age": "p.age", "indication": "p.indication", "extent": "p.extent",
 }
 
+// nullableSorts are the sort columns that may hold NULL.
+var nullableSorts = map[string]bool{"p.age": true, "p.indication": true, "p.extent": true}
+
 func (q ListQuery) where() (string, []any) {
 	where, args := q.CaseFilter.where("p.")
 	var extra []string
@@ -92,20 +93,42 @@ func (q ListQuery) where() (string, []any) {
 	return where, args
 }
 
+// reverseFrom is the offset past which a page may be read from the other
+// end of the list (a variable for tests).
+var reverseFrom = 1000
+
 // ListProcedures returns one page of procedures for the case list, with
-// their lesion counts; only the page is read.
+// their lesion counts; only the page is read. A page in the second half of
+// a long list is read from its end (the list's length is counted once and
+// kept until the next change), so that no page walks more than half of the
+// list's index.
 func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow, error) {
 	where, args := q.where()
 	order, ok := sortColumns[q.SortBy]
 	if !ok {
 		order = "p.performed_on"
 	}
-	dir := " ASC"
-	if q.Descending {
-		dir = " DESC"
-	}
 	if q.Limit <= 0 {
 		q.Limit = 100
+	}
+	descending, reversed := q.Descending, false
+	if q.Offset > reverseFrom {
+		total, err := s.countCached(ctx, where, args)
+		if err != nil {
+			return nil, err
+		}
+		if q.Offset >= total {
+			return nil, nil
+		}
+		if q.Offset > total/2 {
+			end := min(total, q.Offset+q.Limit)
+			q.Offset, q.Limit = total-end, end-q.Offset
+			descending, reversed = !descending, true
+		}
+	}
+	dir := " ASC"
+	if descending {
+		dir = " DESC"
 	}
 	pc := make([]string, len(procedureColumns))
 	for i, c := range procedureColumns {
@@ -114,11 +137,17 @@ func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow
 	// The page's procedures are found first (an index serves each sort
 	// order), and only those rows are read in full and have their lesions
 	// counted.
-	orderBy := " ORDER BY " + order + dir + ", p.id" + dir
+	// A value not recorded sorts before every value, as SQLite sorts NULL
+	// (PostgreSQL would put it last unless told).
+	nulls := ""
+	if nullableSorts[order] {
+		nulls = map[string]string{" ASC": " NULLS FIRST", " DESC": " NULLS LAST"}[dir]
+	}
+	orderBy := " ORDER BY " + order + dir + nulls + ", p.id" + dir
 	sqlText := "SELECT " + strings.Join(pc, ", ") +
 		", (SELECT count(*) FROM lesions l WHERE l.procedure_id = p.id)" +
 		", (SELECT count(*) FROM lesions l WHERE l.procedure_id = p.id AND l.histology = 'pending')" +
-		" FROM procedures p WHERE p.rowid IN (SELECT p.rowid FROM procedures p" + where + orderBy + " LIMIT ? OFFSET ?)" + orderBy
+		" FROM procedures p WHERE p.id IN (SELECT p.id FROM procedures p" + where + orderBy + " LIMIT ? OFFSET ?)" + orderBy
 	rows, err := s.db.QueryContext(ctx, sqlText, append(args, q.Limit, q.Offset)...)
 	if err != nil {
 		return nil, s.explain(err)
@@ -137,16 +166,54 @@ func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow
 		}
 		out = append(out, r)
 	}
+	if reversed {
+		slices.Reverse(out)
+	}
 	return out, rows.Err()
 }
 
 // CountProcedures counts the procedures a list query selects (ignoring its
-// page).
+// page). A count is kept until the next change anyone stores, so that a
+// list shown again, or scrolled, does not count a large logbook again.
 func (s *Store) CountProcedures(ctx context.Context, q ListQuery) (int, error) {
 	where, args := q.where()
-	var n int
-	err := s.db.QueryRowContext(ctx, "SELECT count(*) FROM procedures p"+where, args...).Scan(&n)
-	return n, s.explain(err)
+	return s.countCached(ctx, where, args)
+}
+
+// countCache keeps the counts of list queries for one change mark.
+type countCache struct {
+	mu     sync.Mutex
+	mark   int64
+	counts map[string]int
+}
+
+// countCached counts the procedures selected by where, or returns the
+// count made since the last change (ChangeMark).
+func (s *Store) countCached(ctx context.Context, where string, args []any) (int, error) {
+	mark, err := s.ChangeMark(ctx)
+	if err != nil {
+		return 0, err
+	}
+	key := where + fmt.Sprint(args...)
+	c := &s.counts
+	c.mu.Lock()
+	if c.mark != mark || c.counts == nil {
+		c.mark, c.counts = mark, map[string]int{}
+	}
+	n, ok := c.counts[key]
+	c.mu.Unlock()
+	if ok {
+		return n, nil
+	}
+	if err := s.db.QueryRowContext(ctx, "SELECT count(*) FROM procedures p"+where, args...).Scan(&n); err != nil {
+		return 0, s.explain(err)
+	}
+	c.mu.Lock()
+	if c.mark == mark {
+		c.counts[key] = n
+	}
+	c.mu.Unlock()
+	return n, nil
 }
 
 // AwaitingLesion is a lesion in the pathology inbox, with its procedure's

@@ -30,12 +30,36 @@ func (e *ValidationError) Error() string {
 	return e.Record + ": " + strings.Join(parts, "; ")
 }
 
-// logChange appends one row to the change log inside tx: when, who, what,
-// and the record before and after as JSON (nil for none).
-func (s *Store) logChange(ctx context.Context, tx *sql.Tx, action, record string, old, new any) error {
-	_, err := tx.ExecContext(ctx, "INSERT INTO change_log (at, os_user, action, record, old, new) VALUES (?, ?, ?, ?, ?, ?)",
-		s.now().UTC().Format(time.RFC3339Nano), s.user, action, record, jsonText(old), jsonText(new))
+// changeLogColumns are the change log's columns an entry is written with.
+var changeLogColumns = []string{"at", "os_user", "host", "action", "record", "old", "new"}
+
+// logColumns are the columns this store writes a change-log entry with: a
+// schema older than 4 (built only by tests of upgrades) has no host.
+func (s *Store) logColumns() []string {
+	if s.schema < 4 {
+		return []string{"at", "os_user", "action", "record", "old", "new"}
+	}
+	return changeLogColumns
+}
+
+// logChange appends one row to the change log inside tx: when, who (the
+// OS user and the workstation), what, and the record before and after as
+// JSON (nil for none).
+func (s *Store) logChange(ctx context.Context, tx *txn, action, record string, old, new any) error {
+	cols := s.logColumns()
+	_, err := tx.ExecContext(ctx, "INSERT INTO change_log ("+strings.Join(cols, ", ")+") VALUES ("+placeholders(len(cols))+")",
+		s.changeValues(action, record, old, new)...)
 	return err
+}
+
+// changeValues are the values of one change-log entry, in the order of
+// logColumns.
+func (s *Store) changeValues(action, record string, old, new any) []any {
+	v := []any{s.now().UTC().Format(time.RFC3339Nano), s.user, s.host, action, record, jsonText(old), jsonText(new)}
+	if s.schema < 4 {
+		return append(v[:2:2], v[3:]...)
+	}
+	return v
 }
 
 // jsonText encodes a change-log value; nil stays NULL. The values are maps
@@ -76,7 +100,8 @@ func caseJSON(c *logbook.Case) json.RawMessage {
 // ChangeLogEntry is one row of the change log.
 type ChangeLogEntry struct {
 	At     time.Time
-	User   string
+	User   string // the OS user
+	Host   string // the workstation's host name ("" for entries made before schema 4)
 	Action string
 	Record string
 	Old    string
@@ -85,7 +110,7 @@ type ChangeLogEntry struct {
 
 // ChangeLog returns the newest limit entries of the change log, newest first.
 func (s *Store) ChangeLog(ctx context.Context, limit int) ([]ChangeLogEntry, error) {
-	rows, err := s.db.QueryContext(ctx, "SELECT at, os_user, action, record, coalesce(old, ''), coalesce(new, '') FROM change_log ORDER BY id DESC LIMIT ?", limit)
+	rows, err := s.db.QueryContext(ctx, s.changeLogQuery(), limit)
 	if err != nil {
 		return nil, s.explain(err)
 	}
@@ -94,13 +119,33 @@ func (s *Store) ChangeLog(ctx context.Context, limit int) ([]ChangeLogEntry, err
 	for rows.Next() {
 		var e ChangeLogEntry
 		var at string
-		if err := rows.Scan(&at, &e.User, &e.Action, &e.Record, &e.Old, &e.New); err != nil {
+		if err := rows.Scan(&at, &e.User, &e.Host, &e.Action, &e.Record, &e.Old, &e.New); err != nil {
 			return nil, err
 		}
 		e.At, _ = time.Parse(time.RFC3339Nano, at)
 		out = append(out, e)
 	}
 	return out, rows.Err()
+}
+
+// changeLogQuery reads the newest entries (no host before schema 4).
+func (s *Store) changeLogQuery() string {
+	host := "coalesce(host, '')"
+	if s.schema < 4 {
+		host = "''"
+	}
+	return "SELECT at, os_user, " + host + ", action, record, coalesce(old, ''), coalesce(new, '') FROM change_log ORDER BY id DESC LIMIT ?"
+}
+
+// ChangeMark returns a number that grows with every change stored by
+// anyone (the newest change-log entry's id; writers take turns, so entries
+// are numbered in the order they were committed). The app compares it every
+// few seconds to pick up colleagues' new cases without a restart; reading
+// it costs one index lookup on either backend.
+func (s *Store) ChangeMark(ctx context.Context) (int64, error) {
+	var n int64
+	err := s.db.QueryRowContext(ctx, "SELECT coalesce(max(id), 0) FROM change_log").Scan(&n)
+	return n, s.explain(err)
 }
 
 // --- roster ---
@@ -135,7 +180,7 @@ func (s *Store) SaveRosterEntry(ctx context.Context, r logbook.RosterEntry) erro
 	if ps := logbook.ValidateRosterEntry(r); len(ps) > 0 {
 		return &ValidationError{Record: "roster entry " + r.ID, Problems: ps}
 	}
-	return s.explain(s.inTx(ctx, func(tx *sql.Tx) error {
+	return s.explain(s.inTx(ctx, func(tx *txn) error {
 		old, found, err := rosterEntry(ctx, tx, r.ID)
 		if err != nil {
 			return err
@@ -144,12 +189,12 @@ func (s *Store) SaveRosterEntry(ctx context.Context, r logbook.RosterEntry) erro
 			if old == r {
 				return nil
 			}
-			if _, err := tx.ExecContext(ctx, "UPDATE roster SET name = ?, role = ?, retired = ? WHERE id = ?", r.Name, string(r.Role), r.Retired, r.ID); err != nil {
+			if _, err := tx.ExecContext(ctx, "UPDATE roster SET name = ?, role = ?, retired = ? WHERE id = ?", r.Name, string(r.Role), boolInt(r.Retired), r.ID); err != nil {
 				return err
 			}
 			return s.logChange(ctx, tx, "update", "roster "+r.ID, rosterMap(old), rosterMap(r))
 		}
-		if _, err := tx.ExecContext(ctx, "INSERT INTO roster (id, name, role, retired) VALUES (?, ?, ?, ?)", r.ID, r.Name, string(r.Role), r.Retired); err != nil {
+		if _, err := tx.ExecContext(ctx, "INSERT INTO roster (id, name, role, retired) VALUES (?, ?, ?, ?)", r.ID, r.Name, string(r.Role), boolInt(r.Retired)); err != nil {
 			return err
 		}
 		return s.logChange(ctx, tx, "insert", "roster "+r.ID, nil, rosterMap(r))
@@ -239,7 +284,7 @@ func (s *Store) SaveSettings(ctx context.Context, st Settings) error {
 	if err != nil {
 		return err
 	}
-	return s.explain(s.inTx(ctx, func(tx *sql.Tx) error {
+	return s.explain(s.inTx(ctx, func(tx *txn) error {
 		for k, v := range st.pairs() {
 			if _, err := tx.ExecContext(ctx, "INSERT INTO settings (key, value) VALUES (?, ?) ON CONFLICT (key) DO UPDATE SET value = excluded.value", k, v); err != nil {
 				return err
@@ -347,7 +392,7 @@ func (s *Store) Pseudonymise(ref string) (string, error) {
 		return v, err
 	}
 	ctx := context.Background()
-	if err := s.inTx(ctx, func(tx *sql.Tx) error { return s.checkKey(ctx, tx) }); err != nil {
+	if err := s.inTx(ctx, func(tx *txn) error { return s.checkKey(ctx, tx) }); err != nil {
 		return "", s.explain(err)
 	}
 	return v, nil
@@ -393,7 +438,7 @@ func (s *Store) validateCase(ctx context.Context, q querier, c *logbook.Case) er
 // id already present is refused; otherwise the stored case with that id is
 // replaced (procedure and lesions) and the change log keeps the old version.
 func (s *Store) SaveCase(ctx context.Context, c logbook.Case, isNew bool) error {
-	return s.explain(s.inTx(ctx, func(tx *sql.Tx) error {
+	return s.explain(s.inTx(ctx, func(tx *txn) error {
 		if err := s.validateCase(ctx, tx, &c); err != nil {
 			return err
 		}
@@ -433,13 +478,13 @@ func (s *Store) SaveCase(ctx context.Context, c logbook.Case, isNew bool) error 
 	}))
 }
 
-func updateProcedure(ctx context.Context, tx *sql.Tx, p *logbook.Procedure) error {
+func updateProcedure(ctx context.Context, tx *txn, p *logbook.Procedure) error {
 	args := storedArgs(procedureColumns[1:], p)
 	_, err := tx.ExecContext(ctx, procedureUpdateSQL, append(args, p.ID)...)
 	return err
 }
 
-func insertLesions(ctx context.Context, tx *sql.Tx, ls []logbook.Lesion) error {
+func insertLesions(ctx context.Context, tx *txn, ls []logbook.Lesion) error {
 	for i := range ls {
 		if _, err := tx.ExecContext(ctx, lesionInsertSQL, storedArgs(lesionStoredColumns, &ls[i])...); err != nil {
 			return err
@@ -451,7 +496,7 @@ func insertLesions(ctx context.Context, tx *sql.Tx, ls []logbook.Lesion) error {
 // DeleteCase removes a procedure and its lesions; the change log keeps what
 // was deleted.
 func (s *Store) DeleteCase(ctx context.Context, id string) error {
-	return s.explain(s.inTx(ctx, func(tx *sql.Tx) error {
+	return s.explain(s.inTx(ctx, func(tx *txn) error {
 		p, found, err := getProcedure(ctx, tx, id)
 		if err != nil {
 			return err
@@ -474,7 +519,7 @@ func (s *Store) DeleteCase(ctx context.Context, id string) error {
 // lesion that already has a final result is refused unless correct is set;
 // either way the change log keeps the lesion as it was.
 func (s *Store) RecordHistology(ctx context.Context, h logbook.HistologyResult, correct bool) error {
-	return s.explain(s.inTx(ctx, func(tx *sql.Tx) error {
+	return s.explain(s.inTx(ctx, func(tx *txn) error {
 		if ps := logbook.ValidateHistologyResult(h, s.today()); len(ps) > 0 {
 			return &ValidationError{Record: fmt.Sprintf("histology for %s lesion %d", h.ProcedureID, h.LesionNo), Problems: ps}
 		}
@@ -541,7 +586,7 @@ func sameResult(l logbook.Lesion, h logbook.HistologyResult) bool {
 
 // applyHistology checks a result and, when it is acceptable, writes it and
 // its change-log row inside tx; problems are returned, not stored.
-func (s *Store) applyHistology(ctx context.Context, tx *sql.Tx, h logbook.HistologyResult, correct bool) (logbook.Problems, error) {
+func (s *Store) applyHistology(ctx context.Context, tx *txn, h logbook.HistologyResult, correct bool) (logbook.Problems, error) {
 	old, updated, ps, err := s.checkHistology(ctx, tx, h, correct)
 	if err != nil || len(ps) > 0 {
 		return ps, err
@@ -555,6 +600,14 @@ func (s *Store) applyHistology(ctx context.Context, tx *sql.Tx, h logbook.Histol
 	}
 	return nil, s.logChange(ctx, tx, "update", fmt.Sprintf("lesion %s#%d", h.ProcedureID, h.LesionNo),
 		recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, &updated))
+}
+
+// boolInt stores a flag as 0 or 1 (the schema's INTEGER with a CHECK).
+func boolInt(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
 }
 
 func nullIfEmpty(s string) any {

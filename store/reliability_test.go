@@ -262,7 +262,7 @@ func countsOf(t testing.TB, path string) dbCounts {
 		{"SELECT count(*) FROM lesions", &c.lesions},
 		{"SELECT count(*) FROM change_log", &c.changes},
 	} {
-		if err := s.db.QueryRow(q.sql).Scan(q.n); err != nil {
+		if err := s.db.QueryRowContext(context.Background(), q.sql).Scan(q.n); err != nil {
 			t.Fatalf("%s: %v", q.sql, err)
 		}
 	}
@@ -357,6 +357,7 @@ func populatedDB(t testing.TB, path string, n int) []logbook.Case {
 // must fail with a message saying what the file is, and leave it (and its
 // folder) byte-for-byte as it was.
 func TestForeignOrDamagedDatabaseLeftUntouched(t *testing.T) {
+	sqliteOnly("damaged and foreign files")
 	cases := []struct {
 		name string
 		make func(t *testing.T, path string)
@@ -505,6 +506,7 @@ func mountTmpfs(t *testing.T, size string) string {
 // TestReadOnlyLocation imports into a sound database that lies on a
 // read-only file system: a clear refusal, and the file unchanged.
 func TestReadOnlyLocation(t *testing.T) {
+	sqliteOnly("a file on a read-only disk")
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}
@@ -536,6 +538,7 @@ func TestReadOnlyLocation(t *testing.T) {
 // fails saying the disk is full, the database file is unchanged and, once
 // space is freed, still holds exactly what it held and passes Check.
 func TestDiskFull(t *testing.T) {
+	sqliteOnly("a file on a full disk")
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}
@@ -662,11 +665,15 @@ func formulaLike(cell string) bool {
 // exports every kind through the command: no exported cell may start a
 // formula, and each hostile value comes out behind an apostrophe.
 func TestExportNeutralisesHostileValues(t *testing.T) {
+	EachBackend(t, testExportNeutralisesHostileValues)
+}
+
+func testExportNeutralisesHostileValues(t *testing.T, b TestBackend) {
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}
 	dir := t.TempDir()
-	db := filepath.Join(dir, "unit.db")
+	db := b.NewDB(t)
 	cases := inventedCases(t, 40, "S", 13)
 	hostileIDs := []string{`=HYPERLINK("http://example.invalid","open")`, "=1+1", "-2+3", "+SUM(1)", "@SUM(1)", "\t=3+3", "\r=4+4", "-inf"}
 	for i, id := range hostileIDs {
@@ -765,6 +772,7 @@ func readOrEmpty(t testing.TB, path string) []byte {
 // write-ahead log while the import is still in it, and a backup: none holds
 // a hospital number in clear.
 func TestNoHospitalNumberAtRest(t *testing.T) {
+	sqliteOnly("the bytes of a file, its write-ahead log and a backup; on a server, TestServerNeverSeesHospitalNumbers")
 	dir := t.TempDir()
 	db := filepath.Join(dir, "unit.db")
 	data := proceduresCSV(t, inventedCases(t, 400, "H", 17))
@@ -818,12 +826,16 @@ var fullPseudonym = regexp.MustCompile(`[0-9a-f]{64}`)
 // is created readable by its owner only (0600) in a folder only its owner
 // can enter (0700); the database, backup and export files are 0600.
 func TestOutputsCarryPseudonymsOnly(t *testing.T) {
+	EachBackend(t, testOutputsCarryPseudonymsOnly)
+}
+
+func testOutputsCarryPseudonymsOnly(t *testing.T, b TestBackend) {
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}
 	work := t.TempDir()
 	home := filepath.Join(work, "config", "polypledger") // does not exist yet
-	db := filepath.Join(work, "unit.db")
+	db := b.NewDB(t)
 	cases := inventedCases(t, 300, "O", 19)
 	pCSV := writeFile(t, work, "p.csv", proceduresCSV(t, cases))
 	lCSV := writeFile(t, work, "l.csv", lesionsCSV(t, cases))
@@ -832,14 +844,20 @@ func TestOutputsCarryPseudonymsOnly(t *testing.T) {
 			t.Fatalf("import %s: exit %d: %s", f[0], r.code, r.stderr)
 		}
 	}
-	for _, m := range []struct {
+	modes := []struct {
 		path string
 		mode os.FileMode
 	}{
 		{home, 0o700 | os.ModeDir},
 		{filepath.Join(home, KeyFileName), 0o600},
-		{db, 0o600},
-	} {
+	}
+	if !b.Server() {
+		modes = append(modes, struct {
+			path string
+			mode os.FileMode
+		}{db, 0o600})
+	}
+	for _, m := range modes {
 		fi, err := os.Stat(m.path)
 		if err != nil {
 			t.Fatal(err)
@@ -951,6 +969,7 @@ func TestUnitKeyFileModes(t *testing.T) {
 // copy the backup over it — gives back exactly the backup's records, and
 // the restored database takes new imports.
 func TestBackupWhileAnotherProcessWrites(t *testing.T) {
+	sqliteOnly("SQLite's online copy of a file")
 	if testing.Short() {
 		t.Skip("builds and runs the binary; skipped with -short")
 	}

@@ -2,8 +2,10 @@ package store
 
 // Everything specific to SQLite lives in this file: the driver and its
 // connection string, pragmas, the file-header checks made before a file is
-// opened, the schema version kept in user_version, integrity checks and the
-// online copy. A later PostgreSQL backend replaces this file, not the rest.
+// opened, creating a new file whole, the schema version kept in
+// user_version, the change log's guards as SQLite triggers, integrity
+// checks, the streaming read and the online copy. postgres.go is its
+// counterpart for a unit server.
 
 import (
 	"context"
@@ -16,6 +18,8 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
+	"time"
 
 	"modernc.org/sqlite"
 	sqlite3 "modernc.org/sqlite/lib"
@@ -46,6 +50,339 @@ func dsn(path string, busyMillis int, readOnly bool) string {
 }
 
 const driverName = "sqlite"
+
+// sqliteBackend is a unit in a SQLite file.
+type sqliteBackend struct {
+	path string
+	// rdb is the pool of read-only connections for streaming, opened on
+	// first use.
+	rdb     *sql.DB
+	rdbErr  error
+	rdbOnce sync.Once
+}
+
+func openSQLite(ctx context.Context, path string, opt Options) (*Store, error) {
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return nil, fmt.Errorf("database %s: %w", path, err)
+	}
+	h, err := readHeader(abs)
+	if err != nil {
+		return nil, err
+	}
+	if !h.exists {
+		if opt.ReadOnly {
+			return nil, fmt.Errorf("database %s does not exist", path)
+		}
+		if err := createSQLite(ctx, path, opt, nil); err != nil && !errors.Is(err, ErrExists) {
+			return nil, err
+		}
+		// Made now, by this call or by another program a moment earlier.
+		if h, err = readHeader(abs); err != nil {
+			return nil, err
+		}
+	}
+	if h.empty {
+		return nil, fmt.Errorf("%s is an empty file (0 bytes), not a polypledger database; it was left untouched — to start a new database there, delete the empty file first, or name a file that does not exist yet", path)
+	}
+	if err := h.vet(path, SchemaVersion); err != nil {
+		return nil, err
+	}
+	if h.applicationID != applicationID {
+		if err := examine(ctx, abs, path, opt.ReadOnly); err != nil {
+			return nil, err
+		}
+	}
+	return openFile(ctx, abs, path, opt)
+}
+
+func createSQLite(ctx context.Context, path string, opt Options, fill func(*Store) error) error {
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return fmt.Errorf("database %s: %w", path, err)
+	}
+	if _, err := os.Lstat(abs); err == nil {
+		return fmt.Errorf("database %s: %w", path, ErrExists)
+	}
+	return buildFile(ctx, abs, path, opt, fill, false)
+}
+
+// buildFile makes a new database file under a temporary name beside abs,
+// fills it, closes it (folding in its log) and puts it at abs: by a link
+// that never replaces a file, or, with replace, by renaming over a file
+// that is not a database (a backup's --force). name is what messages call
+// it.
+func buildFile(ctx context.Context, abs, path string, opt Options, fill func(*Store) error, replace bool) error {
+	dir := filepath.Dir(abs)
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return fmt.Errorf("cannot create folder %s for the database: %w", dir, err)
+	}
+	tmp, err := tempDatabase(abs)
+	if err != nil {
+		return fmt.Errorf("cannot create database %s: %w", path, err)
+	}
+	defer removeJournals(tmp)
+	opt.ReadOnly = false
+	s, err := openFile(ctx, tmp, path, opt)
+	if err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	if fill != nil {
+		err = fill(s)
+	}
+	if cerr := s.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil && hasLog(tmp) {
+		err = fmt.Errorf("database %s: its write-ahead log was not folded in on closing", path)
+	}
+	if err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	if err := safefile.Place(tmp, abs, replace); err != nil {
+		if errors.Is(err, ErrExists) {
+			return fmt.Errorf("database %s: %w (another program created it meanwhile)", path, ErrExists)
+		}
+		return fmt.Errorf("cannot create database %s: %w", path, err)
+	}
+	return nil
+}
+
+// openFile opens a database file that is known to be sound enough to
+// open: path is the file, name what messages call it.
+func openFile(ctx context.Context, path, name string, opt Options) (*Store, error) {
+	be := &sqliteBackend{path: path}
+	s := newStore(be, opt)
+	s.path, s.location = path, name
+	db, err := sql.Open(driverName, dsn(path, int(s.busy/time.Millisecond), opt.ReadOnly))
+	if err != nil {
+		return nil, fmt.Errorf("database %s: %w", name, err)
+	}
+	s.db = &dbh{pool: db}
+	if err := s.setUp(ctx, opt.migrateTo, opt.KeepSchema); err != nil {
+		db.Close()
+		return nil, fmt.Errorf("database %s: %w", name, s.explain(err))
+	}
+	return s, nil
+}
+
+func (*sqliteBackend) numbered() bool { return false }
+
+// vet reads the schema version and refuses another program's database.
+func (*sqliteBackend) vet(ctx context.Context, q querier) (int, error) {
+	v, err := schemaVersion(ctx, q)
+	if err != nil {
+		return 0, err
+	}
+	if v > 0 {
+		id, err := applicationIDOf(ctx, q)
+		if err != nil {
+			return 0, err
+		}
+		if id != applicationID {
+			return 0, errors.New("it is a SQLite database of another program, not a polypledger database; it was left untouched")
+		}
+		return v, nil
+	}
+	var n int
+	if err := q.QueryRowContext(ctx, "SELECT count(*) FROM sqlite_master").Scan(&n); err != nil {
+		return 0, err
+	}
+	if n > 0 {
+		return 0, errors.New("it is a SQLite database of another program, not a polypledger database; it was left untouched")
+	}
+	return 0, nil
+}
+
+func (*sqliteBackend) version(ctx context.Context, q querier) (int, error) {
+	return schemaVersion(ctx, q)
+}
+
+func (*sqliteBackend) setVersion(ctx context.Context, tx *txn, v int) error {
+	return setSchemaVersion(ctx, tx, v)
+}
+
+// steps are SQLite's own statements of each migration step: the change
+// log's append-only guards (step 2) as triggers.
+func (*sqliteBackend) steps() map[int]string {
+	return map[int]string{2: `
+CREATE TRIGGER change_log_no_update BEFORE UPDATE ON change_log
+BEGIN
+    SELECT RAISE(ABORT, 'the change log is append-only');
+END;
+
+CREATE TRIGGER change_log_no_delete BEFORE DELETE ON change_log
+BEGIN
+    SELECT RAISE(ABORT, 'the change log is append-only');
+END;
+`}
+}
+
+// lockWrites does nothing: write transactions begin IMMEDIATE (see dsn),
+// which takes the lock at BEGIN.
+func (*sqliteBackend) lockWrites(context.Context, *txn) error { return nil }
+
+// prepareWrite refuses a database failing the quick check and switches it
+// to write-ahead logging.
+func (*sqliteBackend) prepareWrite(ctx context.Context, s *Store, version int) error {
+	if version > 0 {
+		if err := quickCheck(ctx, s.db); err != nil {
+			return err
+		}
+	}
+	return useWAL(ctx, s.db.pool)
+}
+
+func (*sqliteBackend) integrity(ctx context.Context, s *Store) ([]string, error) {
+	return integrityFindings(ctx, s.db.pool)
+}
+
+func (*sqliteBackend) guarded(ctx context.Context, q querier) (bool, error) {
+	var n int
+	err := q.QueryRowContext(ctx, "SELECT count(*) FROM sqlite_master WHERE type = 'trigger' AND name LIKE 'change_log_no_%'").Scan(&n)
+	return n == 2, err
+}
+
+func (*sqliteBackend) bulk(ctx context.Context, tx *txn, table string, columns []string) (bulkWriter, error) {
+	return newStmtWriter(ctx, tx, table, columns)
+}
+
+func (*sqliteBackend) classify(err error) failure {
+	switch {
+	case errors.Is(err, errReadOnlyStore):
+		return failReadOnlyTx
+	case isBusy(err):
+		return failBusy
+	case isFull(err):
+		return failFull
+	case isReadOnly(err):
+		return failReadOnly
+	case isCorrupt(err):
+		return failCorrupt
+	}
+	return failOther
+}
+
+// close folds the write-ahead log back into the file.
+func (b *sqliteBackend) close(s *Store) {
+	if b.rdb != nil {
+		b.rdb.Close()
+	}
+	if !s.readOnly {
+		checkpoint(context.Background(), s.db.pool) // best effort; the WAL is valid either way
+	}
+}
+
+// readPool returns the pool of read-only connections used for streaming,
+// opened on first use.
+func (b *sqliteBackend) readPool(busy time.Duration) (*sql.DB, error) {
+	b.rdbOnce.Do(func() {
+		b.rdb, b.rdbErr = sql.Open(driverName, dsn(b.path, int(busy.Milliseconds()), true))
+	})
+	return b.rdb, b.rdbErr
+}
+
+// streamCases reads procedures and lesions as two ordered streams on two
+// read connections. Both read the same snapshot: each opens a read
+// transaction and notes the newest change-log entry, and the pair is
+// retried if a write landed between the two (every write the program makes
+// adds a change-log entry, and writers take turns).
+func (b *sqliteBackend) streamCases(ctx context.Context, s *Store, f CaseFilter) (procs, lesions rowSource, done func(), err error) {
+	db, err := b.readPool(s.busy)
+	if err != nil {
+		return rowSource{}, rowSource{}, nil, err
+	}
+	ptx, ltx, err := pairedSnapshot(ctx, db)
+	if err != nil {
+		return rowSource{}, rowSource{}, nil, err
+	}
+	procSQL, lesionSQL, args := sqliteStreamQueries(f)
+	done = func() {
+		ptx.Rollback()
+		ltx.Rollback()
+	}
+	return packedRows(ctx, ptx, procSQL, args), packedRows(ctx, ltx, lesionSQL, args), done, nil
+}
+
+// sqliteStreamQueries returns the procedure and lesion queries for a
+// filter, both in the order the procedures were stored (and lesions by
+// number), which needs no sort: a full pass over a large logbook then
+// reads each table once, in file order. The date conditions are kept off
+// the date index (the unary plus): filtering rows as they pass is cheaper
+// than sorting an index range back into stored order.
+func sqliteStreamQueries(f CaseFilter) (procSQL, lesionSQL string, args []any) {
+	where, args := f.whereOpt("p.", "+")
+	procSQL = "SELECT " + packedFields("p.", columnNames(procedureColumns)) +
+		" FROM procedures p" + where + " ORDER BY p.rowid"
+	lesionSQL = "SELECT " + packedFields("l.", columnNames(lesionStoredColumns)) +
+		" FROM procedures p JOIN lesions l ON l.procedure_id = p.id" + where +
+		" ORDER BY p.rowid, l.lesion_no"
+	return procSQL, lesionSQL, args
+}
+
+// packedRows runs a query returning one packed value per row (see
+// packedFields) and yields each.
+func packedRows(ctx context.Context, tx *sql.Tx, query string, args []any) rowSource {
+	return rowSource{sep: fieldSep, each: func(yield func([]byte) error) error {
+		rows, err := tx.QueryContext(ctx, query, args...)
+		if err != nil {
+			return err
+		}
+		defer rows.Close()
+		var raw sql.RawBytes
+		for rows.Next() {
+			if err := rows.Scan(&raw); err != nil {
+				return err
+			}
+			if err := yield(raw); err != nil {
+				return err
+			}
+		}
+		return rows.Err()
+	}}
+}
+
+// snapshotTx opens a read transaction on its own connection and returns it
+// with the id of the newest change-log entry it sees.
+func snapshotTx(ctx context.Context, db *sql.DB) (*sql.Tx, int64, error) {
+	tx, err := db.BeginTx(ctx, &sql.TxOptions{ReadOnly: true})
+	if err != nil {
+		return nil, 0, err
+	}
+	var mark int64
+	if err := tx.QueryRowContext(ctx, "SELECT coalesce(max(id), 0) FROM change_log").Scan(&mark); err != nil {
+		tx.Rollback()
+		return nil, 0, err
+	}
+	return tx, mark, nil
+}
+
+// snapshotRetries is how often the pair of streams is reopened when a write
+// lands between them.
+const snapshotRetries = 8
+
+// pairedSnapshot opens two read transactions that see the same state.
+func pairedSnapshot(ctx context.Context, db *sql.DB) (*sql.Tx, *sql.Tx, error) {
+	for try := 0; try < snapshotRetries; try++ {
+		a, ma, err := snapshotTx(ctx, db)
+		if err != nil {
+			return nil, nil, err
+		}
+		b, mb, err := snapshotTx(ctx, db)
+		if err != nil {
+			a.Rollback()
+			return nil, nil, err
+		}
+		if ma == mb {
+			return a, b, nil
+		}
+		a.Rollback()
+		b.Rollback()
+	}
+	return nil, nil, errors.New("the database changed throughout the read; try again when imports have finished")
+}
 
 // packedFields returns an SQL expression joining the columns into one text
 // value, fields separated by the unit separator (0x1F) and NULL written as
@@ -154,7 +491,7 @@ func schemaVersion(ctx context.Context, q querier) (int, error) {
 
 // setSchemaVersion records the schema version inside the migration's
 // transaction, and stamps the application id.
-func setSchemaVersion(ctx context.Context, tx *sql.Tx, v int) error {
+func setSchemaVersion(ctx context.Context, tx *txn, v int) error {
 	if _, err := tx.ExecContext(ctx, fmt.Sprintf("PRAGMA user_version = %d", v)); err != nil {
 		return err
 	}

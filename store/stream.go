@@ -1,9 +1,7 @@
 package store
 
 import (
-	"bytes"
 	"context"
-	"database/sql"
 	"errors"
 	"fmt"
 	"strings"
@@ -13,64 +11,13 @@ import (
 )
 
 // The full pass over the logbook (metrics, export, check) reads procedures
-// and lesions as two ordered streams on two read connections, parsed on their
-// own goroutines and merged by procedure, so that reading, parsing and the
-// caller's arithmetic use both cores. Both streams read the same snapshot:
-// each opens a read transaction and notes the newest change-log entry, and
-// the pair is retried if a write landed between the two (every write the
-// program makes adds a change-log entry).
+// and lesions as two ordered streams (the backend's streamCases: two read
+// connections that see one snapshot), parsed on their own goroutines and
+// merged by procedure, so that reading, parsing and the caller's arithmetic
+// use both cores.
 
 // batchSize is how many records travel between goroutines at once.
 const batchSize = 512
-
-// snapshotRetries is how often the pair of streams is reopened when a write
-// lands between them.
-const snapshotRetries = 8
-
-// readPool returns the pool of read-only connections used for streaming,
-// opened on first use.
-func (s *Store) readPool() (*sql.DB, error) {
-	s.rdbOnce.Do(func() {
-		s.rdb, s.rdbErr = sql.Open(driverName, dsn(s.path, int(s.busy.Milliseconds()), true))
-	})
-	return s.rdb, s.rdbErr
-}
-
-// snapshotTx opens a read transaction on its own connection and returns it
-// with the id of the newest change-log entry it sees.
-func snapshotTx(ctx context.Context, db *sql.DB) (*sql.Tx, int64, error) {
-	tx, err := db.BeginTx(ctx, &sql.TxOptions{ReadOnly: true})
-	if err != nil {
-		return nil, 0, err
-	}
-	var mark int64
-	if err := tx.QueryRowContext(ctx, "SELECT coalesce(max(id), 0) FROM change_log").Scan(&mark); err != nil {
-		tx.Rollback()
-		return nil, 0, err
-	}
-	return tx, mark, nil
-}
-
-// pairedSnapshot opens two read transactions that see the same state.
-func pairedSnapshot(ctx context.Context, db *sql.DB) (*sql.Tx, *sql.Tx, error) {
-	for try := 0; try < snapshotRetries; try++ {
-		a, ma, err := snapshotTx(ctx, db)
-		if err != nil {
-			return nil, nil, err
-		}
-		b, mb, err := snapshotTx(ctx, db)
-		if err != nil {
-			a.Rollback()
-			return nil, nil, err
-		}
-		if ma == mb {
-			return a, b, nil
-		}
-		a.Rollback()
-		b.Rollback()
-	}
-	return nil, nil, errors.New("the database changed throughout the read; try again when imports have finished")
-}
 
 func columnNames[T any](cols []column[T]) []string {
 	out := make([]string, len(cols))
@@ -80,30 +27,32 @@ func columnNames[T any](cols []column[T]) []string {
 	return out
 }
 
-// streamQueries returns the procedure and lesion queries for a filter, both
-// in the order the procedures were stored (and lesions by number), which
-// needs no sort: a full pass over a large logbook then reads each table
-// once, in file order.
-func streamQueries(f CaseFilter) (procSQL, lesionSQL string, args []any) {
-	where, args := f.whereOpt("p.", true)
-	procSQL = "SELECT " + packedFields("p.", columnNames(procedureColumns)) +
-		" FROM procedures p" + where + " ORDER BY p.rowid"
-	lesionSQL = "SELECT " + packedFields("l.", columnNames(lesionStoredColumns)) +
-		" FROM procedures p JOIN lesions l ON l.procedure_id = p.id" + where +
-		" ORDER BY p.rowid, l.lesion_no"
-	return procSQL, lesionSQL, args
-}
-
-// unpack fills r from one packed row. A value that cannot be read is
-// passed to bad, when it is set, and the rest of the row is read;
-// otherwise it stops the row with an error naming the column.
-func unpack[T any](cols []column[T], row []byte, r *T, rc *rawCache, bad func(column string, err error)) error {
+// unpack fills r from one row of src's format. A value that cannot be read
+// is passed to bad, when it is set, and the rest of the row is read;
+// otherwise it stops the row with an error naming the column. scratch holds
+// a value whose escapes had to be undone.
+func unpack[T any](cols []column[T], src *rowSource, row []byte, scratch *[]byte, r *T, rc *rawCache, bad func(column string, err error)) error {
+	sep := src.sep
 	for i := range cols {
-		var field []byte
-		if j := bytes.IndexByte(row, fieldSep); j >= 0 {
-			field, row = row[:j], row[j+1:]
+		j, escaped := 0, false
+		for j < len(row) && row[j] != sep {
+			if row[j] == '\\' {
+				escaped = true
+			}
+			j++
+		}
+		field := row[:j]
+		if j < len(row) {
+			row = row[j+1:]
 		} else {
-			field, row = row, nil
+			row = nil
+		}
+		if escaped && src.copyText {
+			if len(field) == 2 && field[1] == 'N' {
+				continue // NULL
+			}
+			*scratch = unescapeCopy((*scratch)[:0], field)
+			field = *scratch
 		}
 		if len(field) == 0 {
 			continue
@@ -136,24 +85,16 @@ func lesionName(l *logbook.Lesion) string {
 	return fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo)
 }
 
-// produce runs query on tx and sends parsed batches on out until done;
-// name names a record in messages.
-func produce[T any](ctx context.Context, tx *sql.Tx, query string, args []any, cols []column[T], fresh func() T, name func(*T) string,
+// produce reads the rows of src and sends parsed batches on out until
+// done; name names a record in messages.
+func produce[T any](ctx context.Context, src rowSource, cols []column[T], fresh func() T, name func(*T) string,
 	onBad unreadable, free chan []T, out chan<- []T) error {
 	defer close(out)
-	rows, err := tx.QueryContext(ctx, query, args...)
-	if err != nil {
-		return err
-	}
-	defer rows.Close()
-	var raw sql.RawBytes
 	var rc rawCache
+	var scratch []byte
 	batch := <-free
 	batch = batch[:0]
-	for rows.Next() {
-		if err := rows.Scan(&raw); err != nil {
-			return err
-		}
+	err := src.each(func(row []byte) error {
 		r := fresh()
 		var bad func(column string, err error)
 		var problems []func()
@@ -163,7 +104,7 @@ func produce[T any](ctx context.Context, tx *sql.Tx, query string, args []any, c
 				problems = append(problems, func() { onBad(name(&r), column, err) })
 			}
 		}
-		if err := unpack(cols, raw, &r, &rc, bad); err != nil {
+		if err := unpack(cols, &src, row, &scratch, &r, &rc, bad); err != nil {
 			return fmt.Errorf("%s: %w", name(&r), err)
 		}
 		for _, p := range problems {
@@ -183,8 +124,9 @@ func produce[T any](ctx context.Context, tx *sql.Tx, query string, args []any, c
 				return ctx.Err()
 			}
 		}
-	}
-	if err := rows.Err(); err != nil {
+		return nil
+	})
+	if err != nil {
 		return err
 	}
 	if len(batch) > 0 {
@@ -241,20 +183,13 @@ func (s *Store) ForEachCase(parent context.Context, f CaseFilter, fn func(*logbo
 // forEachCase is ForEachCase; with onBad set, unreadable stored values are
 // handed to it and the stream goes on (Check lists them all).
 func (s *Store) forEachCase(parent context.Context, f CaseFilter, fn func(*logbook.Case) error, onBad unreadable) error {
-	db, err := s.readPool()
-	if err != nil {
-		return s.explain(err)
-	}
 	ctx, cancel := context.WithCancel(parent)
 	defer cancel()
-	ptx, ltx, err := pairedSnapshot(ctx, db)
+	procs, lesions, done, err := s.be.streamCases(ctx, s, f)
 	if err != nil {
 		return s.explain(err)
 	}
-	defer ptx.Rollback()
-	defer ltx.Rollback()
-
-	procSQL, lesionSQL, args := streamQueries(f)
+	defer done()
 	pOut, lOut := make(chan []logbook.Procedure, 2), make(chan []logbook.Lesion, 2)
 	pFree, lFree := make(chan []logbook.Procedure, 4), make(chan []logbook.Lesion, 4)
 	for i := 0; i < 4; i++ {
@@ -266,11 +201,11 @@ func (s *Store) forEachCase(parent context.Context, f CaseFilter, fn func(*logbo
 	wg.Add(2)
 	go func() {
 		defer wg.Done()
-		pErr = produce(ctx, ptx, procSQL, args, procedureColumns, logbook.NewProcedure, procedureName, onBad, pFree, pOut)
+		pErr = produce(ctx, procs, procedureColumns, logbook.NewProcedure, procedureName, onBad, pFree, pOut)
 	}()
 	go func() {
 		defer wg.Done()
-		lErr = produce(ctx, ltx, lesionSQL, args, lesionStoredColumns, logbook.NewLesion, lesionName, onBad, lFree, lOut)
+		lErr = produce(ctx, lesions, lesionStoredColumns, logbook.NewLesion, lesionName, onBad, lFree, lOut)
 	}()
 	fnErr := mergeCases(newStream(pOut, pFree), newStream(lOut, lFree), fn)
 	cancel()

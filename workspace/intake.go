@@ -309,7 +309,7 @@ func quoted(names []string) string {
 // removed with it afterwards, so that a file can be checked for a unit that
 // has no database yet without making one at path.
 func CheckIn(ctx context.Context, path string, fn func(*store.Store) error) error {
-	if _, err := os.Stat(path); errors.Is(err, os.ErrNotExist) {
+	if _, err := os.Stat(path); !store.IsServerURL(path) && errors.Is(err, os.ErrNotExist) {
 		dir, err := os.MkdirTemp("", "polypledger-check-")
 		if err != nil {
 			return err

@@ -46,6 +46,10 @@ type Cluster struct {
 	// Superuser is the cluster's superuser role (the OS user it runs as).
 	Superuser string
 
+	// Port is the server's port: its TCP port when it listens on one, and
+	// in any case the number in its socket's name (5432 unless set).
+	Port int
+
 	uid, gid int // the OS user the server runs as; -1 when not switching
 	seq      atomic.Int64
 }
@@ -54,6 +58,9 @@ type Cluster struct {
 type Options struct {
 	// Settings are extra postgresql.conf lines, e.g. "log_statement = 'all'".
 	Settings []string
+	// Port, when set, is the server's port (with a listen_addresses
+	// setting, its TCP port); URL carries it.
+	Port int
 }
 
 // FindBin returns the folder of the newest PostgreSQL server binaries.
@@ -90,7 +97,10 @@ func Start(opt Options) (*Cluster, error) {
 	if err != nil {
 		return nil, err
 	}
-	c := &Cluster{Bin: bin, uid: -1, gid: -1}
+	c := &Cluster{Bin: bin, uid: -1, gid: -1, Port: 5432}
+	if opt.Port > 0 {
+		c.Port = opt.Port
+	}
 	if os.Geteuid() == 0 {
 		u, err := serverUser()
 		if err != nil {
@@ -127,6 +137,7 @@ func Start(opt Options) (*Cluster, error) {
 		"fsync = off", "full_page_writes = off", // the machine does not crash in a test; the server may (StopServer)
 		"max_connections = 60",
 		"shared_buffers = '64MB'",
+		fmt.Sprintf("port = %d", c.Port),
 	}, opt.Settings...)
 	f, err := os.OpenFile(filepath.Join(c.DataDir(), "postgresql.conf"), os.O_APPEND|os.O_WRONLY, 0)
 	if err == nil {
@@ -189,6 +200,7 @@ func (c *Cluster) URL(db, role string) string {
 	u := url.URL{Scheme: "postgres", User: url.User(role), Path: "/" + db}
 	q := url.Values{}
 	q.Set("host", c.Dir)
+	q.Set("port", strconv.Itoa(c.Port))
 	q.Set("sslmode", "disable")
 	u.RawQuery = q.Encode()
 	return u.String()

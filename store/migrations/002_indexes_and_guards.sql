@@ -1,17 +1,8 @@
 -- Schema 2: indexes for the period and operator queries the indicators run,
--- the pathology inbox, and guards that keep the change log append-only.
+-- the pathology inbox, and guards that keep the change log append-only
+-- (triggers, each backend's own: see steps in sqlite.go and postgres.go).
 
 CREATE INDEX procedures_by_date ON procedures (performed_on, id);
 CREATE INDEX procedures_by_operator ON procedures (operator_id, performed_on);
 CREATE INDEX procedures_by_trainee ON procedures (trainee_id, performed_on);
 CREATE INDEX lesions_awaiting ON lesions (histology, procedure_id);
-
-CREATE TRIGGER change_log_no_update BEFORE UPDATE ON change_log
-BEGIN
-    SELECT RAISE(ABORT, 'the change log is append-only');
-END;
-
-CREATE TRIGGER change_log_no_delete BEFORE DELETE ON change_log
-BEGIN
-    SELECT RAISE(ABORT, 'the change log is append-only');
-END;

@@ -1,0 +1,65 @@
+package app
+
+import (
+	"context"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"polypledger/logbook"
+	"polypledger/workspace"
+)
+
+// TestColleaguesCasesAppear: while the window shows the case list, a
+// colleague's program stores a new case with a lesion awaiting histology
+// in the same database; without a restart the list and the status line
+// count it, and the pathology inbox, once shown, lists its lesion.
+func TestColleaguesCasesAppear(t *testing.T) {
+	u := newTestUI(t, 60)
+	u.stopWatch()
+	u.stopWatch = u.watchChanges(50 * time.Millisecond)
+	u.tabs.SelectIndex(0)
+	loadFirstPage(u)
+	before := u.list.count
+	u.tabs.SelectIndex(2)
+	u.jobs.wait()
+	waiting := u.inbox.total
+	u.tabs.SelectIndex(0)
+	u.jobs.wait()
+
+	colleague, err := workspace.OpenStore(context.Background(), filepath.Join(filepath.Dir(u.st.Path()), "unit.db"), true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer colleague.Close()
+	c, err := colleague.Case(context.Background(), u.list.visibleIDs()[0])
+	if err != nil {
+		t.Fatal(err)
+	}
+	c.ID = "FROM-ROOM-2"
+	c.PerformedOn = fixedNow().AddDate(0, 0, -1)
+	l := logbook.NewLesion()
+	l.ProcedureID, l.LesionNo, l.Segment, l.SizeMM = c.ID, 1, logbook.Rectum, 4
+	l.Resection, l.Retrieved, l.SentToPathology, l.Histology = logbook.ColdSnare, logbook.Yes, logbook.Yes, logbook.HistPending
+	c.Lesions = []logbook.Lesion{l}
+	if err := colleague.SaveCase(context.Background(), c, true); err != nil {
+		t.Fatal(err)
+	}
+	deadline := time.Now().Add(10 * time.Second)
+	for u.list.count != before+1 && time.Now().Before(deadline) {
+		time.Sleep(20 * time.Millisecond)
+		u.jobs.wait()
+	}
+	if u.list.count != before+1 {
+		t.Fatalf("the case list shows %d cases, want %d with the colleague's", u.list.count, before+1)
+	}
+	if !strings.Contains(u.status.Text, "database "+u.st.Path()) || strings.Contains(u.status.Text, "read only") {
+		t.Errorf("status line %q", u.status.Text)
+	}
+	u.tabs.SelectIndex(2)
+	u.jobs.wait()
+	if u.inbox.total <= waiting {
+		t.Errorf("the pathology inbox counts %d lesions, want more than %d", u.inbox.total, waiting)
+	}
+}

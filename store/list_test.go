@@ -1,0 +1,122 @@
+package store
+
+import (
+	"context"
+	"fmt"
+	"slices"
+	"strings"
+	"testing"
+
+	"polypledger/logbook"
+)
+
+// TestListProceduresOrder reads the case list page by page in every sort
+// order, both directions, on both backends: the order is the same — ids
+// compared byte by byte ("B2" before "a1"), a value not recorded before
+// every value (as SQLite sorts NULL), ties broken by id in the same
+// direction — and a page from the second half of the list, read from its
+// end, is the same page.
+func TestListProceduresOrder(t *testing.T) {
+	defer func(old int) { reverseFrom = old }(reverseFrom)
+	reverseFrom = 5 // every page past the fifth row may be read from the end
+	EachBackend(t, func(t *testing.T, b TestBackend) {
+		ctx := context.Background()
+		loc := b.NewDB(t)
+		s := utOpen(t, loc, Options{})
+		utAddRoster(t, s)
+		type row struct {
+			id, date, op string
+			age          int // 0: not recorded
+			ind, extent  string
+		}
+		var rows []row
+		ids := []string{"a1", "B2", "b10", "P-3", "P3", "p3", "Z", "_x", "P100", "P9"}
+		for i := range 34 {
+			id := fmt.Sprintf("P%02d", i)
+			if i < len(ids) {
+				id = ids[i]
+			}
+			r := row{id: id, date: fmt.Sprintf("2026-0%d-%02d", 1+i%3, 1+i%5), op: []string{"E01", "E02"}[i%2], age: 40 + i%4,
+				ind: []string{"screening", "surveillance", "diagnostic"}[i%3], extent: "caecum"}
+			c := utCase(id)
+			c.PerformedOn, c.OperatorID, c.Age = utDate(r.date), r.op, r.age
+			c.Indication = []logbook.Indication{logbook.Screening, logbook.Surveillance, logbook.Diagnostic}[i%3]
+			if err := s.SaveCase(ctx, c, true); err != nil {
+				t.Fatal(err)
+			}
+			if i%5 == 0 {
+				r.age, r.ind = 0, ""
+			}
+			rows = append(rows, r)
+		}
+		var blank []string
+		for _, r := range rows {
+			if r.age == 0 {
+				blank = append(blank, "'"+r.id+"'")
+			}
+		}
+		b.Exec(t, loc, "UPDATE procedures SET age = NULL, indication = NULL WHERE id IN ("+strings.Join(blank, ", ")+")")
+		key := map[string]func(r row) string{
+			"performed_on": func(r row) string { return r.date },
+			"id":           func(r row) string { return "" },
+			"operator_id":  func(r row) string { return r.op },
+			"age": func(r row) string {
+				if r.age == 0 {
+					return ""
+				}
+				return fmt.Sprintf("\x01%03d", r.age)
+			},
+			"indication": func(r row) string {
+				if r.ind == "" {
+					return ""
+				}
+				return "\x01" + r.ind
+			},
+			"extent": func(r row) string { return r.extent },
+		}
+		for sort, k := range key {
+			for _, desc := range []bool{false, true} {
+				want := slices.Clone(rows)
+				slices.SortFunc(want, func(a, b row) int {
+					c := strings.Compare(k(a), k(b))
+					if c == 0 {
+						c = strings.Compare(a.id, b.id)
+					}
+					if desc {
+						c = -c
+					}
+					return c
+				})
+				var wantIDs, got []string
+				for _, r := range want {
+					wantIDs = append(wantIDs, r.id)
+				}
+				for off := 0; off < len(rows)+3; off += 7 {
+					page, err := s.ListProcedures(ctx, ListQuery{SortBy: sort, Descending: desc, Limit: 7, Offset: off})
+					if err != nil {
+						t.Fatal(err)
+					}
+					for _, p := range page {
+						got = append(got, p.Procedure.ID)
+						if p.Lesions != 2 || p.AwaitingHist != 1 {
+							t.Errorf("%s: %d lesions, %d awaiting; want 2 and 1", p.Procedure.ID, p.Lesions, p.AwaitingHist)
+						}
+					}
+				}
+				if !slices.Equal(got, wantIDs) {
+					t.Errorf("sort %s (descending %v):\n got %v\nwant %v", sort, desc, got, wantIDs)
+				}
+			}
+		}
+		if n, err := s.CountProcedures(ctx, ListQuery{CaseFilter: CaseFilter{OperatorID: "E02"}}); err != nil || n != 17 {
+			t.Errorf("count of E02's procedures = %d, %v; want 17", n, err)
+		}
+		// A count is made again once anything changed.
+		if err := s.SaveCase(ctx, utCase("NEW"), true); err != nil {
+			t.Fatal(err)
+		}
+		if n, _ := s.CountProcedures(ctx, ListQuery{}); n != len(rows)+1 {
+			t.Errorf("count after a new case = %d, want %d", n, len(rows)+1)
+		}
+	})
+}
