@@ -38,7 +38,7 @@ type firstRun struct {
 // empty, says why the file could not be opened.
 func (u *ui) showFirstRun(path, problem string) {
 	fr := &firstRun{u: u}
-	fr.path = newEntry("where the database file is kept")
+	fr.path = newEntry("a database file, or a unit server's postgres://role@host/database")
 	fr.path.SetText(path)
 	choose := newButton("Choose another place…", func() {
 		u.saveFile(filepath.Base(path), func(p string) {
@@ -95,7 +95,8 @@ func (u *ui) showFirstRun(path, problem string) {
 	fr.showRoster()
 
 	title := widget.NewLabelWithStyle("Welcome to polypledger", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
-	intro := widget.NewLabel("There is no logbook database here yet. It will be kept in this file:")
+	intro := widget.NewLabel("There is no logbook database here yet. It will be kept here — a file on this computer, or an empty database on the unit's server (postgres://…):")
+	intro.Wrapping = fyne.TextWrapWord
 	cards, layout := newColumns(420, widget.NewCard("", "", demoBox), widget.NewCard("", "", emptyBox))
 	body := container.NewVBox(title, intro, fr.path, container.NewHBox(choose, openOther),
 		fr.problem,
@@ -147,7 +148,7 @@ func (fr *firstRun) addPerson() {
 func (fr *firstRun) target() (string, bool) {
 	p := strings.TrimSpace(fr.path.Text)
 	if p == "" {
-		showText(fr.problem, "Say where the database file should be kept.")
+		showText(fr.problem, "Say where the database should be kept: a file, or a unit server's postgres:// address.")
 		return "", false
 	}
 	if _, err := os.Stat(p); err == nil {
