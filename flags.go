@@ -11,8 +11,8 @@ import (
 	"time"
 
 	"polypledger/logbook"
-	"polypledger/workspace"
 	"polypledger/store"
+	"polypledger/workspace"
 )
 
 // errHelp reports that -h was asked for and usage has been printed.
