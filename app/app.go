@@ -346,8 +346,21 @@ func (u *ui) updateStatus() {
 		u.status.SetText(u.databaseName() + ": " + err.Error())
 		return
 	}
-	u.status.SetText(fmt.Sprintf("%s  ·  %d procedures, %d lesions awaiting histology  ·  %s",
-		u.settings.UnitName, n, waiting, u.databaseName()))
+	u.status.SetText(statusText(u.settings.UnitName, n, waiting, u.databaseName()))
+}
+
+// statusText is the status line: the unit, its procedures and the lesions
+// awaiting histology (counts grouped by thousands, words matching the
+// count), and the database.
+func statusText(unit string, procedures, waiting int, database string) string {
+	count := func(n int, one, many string) string {
+		if n == 1 {
+			return "1 " + one
+		}
+		return groupedCount(n) + " " + many
+	}
+	return fmt.Sprintf("%s  ·  %s, %s awaiting histology  ·  %s", unit,
+		count(procedures, "procedure", "procedures"), count(waiting, "lesion", "lesions"), database)
 }
 
 // recordsChanged is called after any case or result is stored.

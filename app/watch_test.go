@@ -63,3 +63,20 @@ func TestColleaguesCasesAppear(t *testing.T) {
 		t.Errorf("the pathology inbox counts %d lesions, want more than %d", u.inbox.total, waiting)
 	}
 }
+
+// TestStatusText: the status line's counts take the word that matches them
+// and are grouped by thousands (issue: "1 lesions awaiting histology").
+func TestStatusText(t *testing.T) {
+	for _, c := range []struct {
+		procedures, waiting int
+		want                string
+	}{
+		{1, 1, "Unit  ·  1 procedure, 1 lesion awaiting histology  ·  database u.db"},
+		{0, 0, "Unit  ·  0 procedures, 0 lesions awaiting histology  ·  database u.db"},
+		{12345, 1001, "Unit  ·  12,345 procedures, 1,001 lesions awaiting histology  ·  database u.db"},
+	} {
+		if got := statusText("Unit", c.procedures, c.waiting, "database u.db"); got != c.want {
+			t.Errorf("statusText(%d, %d) = %q, want %q", c.procedures, c.waiting, got, c.want)
+		}
+	}
+}
