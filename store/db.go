@@ -45,6 +45,11 @@ type backend interface {
 	streamCases(ctx context.Context, s *Store, f CaseFilter) (procs, lesions rowSource, done func(), err error)
 	// bulk returns a writer of many rows of one table inside tx.
 	bulk(ctx context.Context, tx *txn, table string, columns []string) (bulkWriter, error)
+	// planEach returns what goes before a query's arguments to have the
+	// query planned for the values it is given each time it runs, rather
+	// than prepared once with a plan for any values (nil: the backend needs
+	// nothing for that).
+	planEach() []any
 	// classify says what kind of failure a driver error is.
 	classify(err error) failure
 	// close releases what the backend holds for s (SQLite folds its
