@@ -759,6 +759,13 @@ func (*pgBackend) bulk(_ context.Context, tx *txn, table string, columns []strin
 // every id) as they grow within its transaction.
 func (*pgBackend) planEach() []any { return []any{pgx.QueryExecModeExec} }
 
+// listSample reads the whole sample in one recursive statement: each step
+// an index range from the key before, without a round trip.
+func (*pgBackend) listSample(seed, step string, every int) string {
+	return "WITH RECURSIVE s(k, id, n) AS (SELECT f.*, 0 FROM (" + seed + ") f UNION ALL SELECT x.k, x.id, s.n + 1 FROM s, LATERAL (" +
+		step + " OFFSET " + strconv.Itoa(every-1) + " LIMIT 1) x(k, id)) SELECT k, id, n FROM s ORDER BY n"
+}
+
 func (w *copyWriter) write(_ context.Context, values []any) error {
 	for i, v := range values {
 		if i > 0 {
