@@ -28,6 +28,7 @@ type Adherence struct {
 	n, matched int
 	awaiting   int // recommendation recorded, computed interval pending
 	mismatches []AdherenceMismatch
+	iv         *caseIntervals // shared within a Pass; nil on its own
 }
 
 // AdherenceMismatch is one procedure whose recorded recommendation differs
@@ -59,7 +60,7 @@ func (a *Adherence) Add(c *logbook.Case) {
 	if c.RecommendedInterval == "" {
 		return
 	}
-	got := surveillance.SuggestedInterval(a.guideline, c, surveillance.HistologyFirst)
+	got := a.iv.histologyFirst(a.guideline, c).Interval
 	if got == logbook.IntervalPending {
 		a.awaiting++
 		return
@@ -70,7 +71,7 @@ func (a *Adherence) Add(c *logbook.Case) {
 		return
 	}
 	a.mismatches = append(a.mismatches, AdherenceMismatch{
-		ProcedureID: strings.Clone(c.ID), Patient: logbook.ShortCode(c.PatientKey),
+		ProcedureID: strings.Clone(c.ID), Patient: a.iv.shortCode(c),
 		OperatorID: strings.Clone(c.OperatorID), Recorded: c.RecommendedInterval, Computed: got,
 	})
 }

@@ -28,6 +28,8 @@ type OpticalAudit struct {
 
 	pivi1N, pivi1Agree, pivi1Shorter, pivi1Longer, pivi1Outside, pivi1MissingHistology int
 	disagreements                                                                      []IntervalDisagreement
+
+	iv *caseIntervals // shared within a Pass; nil on its own
 }
 
 // NewOpticalAudit starts an optical-diagnosis audit whose PIVI 1 intervals
@@ -63,7 +65,7 @@ func (a *OpticalAudit) Add(c *logbook.Case) {
 			}
 		}
 	}
-	r := EvaluatePIVI1(a.guideline, c)
+	r := a.iv.evaluatePIVI1(a.guideline, c)
 	if !r.Included {
 		if r.Excluded == PIVI1MissingHistology {
 			a.pivi1MissingHistology++
@@ -83,7 +85,7 @@ func (a *OpticalAudit) Add(c *logbook.Case) {
 		a.pivi1Outside++
 	}
 	a.disagreements = append(a.disagreements, IntervalDisagreement{
-		ProcedureID: strings.Clone(c.ID), Patient: logbook.ShortCode(c.PatientKey),
+		ProcedureID: strings.Clone(c.ID), Patient: a.iv.shortCode(c),
 		OperatorID: strings.Clone(c.OperatorID), PerformedOn: logbook.FormatDate(c.PerformedOn),
 		Optical: r.Optical.Interval, Histology: r.Histology.Interval, Kind: r.Kind,
 	})

@@ -42,6 +42,7 @@ type Pass struct {
 	complete   Completeness
 	byOperator map[string]*Completeness
 	opt        PassOptions
+	iv         *caseIntervals
 }
 
 // NewPass starts a pass under profile p; it fails when the CUSUM
@@ -58,12 +59,23 @@ func NewPass(p *Profile, o PassOptions) (*Pass, error) {
 	if err != nil {
 		return nil, err
 	}
+	// The accumulators of every population share the intervals of the
+	// case being added.
+	iv := &caseIntervals{guideline: o.Guideline}
 	withExtra := period
 	withExtra.Extra = []AccumulatorFactory{
-		OpticalAuditFactory(o.Guideline, o.Discard),
-		AdherenceFactory(o.Guideline, p.Target("interval_adherence"), p.MinCases),
+		func() Accumulator {
+			a := NewOpticalAudit(o.Guideline, o.Discard)
+			a.iv = iv
+			return a
+		},
+		func() Accumulator {
+			a := NewAdherenceJudged(o.Guideline, p.Target("interval_adherence"), p.MinCases)
+			a.iv = iv
+			return a
+		},
 	}
-	r := &Pass{metrics: NewMetrics(p, withExtra), byOperator: map[string]*Completeness{}, opt: o}
+	r := &Pass{metrics: NewMetrics(p, withExtra), byOperator: map[string]*Completeness{}, opt: o, iv: iv}
 	if !o.MetricsOnly {
 		r.trends, r.trainees = NewTrends(p, period), tp
 	}
@@ -81,6 +93,7 @@ func (r *Pass) Add(c *logbook.Case) {
 		}
 		return
 	}
+	r.iv.start(c)
 	r.metrics.Add(c)
 	if r.opt.MetricsOnly {
 		return

@@ -78,6 +78,12 @@ type PIVI1Result struct {
 // outside the guideline. Both intervals come from the code path of
 // SuggestReading, which differs only in its LesionReading.
 func EvaluatePIVI1(g surveillance.Guideline, c *logbook.Case) PIVI1Result {
+	return evaluatePIVI1(g, c, nil)
+}
+
+// evaluatePIVI1 is EvaluatePIVI1, taking the histology-based interval from
+// iv (nil: worked out here).
+func evaluatePIVI1(g surveillance.Guideline, c *logbook.Case, iv *caseIntervals) PIVI1Result {
 	var r PIVI1Result
 	eligible := false
 	for i := range c.Lesions {
@@ -100,7 +106,7 @@ func EvaluatePIVI1(g surveillance.Guideline, c *logbook.Case) PIVI1Result {
 			return r
 		}
 	}
-	b := surveillance.SuggestBrief(g, c, surveillance.HistologyFirst)
+	b := iv.histologyFirst(g, c)
 	if b.Interval == logbook.IntervalOutside {
 		r.Excluded = PIVI1HistologyOutside
 		return r

@@ -30,19 +30,68 @@ type column[T any] struct {
 }
 
 // rawCache remembers what one reader of a full pass has read already, so
-// that values that repeat are not made again: the last stored date (a full
-// pass reads the same few hundred dates again and again), the staff ids
-// (a unit has a few dozen), and the last procedure id of the lesion stream
-// (a procedure's lesions come together).
+// that values that repeat are not made again: the stored dates (a full
+// pass reads the same few thousand dates again and again: procedures in
+// date order, lesions' report dates in any order), the staff ids (a unit
+// has a few dozen), and the last procedure id of the lesion stream (a
+// procedure's lesions come together); and the doses (a unit gives the same
+// few amounts).
 type rawCache struct {
 	dateRaw []byte
 	date    time.Time
+	dates   map[string]time.Time
+	doses   map[string]float64
 	staff   map[string]string
 	lastID  string
 }
 
-// maxStaffIDs bounds the staff ids a reader keeps.
-const maxStaffIDs = 4096
+// maxStaffIDs, maxDates and maxDoses bound the staff ids, dates and doses
+// a reader keeps.
+const (
+	maxStaffIDs = 4096
+	maxDates    = 16384
+	maxDoses    = 4096
+)
+
+// dose returns the stored dose b, read once.
+func (rc *rawCache) dose(b []byte) (float64, bool) {
+	if v, ok := rc.doses[string(b)]; ok {
+		return v, true
+	}
+	v, err := logbook.ParseDose(string(b))
+	if err != nil {
+		return 0, false
+	}
+	if rc.doses == nil {
+		rc.doses = map[string]float64{}
+	}
+	if len(rc.doses) < maxDoses {
+		rc.doses[string(b)] = v
+	}
+	return v, true
+}
+
+// storedDate returns the stored date b, read once.
+func (rc *rawCache) storedDate(b []byte) (time.Time, bool) {
+	if string(b) == string(rc.dateRaw) {
+		return rc.date, true
+	}
+	d, ok := rc.dates[string(b)]
+	if !ok {
+		var err error
+		if d, err = logbook.ParseDate(string(b)); err != nil {
+			return time.Time{}, false
+		}
+		if rc.dates == nil {
+			rc.dates = map[string]time.Time{}
+		}
+		if len(rc.dates) < maxDates {
+			rc.dates[string(b)] = d
+		}
+	}
+	rc.dateRaw, rc.date = append(rc.dateRaw[:0], b...), d
+	return d, true
+}
 
 // staffID returns the stored staff id b as a string, made once.
 func (rc *rawCache) staffID(b []byte) string {
@@ -66,6 +115,21 @@ func (rc *rawCache) sameID(b []byte) string {
 		rc.lastID = string(b)
 	}
 	return rc.lastID
+}
+
+// cachedRaw returns a fromRaw that reads a stored value through one of a
+// reader's caches (read).
+func cachedRaw[T, V any](f func(*T) *V, read func(*rawCache, []byte) (V, bool)) func(*T, []byte, *rawCache) bool {
+	return func(r *T, b []byte, rc *rawCache) bool {
+		if rc == nil {
+			return false
+		}
+		v, ok := read(rc, b)
+		if ok {
+			*f(r) = v
+		}
+		return ok
+	}
 }
 
 // rawCount reads a stored whole number of up to nine digits.
@@ -180,7 +244,8 @@ func countCol[T any](name string, f func(*T) *int) column[T] {
 
 func doseCol[T any](name string, f func(*T) *float64) column[T] {
 	return column[T]{name: name,
-		get: func(r *T) string { return logbook.FormatDose(*f(r)) },
+		fromRaw: cachedRaw(f, (*rawCache).dose),
+		get:     func(r *T) string { return logbook.FormatDose(*f(r)) },
 		set: func(r *T, s string, _ *codec) error {
 			v, err := logbook.ParseDose(s)
 			*f(r) = v
@@ -211,21 +276,8 @@ func yesNoCol[T any](name string, allowNA bool, f func(*T) *logbook.YesNo) colum
 
 func dateCol[T any](name string, f func(*T) *time.Time) column[T] {
 	return column[T]{name: name,
-		fromRaw: func(r *T, b []byte, rc *rawCache) bool {
-			if rc == nil {
-				return false
-			}
-			if string(b) != string(rc.dateRaw) {
-				d, err := logbook.ParseDate(string(b))
-				if err != nil {
-					return false
-				}
-				rc.dateRaw, rc.date = append(rc.dateRaw[:0], b...), d
-			}
-			*f(r) = rc.date
-			return true
-		},
-		get: func(r *T) string { return logbook.FormatDate(*f(r)) },
+		fromRaw: cachedRaw(f, (*rawCache).storedDate),
+		get:     func(r *T) string { return logbook.FormatDate(*f(r)) },
 		set: func(r *T, s string, _ *codec) error {
 			v, err := logbook.ParseDate(s)
 			*f(r) = v

@@ -45,6 +45,16 @@ type backend interface {
 	streamCases(ctx context.Context, s *Store, f CaseFilter) (procs, lesions rowSource, done func(), err error)
 	// bulk returns a writer of many rows of one table inside tx.
 	bulk(ctx context.Context, tx *txn, table string, columns []string) (bulkWriter, error)
+	// planEach returns what goes before a query's arguments to have the
+	// query planned for the values it is given each time it runs, rather
+	// than prepared once with a plan for any values (nil: the backend needs
+	// nothing for that).
+	planEach() []any
+	// listSample returns one statement that reads the case list's sample
+	// (see sampleEvery): seed selects the first key, step the keys after
+	// the key s.k, s.id in order; it yields each sampled key and its
+	// number from 0. "" where the backend keeps no sample.
+	listSample(seed, step string, every int) string
 	// classify says what kind of failure a driver error is.
 	classify(err error) failure
 	// close releases what the backend holds for s (SQLite folds its

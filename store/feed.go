@@ -79,13 +79,9 @@ func (s *Store) ImportRecords(ctx context.Context, name string, feed Feed, opt I
 	im := s.newImporter(ctx, name, opt)
 	im.seen = map[Kind]map[string]bool{}
 	im.saidAbsent = map[absentRule]bool{}
-	res, err := im.run(func() error {
+	return im.run(func() error {
 		return feed(im.record, func(e RowError) { im.ie.addError(e) })
 	})
-	// The feed's own problems come at its end: list every problem in the
-	// file's order.
-	slices.SortStableFunc(im.ie.Errors, func(a, b RowError) int { return cmp.Compare(a.Line, b.Line) })
-	return res, err
 }
 
 // record checks and stores one record of a feed.
@@ -98,19 +94,19 @@ func (im *importer) record(rec Record) error {
 	defer func() { im.origin = nil }()
 	switch rec.Kind {
 	case Procedures:
-		return takeRecord(im, rec, procedureRules, im.procedure)
+		return takeRecord(im, rec, procedureRules)
 	case Lesions:
-		return takeRecord(im, rec, lesionRules, im.lesion)
+		return takeRecord(im, rec, lesionRules)
 	case Histology:
-		return takeRecord(im, rec, histologyRules, im.histology)
+		return takeRecord(im, rec, histologyRules)
 	}
 	return fmt.Errorf("a record of kind %q: not procedures, lesions or histology", rec.Kind)
 }
 
 // takeRecord reads a record with readRecord (no apostrophes to undo: a feed
-// gives values as they are) and hands it to sink unless it repeats an
-// earlier record of the import.
-func takeRecord[T any](im *importer, rec Record, ru rules[T], sink rowSink[T]) error {
+// gives values as they are) and adds it to the import's batch unless it
+// repeats an earlier record of the import.
+func takeRecord[T any](im *importer, rec Record, ru rules[T]) error {
 	n := len(ru.cols)
 	if len(rec.Values) != n {
 		return fmt.Errorf("a %s record of line %d has %d values for %d columns", rec.Kind, rec.Line, len(rec.Values), n)
@@ -156,7 +152,7 @@ func takeRecord[T any](im *importer, rec Record, ru rules[T], sink rowSink[T]) e
 		return nil
 	}
 	seen[key] = true
-	return sink(rec.Line, &r, clean)
+	return enqueue(im, rec.Line, &r, clean)
 }
 
 // SheetFeed returns a Feed that reads a workbook sheet of ours (an export,

@@ -9,6 +9,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -136,7 +137,8 @@ func (e RowError) String() string {
 }
 
 // ImportError is a refused import: nothing was stored. It lists the first
-// MaxReportedErrors problems and counts the rest.
+// MaxReportedErrors problems in the order of their lines and counts the
+// rest.
 type ImportError struct {
 	File   string
 	Errors []RowError
@@ -176,10 +178,24 @@ func (e *ImportError) add(line int, column, reason string) {
 	e.addError(RowError{File: e.File, Line: line, Column: column, Reason: reason})
 }
 
+// addError records a problem. Problems are listed in the order of their
+// lines (those of one line in the order found) — an import finds a row's
+// problems with the logbook only when its batch is checked, after it has
+// read the rows that follow — and the first MaxReportedErrors by line are
+// kept.
 func (e *ImportError) addError(r RowError) {
-	if len(e.Errors) < MaxReportedErrors {
-		e.Errors = append(e.Errors, r)
-	} else {
+	n := len(e.Errors)
+	if n == MaxReportedErrors && r.Line >= e.Errors[n-1].Line {
+		e.More++
+		return
+	}
+	i := n
+	for i > 0 && e.Errors[i-1].Line > r.Line {
+		i--
+	}
+	e.Errors = slices.Insert(e.Errors, i, r)
+	if len(e.Errors) > MaxReportedErrors {
+		e.Errors = e.Errors[:MaxReportedErrors]
 		e.More++
 	}
 }
@@ -604,6 +620,7 @@ type importer struct {
 	absent, bad []bool
 	vals        []string
 	saidAbsent  map[absentRule]bool
+	batchState
 }
 
 // absentRule is a rule broken because a file lacks a column.
@@ -615,7 +632,8 @@ type absentRule struct {
 
 func (s *Store) newImporter(ctx context.Context, name string, opt ImportOptions) *importer {
 	return &importer{s: s, ctx: ctx, ie: &ImportError{File: name, Check: opt.Check}, opt: opt, cd: &codec{key: s.key},
-		roster: map[string]bool{}, stmts: map[string]*sql.Stmt{}, today: s.today(), refused: map[string]bool{}}
+		roster: map[string]bool{}, stmts: map[string]*sql.Stmt{}, today: s.today(), refused: map[string]bool{},
+		batchState: batchState{wrote: map[string]bool{}}}
 }
 
 // add records a problem of the row being checked, named as its file names
@@ -678,7 +696,7 @@ func (im *importer) ensureOnRoster(id string, role logbook.Role) error {
 		return err
 	}
 	im.res.RosterAdded = append(im.res.RosterAdded, r)
-	return im.s.logChange(im.ctx, im.tx, "insert", "roster "+id, nil, rosterMap(r))
+	return im.logChange("insert", "roster "+id, nil, rosterMap(r))
 }
 
 // Import reads a CSV file of the given kind and stores all of its rows in
@@ -696,11 +714,11 @@ func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader,
 	var run func() error
 	switch kind {
 	case Procedures:
-		run = importFile(im, f, procedureRules, im.procedure)
+		run = importFile(im, f, procedureRules)
 	case Lesions:
-		run = importFile(im, f, lesionRules, im.lesion)
+		run = importFile(im, f, lesionRules)
 	case Histology:
-		run = importFile(im, f, histologyRules, im.histology)
+		run = importFile(im, f, histologyRules)
 	default:
 		return ImportResult{}, fmt.Errorf("kind %q is not procedures, lesions or histology", kind)
 	}
@@ -714,20 +732,28 @@ func (s *Store) Import(ctx context.Context, kind Kind, name string, r io.Reader,
 var errCheckOnly = errors.New("checked only")
 
 // run runs an import's reading in one transaction and commits it when
-// nothing was refused (and it was not a check only). Every row that passes
-// its checks is written as it comes, even after another row was refused, so
-// that later rows are checked against it (a lesion against its procedure);
-// a refused import is rolled back whole.
+// nothing was refused (and it was not a check only). Rows are checked
+// against the logbook and written in batches (batch.go). Every row that
+// passes its checks is written, even after another row was refused, so
+// that later rows are checked against it (a histology result against its
+// lesion); a refused import is rolled back whole.
 func (im *importer) run(read func() error) (ImportResult, error) {
 	s := im.s
 	err := s.inTx(im.ctx, func(tx *txn) error {
 		im.tx = tx
 		defer func() {
+			im.closeWriters()
 			for _, st := range im.stmts {
 				st.Close()
 			}
 		}()
+		if err := im.startWriters(); err != nil {
+			return err
+		}
 		if err := read(); err != nil {
+			return err
+		}
+		if err := im.checkBatch(); err != nil {
 			return err
 		}
 		switch {
@@ -756,14 +782,14 @@ func (im *importer) run(read func() error) (ImportResult, error) {
 }
 
 // importFile reads f's header and returns the function that reads its rows
-// into the import, or nil when the file has no header row.
-func importFile[T any](im *importer, f *csvFile, ru rules[T], sink rowSink[T]) func() error {
+// into the import's batches, or nil when the file has no header row.
+func importFile[T any](im *importer, f *csvFile, ru rules[T]) func() error {
 	idx, absent, width, ok := header(f, ru.cols, im.ie)
 	if !ok {
 		return nil
 	}
 	return func() error {
-		return readRows(im.ctx, f, ru, idx, absent, width, im.cd, im.s.today(), im.ie, im.opt.Progress, sink)
+		return readRows(im.ctx, f, ru, idx, absent, width, im.cd, im.s.today(), im.ie, im.opt.Progress, queue[T](im))
 	}
 }
 
@@ -815,13 +841,10 @@ func (im *importer) problems(line int, ps logbook.Problems) {
 	}
 }
 
-// procedure checks one procedures.csv row against the logbook and stores
-// it.
+// procedure checks one procedures.csv row against the logbook (as its
+// batch found it) and stores it.
 func (im *importer) procedure(line int, p *logbook.Procedure, clean bool) error {
-	found, err := im.exists("SELECT 1 FROM procedures WHERE id = ?", p.ID)
-	if err != nil {
-		return err
-	}
+	found := im.stored[p.ID]
 	if found && !im.opt.Update {
 		im.add(line, "procedure_id", p.ID+" is already in the logbook (import with --update to replace it)")
 		im.res.clash(Procedures)
@@ -853,32 +876,27 @@ func (im *importer) procedure(line int, p *logbook.Procedure, clean bool) error 
 			return err
 		}
 		im.res.count(Procedures, true)
-		return im.s.logChange(im.ctx, im.tx, "update", "procedure "+p.ID, recordJSON(procedureColumns, &old), recordJSON(procedureColumns, p))
+		return im.logChange("update", procedureName(p), recordJSON(procedureColumns, &old), recordJSON(procedureColumns, p))
 	}
-	if err := im.exec(procedureInsertSQL, storedArgs(procedureColumns, p)...); err != nil {
+	if err := im.write(im.procW, storedArgs(procedureColumns, p)); err != nil {
 		return err
 	}
+	im.wrote[p.ID] = true
 	im.res.count(Procedures, false)
-	return im.s.logChange(im.ctx, im.tx, "insert", "procedure "+p.ID, nil, recordJSON(procedureColumns, p))
+	return im.logChange("insert", procedureName(p), nil, recordJSON(procedureColumns, p))
 }
 
-// lesion checks one lesions.csv row against the logbook and stores it.
+// lesion checks one lesions.csv row against the logbook (as its batch found
+// it, and the procedures this import wrote) and stores it.
 func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
 	if im.refused[l.ProcedureID] {
 		return nil // its procedure, earlier in this import, was refused: said there
 	}
-	found, err := im.exists("SELECT 1 FROM procedures WHERE id = ?", l.ProcedureID)
-	if err != nil {
-		return err
-	}
-	if !found {
+	if !im.stored[l.ProcedureID] && !im.wrote[l.ProcedureID] {
 		im.add(line, "procedure_id", l.ProcedureID+" is not in the logbook (import its procedure first)")
 		return nil
 	}
-	have, err := im.exists("SELECT 1 FROM lesions WHERE procedure_id = ? AND lesion_no = ?", l.ProcedureID, l.LesionNo)
-	if err != nil {
-		return err
-	}
+	have := im.storedLesions[lesionKey(l.ProcedureID, l.LesionNo)]
 	if have && !im.opt.Update {
 		im.add(line, "lesion_no", fmt.Sprintf("procedure %s already has lesion %d (import with --update to replace it)", l.ProcedureID, l.LesionNo))
 		im.res.clash(Lesions)
@@ -888,6 +906,9 @@ func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
 		return nil
 	}
 	if have {
+		// The lesion replaced was stored before this import (a repeat
+		// within it is refused), so that it is read and deleted here while
+		// the batch's new rows wait in the bulk writers.
 		ls, err := getLesions(im.ctx, im.tx, l.ProcedureID)
 		if err != nil {
 			return err
@@ -904,23 +925,28 @@ func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
 		if err := im.exec("DELETE FROM lesions WHERE procedure_id = ? AND lesion_no = ?", l.ProcedureID, l.LesionNo); err != nil {
 			return err
 		}
-		if err := im.exec(lesionInsertSQL, storedArgs(lesionStoredColumns, l)...); err != nil {
+		if err := im.write(im.lesionW, storedArgs(lesionStoredColumns, l)); err != nil {
 			return err
 		}
 		im.res.count(Lesions, true)
-		return im.s.logChange(im.ctx, im.tx, "update", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, l))
+		return im.logChange("update", lesionName(l), recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, l))
 	}
-	if err := im.exec(lesionInsertSQL, storedArgs(lesionStoredColumns, l)...); err != nil {
+	if err := im.write(im.lesionW, storedArgs(lesionStoredColumns, l)); err != nil {
 		return err
 	}
 	im.res.count(Lesions, false)
-	return im.s.logChange(im.ctx, im.tx, "insert", fmt.Sprintf("lesion %s#%d", l.ProcedureID, l.LesionNo), nil, recordJSON(lesionStoredColumns, l))
+	return im.logChange("insert", lesionName(l), nil, recordJSON(lesionStoredColumns, l))
 }
 
 // histology checks one histology.csv row against the lesion it is for and
 // applies it. A row with problems of its own is checked only for its
-// lesion, so that no problem is reported twice.
+// lesion, so that no problem is reported twice. What the batch wrote before
+// it is flushed first, so that it finds a lesion of this import and its
+// change-log entry follows theirs.
 func (im *importer) histology(line int, h *logbook.HistologyResult, clean bool) error {
+	if err := im.flush(); err != nil {
+		return err
+	}
 	if !clean {
 		_, ps, err := findLesion(im.ctx, im.tx, h.ProcedureID, h.LesionNo)
 		im.problems(line, ps)

@@ -10,15 +10,39 @@ import (
 	"polypledger/logbook"
 )
 
+// listReading is one way ListProcedures may find a page: the thresholds
+// past which a page is read from the end of the list and from its sample,
+// and the sample's spacing.
+type listReading struct {
+	name                     string
+	reverse, fromSample, gap int
+}
+
+var listReadings = []listReading{
+	{"by offset", 1 << 30, 1 << 30, 1000},
+	// Every page past the fifth row may be read from the end.
+	{"from the end", 5, 1 << 30, 1000},
+	// On a server, every page past the fifth row not read from the end is
+	// read from a sample of every third key (by offset where the key is
+	// not recorded); SQLite keeps no sample and reads such a page by its
+	// offset.
+	{"from a sample", 5, 1, 3},
+}
+
+// use sets the thresholds until the test ends.
+func (r listReading) use(t *testing.T) {
+	old := listReading{reverse: reverseFrom, fromSample: sampleFrom, gap: sampleEvery}
+	t.Cleanup(func() { reverseFrom, sampleFrom, sampleEvery = old.reverse, old.fromSample, old.gap })
+	reverseFrom, sampleFrom, sampleEvery = r.reverse, r.fromSample, r.gap
+}
+
 // TestListProceduresOrder reads the case list page by page in every sort
 // order, both directions, on both backends: the order is the same — ids
 // compared byte by byte ("B2" before "a1"), a value not recorded before
 // every value (as SQLite sorts NULL), ties broken by id in the same
-// direction — and a page from the second half of the list, read from its
-// end, is the same page.
+// direction — and a page read from the end of the list, or from a sample
+// of its order, is the same page as one read by its offset.
 func TestListProceduresOrder(t *testing.T) {
-	defer func(old int) { reverseFrom = old }(reverseFrom)
-	reverseFrom = 5 // every page past the fifth row may be read from the end
 	EachBackend(t, func(t *testing.T, b TestBackend) {
 		ctx := context.Background()
 		loc := b.NewDB(t)
@@ -87,26 +111,52 @@ func TestListProceduresOrder(t *testing.T) {
 					}
 					return c
 				})
-				var wantIDs, got []string
+				var wantIDs []string
 				for _, r := range want {
 					wantIDs = append(wantIDs, r.id)
 				}
-				for off := 0; off < len(rows)+3; off += 7 {
-					page, err := s.ListProcedures(ctx, ListQuery{SortBy: sort, Descending: desc, Limit: 7, Offset: off})
-					if err != nil {
-						t.Fatal(err)
-					}
-					for _, p := range page {
-						got = append(got, p.Procedure.ID)
-						if p.Lesions != 2 || p.AwaitingHist != 1 {
-							t.Errorf("%s: %d lesions, %d awaiting; want 2 and 1", p.Procedure.ID, p.Lesions, p.AwaitingHist)
+				for _, how := range listReadings {
+					how.use(t)
+					var got []string
+					for off := 0; off < len(rows)+3; off += 7 {
+						page, err := s.ListProcedures(ctx, ListQuery{SortBy: sort, Descending: desc, Limit: 7, Offset: off})
+						if err != nil {
+							t.Fatal(err)
+						}
+						for _, p := range page {
+							got = append(got, p.Procedure.ID)
+							if p.Lesions != 2 || p.AwaitingHist != 1 {
+								t.Errorf("%s: %d lesions, %d awaiting; want 2 and 1", p.Procedure.ID, p.Lesions, p.AwaitingHist)
+							}
 						}
 					}
-				}
-				if !slices.Equal(got, wantIDs) {
-					t.Errorf("sort %s (descending %v):\n got %v\nwant %v", sort, desc, got, wantIDs)
+					if !slices.Equal(got, wantIDs) {
+						t.Errorf("sort %s (descending %v), read %s:\n got %v\nwant %v", sort, desc, how.name, got, wantIDs)
+					}
 				}
 			}
+		}
+		// A filtered list read from a sample: E02's procedures by date.
+		listReadings[2].use(t)
+		var e02 []string
+		for off := 0; off < 20; off += 4 {
+			page, err := s.ListProcedures(ctx, ListQuery{CaseFilter: CaseFilter{OperatorID: "E02"}, Limit: 4, Offset: off})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for _, p := range page {
+				e02 = append(e02, p.Procedure.PerformedOn.Format("2006-01-02")+" "+p.Procedure.ID)
+			}
+		}
+		var wantE02 []string
+		for _, r := range rows {
+			if r.op == "E02" {
+				wantE02 = append(wantE02, r.date+" "+r.id)
+			}
+		}
+		slices.Sort(wantE02)
+		if !slices.Equal(e02, wantE02) {
+			t.Errorf("E02's procedures by date, read from a sample:\n got %v\nwant %v", e02, wantE02)
 		}
 		if n, err := s.CountProcedures(ctx, ListQuery{CaseFilter: CaseFilter{OperatorID: "E02"}}); err != nil || n != 17 {
 			t.Errorf("count of E02's procedures = %d, %v; want 17", n, err)
@@ -117,6 +167,25 @@ func TestListProceduresOrder(t *testing.T) {
 		}
 		if n, _ := s.CountProcedures(ctx, ListQuery{}); n != len(rows)+1 {
 			t.Errorf("count after a new case = %d, want %d", n, len(rows)+1)
+		}
+		// So is a sample: the new case is found on its page.
+		var byID []string
+		for off := 0; off < len(rows)+3; off += 7 {
+			page, err := s.ListProcedures(ctx, ListQuery{SortBy: "id", Limit: 7, Offset: off})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for _, p := range page {
+				byID = append(byID, p.Procedure.ID)
+			}
+		}
+		wantByID := []string{"NEW"}
+		for _, r := range rows {
+			wantByID = append(wantByID, r.id)
+		}
+		slices.Sort(wantByID)
+		if !slices.Equal(byID, wantByID) {
+			t.Errorf("the list by id after a new case, read from a sample:\n got %v\nwant %v", byID, wantByID)
 		}
 	})
 }

@@ -752,6 +752,20 @@ func (*pgBackend) bulk(_ context.Context, tx *txn, table string, columns []strin
 	return &copyWriter{tx: tx, stmt: "COPY " + table + " (" + strings.Join(columns, ", ") + ") FROM STDIN"}, nil
 }
 
+// planEach runs a query as an unnamed statement, planned for its values.
+// A statement the driver has prepared is planned once for any values after
+// a few runs; an import's check of hundreds of ids at once would keep the
+// plan made while its tables were small (a scan comparing each row with
+// every id) as they grow within its transaction.
+func (*pgBackend) planEach() []any { return []any{pgx.QueryExecModeExec} }
+
+// listSample reads the whole sample in one recursive statement: each step
+// an index range from the key before, without a round trip.
+func (*pgBackend) listSample(seed, step string, every int) string {
+	return "WITH RECURSIVE s(k, id, n) AS (SELECT f.*, 0 FROM (" + seed + ") f UNION ALL SELECT x.k, x.id, s.n + 1 FROM s, LATERAL (" +
+		step + " OFFSET " + strconv.Itoa(every-1) + " LIMIT 1) x(k, id)) SELECT k, id, n FROM s ORDER BY n"
+}
+
 func (w *copyWriter) write(_ context.Context, values []any) error {
 	for i, v := range values {
 		if i > 0 {

@@ -1,6 +1,7 @@
 package store
 
 import (
+	"cmp"
 	"context"
 	"fmt"
 	"slices"
@@ -97,11 +98,26 @@ func (q ListQuery) where() (string, []any) {
 // end of the list (a variable for tests).
 var reverseFrom = 1000
 
+// On a server, a page far from both ends of a long list is found from a
+// sample of the list's order: the sort key of every sampleEvery-th
+// procedure, read in one statement and kept until the next change anyone
+// stores. The page is then
+// read from the sampled key before it onwards (an index range), walking
+// fewer than sampleEvery procedures to its first, where reading it by its
+// offset alone walks the index from the nearer end.
+// (sampleEvery and sampleFrom are variables for tests.)
+var sampleEvery = 1000
+
+// sampleFrom is how far from both ends of the list a page must start for
+// the sample to be used: nearer, the walk from the end costs less than
+// reading a sample.
+var sampleFrom = 20_000
+
 // ListProcedures returns one page of procedures for the case list, with
 // their lesion counts; only the page is read. A page in the second half of
-// a long list is read from its end (the list's length is counted once and
-// kept until the next change), so that no page walks more than half of the
-// list's index.
+// a long list is read from its end, and one far from both ends from the
+// list's sample (see sampleEvery); the list's length and sample are kept
+// until the next change.
 func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow, error) {
 	where, args := q.where()
 	order, ok := sortColumns[q.SortBy]
@@ -113,15 +129,44 @@ func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow
 	}
 	descending, reversed := q.Descending, false
 	if q.Offset > reverseFrom {
-		total, err := s.countCached(ctx, where, args)
+		mark, err := s.ChangeMark(ctx)
+		if err != nil {
+			return nil, err
+		}
+		total, err := s.countAt(ctx, mark, where, args)
 		if err != nil {
 			return nil, err
 		}
 		if q.Offset >= total {
 			return nil, nil
 		}
-		if q.Offset > total/2 {
-			end := min(total, q.Offset+q.Limit)
+		end := min(total, q.Offset+q.Limit)
+		// The page's first row counted from the start of the ascending
+		// order.
+		first := q.Offset
+		if descending {
+			first = total - end
+		}
+		sampled := false
+		if min(first, total-first-(end-q.Offset)) > sampleFrom {
+			key, ok, err := s.sampledKey(ctx, mark, where, args, order, first)
+			if err != nil {
+				return nil, err
+			}
+			if sampled = ok; sampled {
+				// Read ascending from the sampled key.
+				where = andWhere(where, keyCond(order, ">=", "?", "?"))
+				if order == "p.id" {
+					args = append(args, key.id)
+				} else {
+					args = append(args, key.sort, key.id)
+				}
+				q.Offset, q.Limit = first-key.at, end-q.Offset
+				reversed = descending
+				descending = false
+			}
+		}
+		if !sampled && q.Offset > total/2 {
 			q.Offset, q.Limit = total-end, end-q.Offset
 			descending, reversed = !descending, true
 		}
@@ -137,13 +182,7 @@ func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow
 	// The page's procedures are found first (an index serves each sort
 	// order), and only those rows are read in full and have their lesions
 	// counted.
-	// A value not recorded sorts before every value, as SQLite sorts NULL
-	// (PostgreSQL would put it last unless told).
-	nulls := ""
-	if nullableSorts[order] {
-		nulls = map[string]string{" ASC": " NULLS FIRST", " DESC": " NULLS LAST"}[dir]
-	}
-	orderBy := " ORDER BY " + order + dir + nulls + ", p.id" + dir
+	orderBy := listOrder(order, dir)
 	sqlText := "SELECT " + strings.Join(pc, ", ") +
 		", (SELECT count(*) FROM lesions l WHERE l.procedure_id = p.id)" +
 		", (SELECT count(*) FROM lesions l WHERE l.procedure_id = p.id AND l.histology = 'pending')" +
@@ -172,6 +211,129 @@ func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow
 	return out, rows.Err()
 }
 
+// listOrder is the ORDER BY of the case list by column order in direction
+// dir (" ASC" or " DESC"), ties broken by id. A value not recorded sorts
+// before every value, as SQLite sorts NULL (PostgreSQL would put it last
+// unless told).
+func listOrder(order, dir string) string {
+	nulls := ""
+	if nullableSorts[order] {
+		nulls = map[string]string{" ASC": " NULLS FIRST", " DESC": " NULLS LAST"}[dir]
+	}
+	return " ORDER BY " + order + dir + nulls + ", p.id" + dir
+}
+
+// andWhere adds cond to the WHERE clause where ("" for none).
+func andWhere(where, cond string) string {
+	if where == "" {
+		return " WHERE " + cond
+	}
+	return where + " AND " + cond
+}
+
+// keyCond is the condition that a procedure's key in the list order by key
+// (its sort column, then its id) compares by op (">" or ">=") with the key
+// k, id (SQL expressions); ordered by id alone, k is left out.
+func keyCond(key, op, k, id string) string {
+	if key == "p.id" {
+		return "p.id " + op + " " + id
+	}
+	return "(" + key + ", p.id) " + op + " (" + k + ", " + id + ")"
+}
+
+// listKey is the sort key of one procedure in a list order, and its place
+// in the ascending order (from 0).
+type listKey struct {
+	sort any // the sort column's stored value
+	id   string
+	at   int
+}
+
+// sampleCache keeps the samples of list orders for one change mark, by
+// selection and order.
+type sampleCache struct {
+	mu      sync.Mutex
+	mark    int64
+	samples map[string][]listKey
+}
+
+// sampledKey returns the sampled key nearest before place first of the
+// ascending list order by key (a sort column) of the procedures selected
+// by where, reading the sample when there is none for mark. It reports
+// false when the sample has no key there (the page lies among procedures
+// whose key is not recorded, which come first and which keys cannot
+// order): the page is then read by its offset.
+func (s *Store) sampledKey(ctx context.Context, mark int64, where string, args []any, key string, first int) (listKey, bool, error) {
+	ck := key + where + fmt.Sprint(args...)
+	c := &s.samples
+	c.mu.Lock()
+	if c.mark != mark || c.samples == nil {
+		c.mark, c.samples = mark, map[string][]listKey{}
+	}
+	sample, ok := c.samples[ck]
+	c.mu.Unlock()
+	if !ok {
+		var err error
+		if sample, err = s.listSample(ctx, key, where, args); err != nil {
+			return listKey{}, false, s.explain(err)
+		}
+		c.mu.Lock()
+		if c.mark == mark {
+			c.samples[ck] = sample
+		}
+		c.mu.Unlock()
+	}
+	i, _ := slices.BinarySearchFunc(sample, first+1, func(k listKey, at int) int { return cmp.Compare(k.at, at) })
+	if i == 0 {
+		return listKey{}, false, nil
+	}
+	return sample[i-1], true, nil
+}
+
+// listSample reads the sample of the ascending list order by key of the
+// procedures selected by where: the key of every sampleEvery-th procedure
+// from the first whose key is recorded, with its place. It is read with one
+// statement of the backend's (listSample), each step an index range from
+// the key before; a backend without one (SQLite, which walks an index in
+// the process, without a round trip per row) has no sample, and its pages
+// are read by their offset.
+func (s *Store) listSample(ctx context.Context, key, where string, args []any) ([]listKey, error) {
+	and := func(cond string) string { return andWhere(where, cond) }
+	asc := listOrder(key, " ASC")
+	start, seedWhere := 0, where
+	if nullableSorts[key] {
+		seedWhere = and(key + " IS NOT NULL")
+	}
+	q := s.be.listSample("SELECT "+key+", p.id FROM procedures p"+seedWhere+asc+" LIMIT 1",
+		"SELECT "+key+", p.id FROM procedures p"+and(keyCond(key, ">", "s.k", "s.id"))+asc, sampleEvery)
+	if q == "" {
+		return nil, nil
+	}
+	if nullableSorts[key] {
+		if err := s.db.QueryRowContext(ctx, "SELECT count(*) FROM procedures p"+and(key+" IS NULL"), args...).Scan(&start); err != nil {
+			return nil, err
+		}
+	}
+	rows, err := s.db.QueryContext(ctx, q, append(slices.Clone(args), args...)...)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []listKey
+	for rows.Next() {
+		var k listKey
+		if err := rows.Scan(&k.sort, &k.id, &k.at); err != nil {
+			return nil, err
+		}
+		if b, isBytes := k.sort.([]byte); isBytes {
+			k.sort = string(b)
+		}
+		k.at = start + k.at*sampleEvery
+		out = append(out, k)
+	}
+	return out, rows.Err()
+}
+
 // CountProcedures counts the procedures a list query selects (ignoring its
 // page). A count is kept until the next change anyone stores, so that a
 // list shown again, or scrolled, does not count a large logbook again.
@@ -194,6 +356,11 @@ func (s *Store) countCached(ctx context.Context, where string, args []any) (int,
 	if err != nil {
 		return 0, err
 	}
+	return s.countAt(ctx, mark, where, args)
+}
+
+// countAt is countCached at change mark.
+func (s *Store) countAt(ctx context.Context, mark int64, where string, args []any) (int, error) {
 	key := where + fmt.Sprint(args...)
 	c := &s.counts
 	c.mu.Lock()

@@ -249,6 +249,14 @@ func (*sqliteBackend) bulk(ctx context.Context, tx *txn, table string, columns [
 	return newStmtWriter(ctx, tx, table, columns)
 }
 
+// planEach needs nothing: SQLite looks up an IN list's values one by one
+// in the index however the statement was prepared.
+func (*sqliteBackend) planEach() []any { return nil }
+
+// listSample gives no statement: SQLite walks an index to a page's offset
+// in the process, faster than a sample would be read.
+func (*sqliteBackend) listSample(string, string, int) string { return "" }
+
 func (*sqliteBackend) classify(err error) failure {
 	switch {
 	case errors.Is(err, errReadOnlyStore):

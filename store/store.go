@@ -120,8 +120,10 @@ type Store struct {
 	// cannotWrite, when set, is why this connection may not write (a
 	// server role granted reading only); every write is refused with it.
 	cannotWrite string
-	// counts keeps the case list's counts until the next change.
-	counts countCache
+	// counts and samples keep the case list's counts and samples of its
+	// orders until the next change.
+	counts  countCache
+	samples sampleCache
 }
 
 // Open opens the unit database at location — a file path, or a

@@ -1,6 +1,7 @@
 package store
 
 import (
+	"bytes"
 	"context"
 	"errors"
 	"fmt"
@@ -34,20 +35,13 @@ func columnNames[T any](cols []column[T]) []string {
 func unpack[T any](cols []column[T], src *rowSource, row []byte, scratch *[]byte, r *T, rc *rawCache, bad func(column string, err error)) error {
 	sep := src.sep
 	for i := range cols {
-		j, escaped := 0, false
-		for j < len(row) && row[j] != sep {
-			if row[j] == '\\' {
-				escaped = true
-			}
-			j++
-		}
-		field := row[:j]
-		if j < len(row) {
-			row = row[j+1:]
+		field := row
+		if j := bytes.IndexByte(row, sep); j >= 0 {
+			field, row = row[:j], row[j+1:]
 		} else {
 			row = nil
 		}
-		if escaped && src.copyText {
+		if src.copyText && bytes.IndexByte(field, '\\') >= 0 {
 			if len(field) == 2 && field[1] == 'N' {
 				continue // NULL
 			}
@@ -94,23 +88,28 @@ func produce[T any](ctx context.Context, src rowSource, cols []column[T], fresh 
 	var scratch []byte
 	batch := <-free
 	batch = batch[:0]
+	// The values of the row being read that cannot be read; the record is
+	// named once the whole row is read.
+	type badValue struct {
+		column string
+		err    error
+	}
+	var problems []badValue
+	var bad func(column string, err error)
+	if onBad != nil {
+		bad = func(column string, err error) { problems = append(problems, badValue{column, err}) }
+	}
 	err := src.each(func(row []byte) error {
-		r := fresh()
-		var bad func(column string, err error)
-		var problems []func()
-		if onBad != nil {
-			// The record is named once the whole row is read.
-			bad = func(column string, err error) {
-				problems = append(problems, func() { onBad(name(&r), column, err) })
-			}
-		}
-		if err := unpack(cols, &src, row, &scratch, &r, &rc, bad); err != nil {
-			return fmt.Errorf("%s: %w", name(&r), err)
+		// Each record is read in place, in the batch.
+		batch = append(batch, fresh())
+		r := &batch[len(batch)-1]
+		if err := unpack(cols, &src, row, &scratch, r, &rc, bad); err != nil {
+			return fmt.Errorf("%s: %w", name(r), err)
 		}
 		for _, p := range problems {
-			p()
+			onBad(name(r), p.column, p.err)
 		}
-		batch = append(batch, r)
+		problems = problems[:0]
 		if len(batch) == batchSize {
 			select {
 			case out <- batch:
