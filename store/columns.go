@@ -285,23 +285,25 @@ func dateCol[T any](name string, f func(*T) *time.Time) column[T] {
 		}}
 }
 
-type P = logbook.Procedure
-type L = logbook.Lesion
-type H = logbook.HistologyResult
+// procRec, lesionRec and histRec are short, unexported names for the
+// records the column tables below describe, to keep their lines readable.
+type procRec = logbook.Procedure
+type lesionRec = logbook.Lesion
+type histRec = logbook.HistologyResult
 
 // procedureColumns is procedures.csv in the order of the contract
 // (architecture.md).
-var procedureColumns = []column[P]{
-	withSQLName(textCol("procedure_id", func(p *P) *string { return &p.ID }), "id"),
-	dateCol("performed_on", func(p *P) *time.Time { return &p.PerformedOn }),
-	reusedTextCol("operator_id", func(p *P) *string { return &p.OperatorID }, (*rawCache).staffID),
-	reusedTextCol("trainee_id", func(p *P) *string { return &p.TraineeID }, (*rawCache).staffID),
-	codeCol("supervision", logbook.Supervisions, func(p *P) *logbook.Supervision { return &p.Supervision }),
-	yesNoCol("trainee_reached_caecum", false, func(p *P) *logbook.YesNo { return &p.TraineeReachedCaecum }),
+var procedureColumns = []column[procRec]{
+	withSQLName(textCol("procedure_id", func(p *procRec) *string { return &p.ID }), "id"),
+	dateCol("performed_on", func(p *procRec) *time.Time { return &p.PerformedOn }),
+	reusedTextCol("operator_id", func(p *procRec) *string { return &p.OperatorID }, (*rawCache).staffID),
+	reusedTextCol("trainee_id", func(p *procRec) *string { return &p.TraineeID }, (*rawCache).staffID),
+	codeCol("supervision", logbook.Supervisions, func(p *procRec) *logbook.Supervision { return &p.Supervision }),
+	yesNoCol("trainee_reached_caecum", false, func(p *procRec) *logbook.YesNo { return &p.TraineeReachedCaecum }),
 	{
 		name: "patient_ref", sqlName: "patient_key",
-		get: func(p *P) string { return logbook.ExportPseudonym(p.PatientKey) },
-		set: func(p *P, s string, c *codec) error {
+		get: func(p *procRec) string { return logbook.ExportPseudonym(p.PatientKey) },
+		set: func(p *procRec, s string, c *codec) error {
 			var key []byte
 			if c != nil {
 				key = c.key
@@ -313,63 +315,63 @@ var procedureColumns = []column[P]{
 			}
 			return err
 		},
-		toSQL:   func(p *P) string { return p.PatientKey },
-		fromSQL: func(p *P, s string) { p.PatientKey = s },
+		toSQL:   func(p *procRec) string { return p.PatientKey },
+		fromSQL: func(p *procRec, s string) { p.PatientKey = s },
 	},
-	countCol("age", func(p *P) *int { return &p.Age }),
-	codeCol("sex", logbook.Sexes, func(p *P) *logbook.Sex { return &p.Sex }),
-	codeCol("indication", logbook.Indications, func(p *P) *logbook.Indication { return &p.Indication }),
-	codeCol("setting", logbook.Settings, func(p *P) *logbook.Setting { return &p.Setting }),
-	codeCol("exclusion", logbook.Exclusions, func(p *P) *logbook.Exclusion { return &p.Exclusion }),
-	codeCol("extent", logbook.Extents, func(p *P) *logbook.Extent { return &p.Extent }),
-	codeCol("incomplete_reason", logbook.IncompleteReasons, func(p *P) *logbook.IncompleteReason { return &p.IncompleteReason }),
-	yesNoCol("caecal_photo", false, func(p *P) *logbook.YesNo { return &p.CaecalPhoto }),
-	countCol("withdrawal_seconds", func(p *P) *int { return &p.WithdrawalSeconds }),
-	countCol("bbps_right", func(p *P) *int { return &p.BBPSRight }),
-	countCol("bbps_transverse", func(p *P) *int { return &p.BBPSTransverse }),
-	countCol("bbps_left", func(p *P) *int { return &p.BBPSLeft }),
-	yesNoCol("retroversion", true, func(p *P) *logbook.YesNo { return &p.Retroversion }),
-	doseCol("midazolam_mg", func(p *P) *float64 { return &p.MidazolamMg }),
-	doseCol("fentanyl_ug", func(p *P) *float64 { return &p.FentanylUg }),
-	doseCol("pethidine_mg", func(p *P) *float64 { return &p.PethidineMg }),
-	yesNoCol("propofol", false, func(p *P) *logbook.YesNo { return &p.Propofol }),
-	countCol("comfort", func(p *P) *int { return &p.Comfort }),
-	yesNoCol("detection_aid", false, func(p *P) *logbook.YesNo { return &p.DetectionAid }),
-	codeCol("adverse_event", logbook.AdverseEvents, func(p *P) *logbook.AdverseEvent { return &p.AdverseEvent }),
-	codeCol("recommended_interval", logbook.Intervals, func(p *P) *logbook.Interval { return &p.RecommendedInterval }),
+	countCol("age", func(p *procRec) *int { return &p.Age }),
+	codeCol("sex", logbook.Sexes, func(p *procRec) *logbook.Sex { return &p.Sex }),
+	codeCol("indication", logbook.Indications, func(p *procRec) *logbook.Indication { return &p.Indication }),
+	codeCol("setting", logbook.Settings, func(p *procRec) *logbook.Setting { return &p.Setting }),
+	codeCol("exclusion", logbook.Exclusions, func(p *procRec) *logbook.Exclusion { return &p.Exclusion }),
+	codeCol("extent", logbook.Extents, func(p *procRec) *logbook.Extent { return &p.Extent }),
+	codeCol("incomplete_reason", logbook.IncompleteReasons, func(p *procRec) *logbook.IncompleteReason { return &p.IncompleteReason }),
+	yesNoCol("caecal_photo", false, func(p *procRec) *logbook.YesNo { return &p.CaecalPhoto }),
+	countCol("withdrawal_seconds", func(p *procRec) *int { return &p.WithdrawalSeconds }),
+	countCol("bbps_right", func(p *procRec) *int { return &p.BBPSRight }),
+	countCol("bbps_transverse", func(p *procRec) *int { return &p.BBPSTransverse }),
+	countCol("bbps_left", func(p *procRec) *int { return &p.BBPSLeft }),
+	yesNoCol("retroversion", true, func(p *procRec) *logbook.YesNo { return &p.Retroversion }),
+	doseCol("midazolam_mg", func(p *procRec) *float64 { return &p.MidazolamMg }),
+	doseCol("fentanyl_ug", func(p *procRec) *float64 { return &p.FentanylUg }),
+	doseCol("pethidine_mg", func(p *procRec) *float64 { return &p.PethidineMg }),
+	yesNoCol("propofol", false, func(p *procRec) *logbook.YesNo { return &p.Propofol }),
+	countCol("comfort", func(p *procRec) *int { return &p.Comfort }),
+	yesNoCol("detection_aid", false, func(p *procRec) *logbook.YesNo { return &p.DetectionAid }),
+	codeCol("adverse_event", logbook.AdverseEvents, func(p *procRec) *logbook.AdverseEvent { return &p.AdverseEvent }),
+	codeCol("recommended_interval", logbook.Intervals, func(p *procRec) *logbook.Interval { return &p.RecommendedInterval }),
 }
 
 // lesionColumns is lesions.csv in the order of the contract; tattoo is
 // optional on import and always exported.
-var lesionColumns = []column[L]{
-	reusedTextCol("procedure_id", func(l *L) *string { return &l.ProcedureID }, (*rawCache).sameID),
-	countCol("lesion_no", func(l *L) *int { return &l.LesionNo }),
-	codeCol("segment", logbook.Segments, func(l *L) *logbook.Segment { return &l.Segment }),
-	countCol("size_mm", func(l *L) *int { return &l.SizeMM }),
-	codeCol("paris", logbook.ParisClasses, func(l *L) *logbook.Paris { return &l.Paris }),
-	codeCol("optical_class", logbook.OpticalClasses, func(l *L) *logbook.OpticalClass { return &l.OpticalClass }),
-	codeCol("confidence", logbook.Confidences, func(l *L) *logbook.Confidence { return &l.Confidence }),
-	codeCol("imaging", logbook.ImagingModes, func(l *L) *logbook.Imaging { return &l.Imaging }),
-	codeCol("aid_class", logbook.OpticalClasses, func(l *L) *logbook.OpticalClass { return &l.AidClass }),
-	codeCol("resection", logbook.Resections, func(l *L) *logbook.Resection { return &l.Resection }),
-	yesNoCol("retrieved", false, func(l *L) *logbook.YesNo { return &l.Retrieved }),
-	yesNoCol("sent_to_pathology", false, func(l *L) *logbook.YesNo { return &l.SentToPathology }),
-	codeCol("histology", logbook.Histologies, func(l *L) *logbook.Histology { return &l.Histology }),
-	codeCol("dysplasia", logbook.Dysplasias, func(l *L) *logbook.Dysplasia { return &l.Dysplasia }),
-	withOptional(yesNoCol("tattoo", false, func(l *L) *logbook.YesNo { return &l.Tattoo })),
+var lesionColumns = []column[lesionRec]{
+	reusedTextCol("procedure_id", func(l *lesionRec) *string { return &l.ProcedureID }, (*rawCache).sameID),
+	countCol("lesion_no", func(l *lesionRec) *int { return &l.LesionNo }),
+	codeCol("segment", logbook.Segments, func(l *lesionRec) *logbook.Segment { return &l.Segment }),
+	countCol("size_mm", func(l *lesionRec) *int { return &l.SizeMM }),
+	codeCol("paris", logbook.ParisClasses, func(l *lesionRec) *logbook.Paris { return &l.Paris }),
+	codeCol("optical_class", logbook.OpticalClasses, func(l *lesionRec) *logbook.OpticalClass { return &l.OpticalClass }),
+	codeCol("confidence", logbook.Confidences, func(l *lesionRec) *logbook.Confidence { return &l.Confidence }),
+	codeCol("imaging", logbook.ImagingModes, func(l *lesionRec) *logbook.Imaging { return &l.Imaging }),
+	codeCol("aid_class", logbook.OpticalClasses, func(l *lesionRec) *logbook.OpticalClass { return &l.AidClass }),
+	codeCol("resection", logbook.Resections, func(l *lesionRec) *logbook.Resection { return &l.Resection }),
+	yesNoCol("retrieved", false, func(l *lesionRec) *logbook.YesNo { return &l.Retrieved }),
+	yesNoCol("sent_to_pathology", false, func(l *lesionRec) *logbook.YesNo { return &l.SentToPathology }),
+	codeCol("histology", logbook.Histologies, func(l *lesionRec) *logbook.Histology { return &l.Histology }),
+	codeCol("dysplasia", logbook.Dysplasias, func(l *lesionRec) *logbook.Dysplasia { return &l.Dysplasia }),
+	withOptional(yesNoCol("tattoo", false, func(l *lesionRec) *logbook.YesNo { return &l.Tattoo })),
 }
 
 // lesionStoredColumns adds what the database keeps beyond lesions.csv.
-var lesionStoredColumns = append(append([]column[L](nil), lesionColumns...),
-	dateCol("reported_on", func(l *L) *time.Time { return &l.ReportedOn }))
+var lesionStoredColumns = append(append([]column[lesionRec](nil), lesionColumns...),
+	dateCol("reported_on", func(l *lesionRec) *time.Time { return &l.ReportedOn }))
 
 // histologyColumns is histology.csv.
-var histologyColumns = []column[H]{
-	textCol("procedure_id", func(h *H) *string { return &h.ProcedureID }),
-	countCol("lesion_no", func(h *H) *int { return &h.LesionNo }),
-	codeCol("histology", logbook.Histologies, func(h *H) *logbook.Histology { return &h.Histology }),
-	codeCol("dysplasia", logbook.Dysplasias, func(h *H) *logbook.Dysplasia { return &h.Dysplasia }),
-	dateCol("reported_on", func(h *H) *time.Time { return &h.ReportedOn }),
+var histologyColumns = []column[histRec]{
+	textCol("procedure_id", func(h *histRec) *string { return &h.ProcedureID }),
+	countCol("lesion_no", func(h *histRec) *int { return &h.LesionNo }),
+	codeCol("histology", logbook.Histologies, func(h *histRec) *logbook.Histology { return &h.Histology }),
+	codeCol("dysplasia", logbook.Dysplasias, func(h *histRec) *logbook.Dysplasia { return &h.Dysplasia }),
+	dateCol("reported_on", func(h *histRec) *time.Time { return &h.ReportedOn }),
 }
 
 func withOptional[T any](c column[T]) column[T] { c.optional = true; return c }

@@ -417,28 +417,28 @@ type rules[T any] struct {
 	key       func(r *T) (key, repeat string)
 }
 
-var procedureRules = rules[P]{
+var procedureRules = rules[procRec]{
 	cols: procedureColumns, fresh: logbook.NewProcedure, validate: logbook.ValidateProcedure,
 	keyFields: []string{"procedure_id"},
-	key: func(p *P) (string, string) {
+	key: func(p *procRec) (string, string) {
 		return p.ID, p.ID + " appears more than once in this file"
 	},
 }
 
-var lesionRules = rules[L]{
+var lesionRules = rules[lesionRec]{
 	cols: lesionColumns, fresh: logbook.NewLesion, validate: logbook.ValidateLesion,
 	keyFields: []string{"lesion_no", "procedure_id"},
-	key: func(l *L) (string, string) {
+	key: func(l *lesionRec) (string, string) {
 		return fmt.Sprintf("%s#%d", l.ProcedureID, l.LesionNo),
 			fmt.Sprintf("lesion %d of procedure %s appears more than once in this file", l.LesionNo, l.ProcedureID)
 	},
 }
 
-var histologyRules = rules[H]{
+var histologyRules = rules[histRec]{
 	cols:  histologyColumns,
-	fresh: func() H { return H{LesionNo: logbook.NotRecorded} }, validate: logbook.ValidateHistologyResult,
+	fresh: func() histRec { return histRec{LesionNo: logbook.NotRecorded} }, validate: logbook.ValidateHistologyResult,
 	keyFields: []string{"lesion_no", "procedure_id"},
-	key: func(h *H) (string, string) {
+	key: func(h *histRec) (string, string) {
 		return fmt.Sprintf("%s#%d", h.ProcedureID, h.LesionNo),
 			fmt.Sprintf("a result for lesion %d of procedure %s appears more than once in this file", h.LesionNo, h.ProcedureID)
 	},
