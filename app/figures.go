@@ -164,7 +164,7 @@ func (s *figuresScreen) compute() {
 		} else {
 			var err error
 			figs, err = ws.Figures(ctx, req, func(n int) {
-				progress(-1, fmt.Sprintf("%d cases read", n))
+				progress(-1, groupedCount(n)+" cases read")
 			})
 			if err != nil {
 				return err
