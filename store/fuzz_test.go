@@ -15,20 +15,24 @@ package store
 import (
 	"bytes"
 	"context"
+	"database/sql"
 	"errors"
 	"fmt"
+	"net/url"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 	"time"
 
+	"modernc.org/sqlite"
+
 	"polypledger/logbook"
 )
 
 // fuzzTemplate builds the database every fuzz input starts from: a few
 // invented procedures with their lesions, some awaiting histology.
-func fuzzTemplate(f *testing.F) []byte {
+func fuzzTemplate(f testing.TB) []byte {
 	f.Helper()
 	path := filepath.Join(f.TempDir(), "template.db")
 	cases := inventedCases(f, 8, "", 29)
@@ -89,10 +93,10 @@ var fuzzKinds = []Kind{Procedures, Lesions, Histology}
 // FuzzImportEndToEnd imports data as the kind chosen by kind into the
 // template database, with or without --update. The database stays open
 // from one input to the next while imports are refused (which must change
-// nothing, and is checked); after an accepted one it is made again from
-// the template.
+// nothing, and is checked); after an import that committed anything the
+// template is put back, so that every input meets the same database and a
+// failure reproduces from its input alone.
 func FuzzImportEndToEnd(f *testing.F) {
-	template := fuzzTemplate(f)
 	valid := fuzzValidFiles(f)
 	for i, k := range fuzzKinds {
 		for _, seed := range fuzzSeeds(k, valid[k]) {
@@ -100,72 +104,188 @@ func FuzzImportEndToEnd(f *testing.F) {
 			f.Add(seed, uint8(i), true)
 		}
 	}
-	dir := f.TempDir()
-	var s *Store
-	f.Cleanup(func() {
-		if s != nil {
-			s.Close()
-		}
-	})
-	fresh := 0
+	e := newEndToEnd(f)
 	f.Fuzz(func(t *testing.T, data []byte, kindByte uint8, update bool) {
-		kind := fuzzKinds[int(kindByte)%len(fuzzKinds)]
-		if s == nil {
-			fresh++
-			path := filepath.Join(dir, fmt.Sprintf("unit%d.db", fresh))
-			if err := os.WriteFile(path, template, 0o600); err != nil {
-				t.Fatal(err)
-			}
-			s = openTest(t, path, Options{Now: func() time.Time { return fuzzNow }})
-		}
-		before := storeCounts(t, s)
-		ctx, cancel := context.WithTimeout(context.Background(), 20*time.Second)
-		defer cancel()
-		res, err := s.Import(ctx, kind, "fuzz.csv", bytes.NewReader(data), ImportOptions{Update: update})
-		if errors.Is(err, context.DeadlineExceeded) {
-			t.Fatalf("import of %d bytes did not finish in 20 s", len(data))
-		}
-		after := storeCounts(t, s)
-		if err != nil {
-			var ie *ImportError
-			if !errors.As(err, &ie) {
-				t.Fatalf("import failed with %v, not a list of bad rows", err)
-			}
-			if len(ie.Errors) == 0 {
-				t.Fatalf("a refused import lists no problem: %v", err)
-			}
-			if after != before {
-				t.Fatalf("a refused import changed the database: %+v, was %+v", after, before)
-			}
-			return
-		}
-		// An accepted import that changed the database: the next input
-		// starts again from the template.
-		if after != before {
-			defer func() {
-				s.Close()
-				os.Remove(s.Path())
-				s = nil
-			}()
-		}
-		// What the database accepted, the in-memory check accepts too.
-		if ie := checkFile(kind, "fuzz.csv", bytes.NewReader(data), testKey, fuzzNow); ie != nil {
-			t.Fatalf("imported, but the in-memory check refuses it:\n%v", ie)
-		}
-		if res.Inserted+res.Updated > res.Rows {
-			t.Fatalf("stored %d+%d records from %d rows", res.Inserted, res.Updated, res.Rows)
-		}
-		if kind != Histology && after.procedures+after.lesions-before.procedures-before.lesions != res.Inserted {
-			t.Fatalf("reported %d inserted, counts went from %+v to %+v", res.Inserted, before, after)
-		}
-		findings, err := s.Check(ctx)
-		if err != nil {
+		e.run(t, data, kindByte, update)
+	})
+}
+
+// endToEnd is FuzzImportEndToEnd's state from one input to the next: the
+// template, and the store open on a copy of it with the state it was last
+// seen in.
+//
+// The store is opened once. After an import that committed anything, the
+// template's pages are copied back into the open database by SQLite's
+// online backup, run on the test's own connection as a restore — the same
+// content as a new copy, without closing, reopening and checking the
+// store again for every accepted input.
+//
+// Whether the database changed is watched on a connection of the test's
+// own (watch), through SQLite's data_version, which changes whenever
+// another connection commits anything — an update that leaves the counts
+// as they were included — and the counts of procedures, lesions and
+// change-log entries are read only when it has. Each is one statement
+// prepared once; and the state seen after one input is the state before
+// the next (nothing else writes to the database). That is what lets a
+// refused input cost little more than the import itself.
+type endToEnd struct {
+	template string // the template database's file
+	resets   int    // how often it was put back
+	s        *Store
+	watch    *sql.Conn
+	version  *sql.Stmt // SQLite's data_version
+	counts   *sql.Stmt
+	last     dbState
+}
+
+// dbState is what endToEnd watches.
+type dbState struct {
+	version int64
+	dbCounts
+}
+
+func newEndToEnd(f testing.TB) *endToEnd {
+	dir := f.TempDir()
+	e := &endToEnd{template: filepath.Join(dir, "template.db")}
+	if err := os.WriteFile(e.template, fuzzTemplate(f), 0o600); err != nil {
+		f.Fatal(err)
+	}
+	f.Cleanup(e.close)
+	return e
+}
+
+// open opens a copy of the template.
+func (e *endToEnd) open(t testing.TB) {
+	ctx := context.Background()
+	path := filepath.Join(filepath.Dir(e.template), "unit.db")
+	b, err := os.ReadFile(e.template)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(path, b, 0o600); err != nil {
+		t.Fatal(err)
+	}
+	e.s = openTest(t, path, Options{Now: func() time.Time { return fuzzNow }})
+	if e.watch, err = e.s.db.pool.Conn(ctx); err != nil {
+		t.Fatal(err)
+	}
+	if e.version, err = e.watch.PrepareContext(ctx, "PRAGMA data_version"); err != nil {
+		t.Fatal(err)
+	}
+	if e.counts, err = e.watch.PrepareContext(ctx, "SELECT (SELECT count(*) FROM procedures), (SELECT count(*) FROM lesions), (SELECT count(*) FROM change_log)"); err != nil {
+		t.Fatal(err)
+	}
+	e.last = e.now(t, dbState{version: -1})
+}
+
+// now reads the watched state: its data_version, and its counts if that
+// differs from was's (or else they are was's).
+func (e *endToEnd) now(t testing.TB, was dbState) dbState {
+	t.Helper()
+	st := was
+	if err := e.version.QueryRow().Scan(&st.version); err != nil {
+		t.Fatal(err)
+	}
+	if st.version != was.version {
+		if err := e.counts.QueryRow().Scan(&st.procedures, &st.lesions, &st.changes); err != nil {
 			t.Fatal(err)
 		}
-		if len(findings) > 0 {
-			t.Fatalf("an accepted import left problems:\n%s", strings.Join(findings, "\n"))
+	}
+	return st
+}
+
+// reset puts the template back into the open database.
+func (e *endToEnd) reset(t testing.TB) {
+	t.Helper()
+	err := e.watch.Raw(func(dc any) error {
+		c, ok := dc.(interface {
+			NewRestore(string) (*sqlite.Backup, error)
+		})
+		if !ok {
+			return fmt.Errorf("the driver's connection %T cannot restore", dc)
 		}
+		b, err := c.NewRestore("file:" + (&url.URL{Path: e.template}).EscapedPath() + "?mode=ro&immutable=1")
+		if err != nil {
+			return err
+		}
+		for more := true; more; {
+			if more, err = b.Step(-1); err != nil {
+				b.Finish()
+				return err
+			}
+		}
+		return b.Finish()
 	})
+	if err != nil {
+		t.Fatalf("putting the template back: %v", err)
+	}
+	e.resets++
+	e.last = e.now(t, dbState{version: -1})
+}
+
+// close closes the store and removes its file.
+func (e *endToEnd) close() {
+	if e.s == nil {
+		return
+	}
+	e.version.Close()
+	e.counts.Close()
+	e.watch.Close()
+	e.s.Close()
+	os.Remove(e.s.Path())
+	e.s = nil
+}
+
+// run imports one input and checks the outcome.
+func (e *endToEnd) run(t testing.TB, data []byte, kindByte uint8, update bool) {
+	kind := fuzzKinds[int(kindByte)%len(fuzzKinds)]
+	if e.s == nil {
+		e.open(t)
+	}
+	s, before := e.s, e.last
+	ctx, cancel := context.WithTimeout(context.Background(), 20*time.Second)
+	defer cancel()
+	res, err := s.Import(ctx, kind, "fuzz.csv", bytes.NewReader(data), ImportOptions{Update: update})
+	if errors.Is(err, context.DeadlineExceeded) {
+		t.Fatalf("import of %d bytes did not finish in 20 s", len(data))
+	}
+	after := e.now(t, before)
+	e.last = after
+	if err != nil {
+		var ie *ImportError
+		if !errors.As(err, &ie) {
+			t.Fatalf("import failed with %v, not a list of bad rows", err)
+		}
+		if len(ie.Errors) == 0 {
+			t.Fatalf("a refused import lists no problem: %v", err)
+		}
+		if after != before {
+			t.Fatalf("a refused import changed the database: %+v, was %+v", after, before)
+		}
+		return
+	}
+	// An accepted import that committed anything: the next input starts
+	// again from the template.
+	if after.version != before.version {
+		defer e.reset(t)
+	}
+	// What the database accepted, the in-memory check accepts too.
+	if ie := checkFile(kind, "fuzz.csv", bytes.NewReader(data), testKey, fuzzNow); ie != nil {
+		t.Fatalf("imported, but the in-memory check refuses it:\n%v", ie)
+	}
+	if res.Inserted+res.Updated > res.Rows {
+		t.Fatalf("stored %d+%d records from %d rows", res.Inserted, res.Updated, res.Rows)
+	}
+	if kind != Histology && after.procedures+after.lesions-before.procedures-before.lesions != res.Inserted {
+		t.Fatalf("reported %d inserted, counts went from %+v to %+v", res.Inserted, before, after)
+	}
+	findings, err := s.Check(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(findings) > 0 {
+		t.Fatalf("an accepted import left problems:\n%s", strings.Join(findings, "\n"))
+	}
 }
 
 // fuzzNow is the clock of the fuzz targets: after every invented date.
@@ -206,7 +326,7 @@ func FuzzCheckHistology(f *testing.F) { fuzzCheck(f, Histology) }
 // fuzzValidFiles are valid files of each kind for the template database:
 // new procedures, the template's own lesions (valid with --update), and
 // results for its lesions awaiting histology.
-func fuzzValidFiles(f *testing.F) map[Kind][]byte {
+func fuzzValidFiles(f testing.TB) map[Kind][]byte {
 	var h bytes.Buffer
 	h.WriteString(strings.Join(Columns(Histology), ",") + "\n")
 	template := inventedCases(f, 8, "", 29)
@@ -241,4 +361,40 @@ func storeCounts(t testing.TB, s *Store) dbCounts {
 		}
 	}
 	return c
+}
+
+// TestEndToEndWatch shows that FuzzImportEndToEnd's watch can fail, and
+// that the template is really put back: a refused import leaves the
+// database as it was seen; an accepted one that commits anything — new
+// procedures, or lesions stored again with --update, which adds no
+// procedure or lesion — is seen; and after it the same file is accepted
+// again, as new, with the counts the template had.
+func TestEndToEndWatch(t *testing.T) {
+	valid := fuzzValidFiles(t)
+	for _, c := range []struct {
+		name    string
+		data    []byte
+		kind    uint8 // index in fuzzKinds
+		update  bool
+		changed bool
+	}{
+		{"refused", []byte("a,b,c\n1,2,3\n"), 0, false, false},
+		{"new procedures", valid[Procedures], 0, false, true},
+		{"stored lesions updated", valid[Lesions], 1, true, true},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			e := newEndToEnd(t)
+			e.open(t)
+			template := e.last
+			for i := 1; i <= 2; i++ {
+				e.run(t, c.data, c.kind, c.update)
+				if changed := e.resets == i; changed != c.changed {
+					t.Fatalf("import %d seen as changing the database: %v, want %v (state %+v, template %+v)", i, changed, c.changed, e.last, template)
+				}
+				if e.last.dbCounts != template.dbCounts {
+					t.Errorf("after import %d the database holds %+v, the template %+v", i, e.last.dbCounts, template.dbCounts)
+				}
+			}
+		})
+	}
 }

@@ -10,6 +10,7 @@ package storecheck_test
 import (
 	"bytes"
 	"context"
+	"database/sql"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -173,6 +174,37 @@ func FuzzImportThroughRecipe(f *testing.F) {
 	f.Add(strings.Replace(room, "58,Female", "17,Female", 1))
 	f.Add(strings.Replace(room, "Positive FIT", "Bowel scope", 1))
 	f.Add("ExamID,ExamDate\nX1,05-Mar-2026\n")
+	// Files of one row, which the fuzzer changes faster: a procedure the
+	// store holds (refused), and a new one (which the check accepts).
+	lines := strings.SplitAfter(room, "\n")
+	f.Add(lines[0] + lines[1])
+	f.Add(lines[0] + strings.Replace(lines[1], "X-2026-0412", "X-2026-9999", 1))
+	c := newRecipeCheck(f)
+	f.Fuzz(func(t *testing.T, data string) { c.run(t, data) })
+}
+
+// recipeCheck is FuzzImportThroughRecipe's state from one input to the
+// next: the recipe, a store holding the room system's procedures, and the
+// file each input is written to (the same file every time, so that an
+// input costs no new folder).
+//
+// That the store is unchanged is watched on a connection of the test's
+// own, read-only and outside the store, through SQLite's data_version:
+// it changes whenever any other connection commits anything, so it staying
+// the same says that nothing at all was written — more than counting
+// procedures and change-log entries would, and without reading them for
+// every input. The counts are read too, at the start and whenever it
+// changes, to say what changed.
+type recipeCheck struct {
+	rcp     *recipe.Recipe
+	st      *store.Store
+	path    string
+	version *sql.Stmt
+	last    int64
+	counts  string
+}
+
+func newRecipeCheck(f testing.TB) *recipeCheck {
 	rcp, err := recipe.Load(filepath.Join(sources, "room", "recipe.toml"))
 	if err != nil {
 		f.Fatal(err)
@@ -188,30 +220,56 @@ func FuzzImportThroughRecipe(f *testing.F) {
 	if _, err := workspace.ImportFile(ctx, st, workspace.ImportRequest{Path: filepath.Join(sources, "room", "procedures.csv"), Kind: store.Procedures}); err != nil {
 		f.Fatal(err)
 	}
-	before := exported(f, st)
-	f.Fuzz(func(t *testing.T, data string) {
-		path := filepath.Join(t.TempDir(), "room.csv")
-		if err := os.WriteFile(path, []byte(data), 0o600); err != nil {
-			t.Fatal(err)
-		}
-		_, err := workspace.ImportFile(ctx, st, workspace.ImportRequest{Path: path, Recipe: rcp, Check: true})
-		var ie *store.ImportError
-		var se *sheet.Error
-		switch {
-		case errors.As(err, &ie):
-			for _, p := range ie.Errors {
-				if !strings.HasPrefix(p.String(), path) {
-					t.Errorf("a problem that does not name the file: %s", p)
-				}
+	db, err := sql.Open("sqlite", "file:"+st.Path()+"?mode=ro")
+	if err != nil {
+		f.Fatal(err)
+	}
+	db.SetMaxOpenConns(1) // data_version is a connection's own
+	f.Cleanup(func() { db.Close() })
+	c := &recipeCheck{rcp: rcp, st: st, path: filepath.Join(dir, "room.csv")}
+	if c.version, err = db.PrepareContext(ctx, "PRAGMA data_version"); err != nil {
+		f.Fatal(err)
+	}
+	f.Cleanup(func() { c.version.Close() })
+	c.last = c.dataVersion(f)
+	c.counts = exported(f, st)
+	return c
+}
+
+// dataVersion reads SQLite's data_version on the test's connection.
+func (c *recipeCheck) dataVersion(t testing.TB) int64 {
+	t.Helper()
+	var v int64
+	if err := c.version.QueryRow().Scan(&v); err != nil {
+		t.Fatal(err)
+	}
+	return v
+}
+
+// run checks one input.
+func (c *recipeCheck) run(t testing.TB, data string) {
+	ctx := context.Background()
+	if err := os.WriteFile(c.path, []byte(data), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	_, err := workspace.ImportFile(ctx, c.st, workspace.ImportRequest{Path: c.path, Recipe: c.rcp, Check: true})
+	var ie *store.ImportError
+	var se *sheet.Error
+	switch {
+	case errors.As(err, &ie):
+		for _, p := range ie.Errors {
+			if !strings.HasPrefix(p.String(), c.path) {
+				t.Errorf("a problem that does not name the file: %s", p)
 			}
-		case errors.As(err, &se), err == nil:
-		default:
-			t.Fatalf("%T %v", err, err)
 		}
-		if after := exported(t, st); after != before {
-			t.Fatal("a check changed the store")
-		}
-	})
+	case errors.As(err, &se), err == nil:
+	default:
+		t.Fatalf("%T %v", err, err)
+	}
+	if v := c.dataVersion(t); v != c.last {
+		c.last = v
+		t.Fatalf("a check changed the store: procedures and change-log entries %s, were %s", exported(t, c.st), c.counts)
+	}
 }
 
 // exported says what a store holds, cheaply: its procedures and its
@@ -227,4 +285,23 @@ func exported(t testing.TB, st *store.Store) string {
 		t.Fatal(err)
 	}
 	return fmt.Sprint(n, len(log))
+}
+
+// TestRecipeCheckWatch shows that FuzzImportThroughRecipe's watch can
+// fail: a check leaves the data_version as it was, and an import that
+// stores the same file (replacing the procedures the store holds) changes
+// it.
+func TestRecipeCheckWatch(t *testing.T) {
+	c := newRecipeCheck(t)
+	room := readFile(t, filepath.Join(sources, "room", "room.csv"))
+	c.run(t, room)
+	if err := os.WriteFile(c.path, []byte(room), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := workspace.ImportFile(context.Background(), c.st, workspace.ImportRequest{Path: c.path, Recipe: c.rcp, Update: true}); err != nil {
+		t.Fatal(err)
+	}
+	if v := c.dataVersion(t); v == c.last {
+		t.Errorf("an import was not seen: data_version still %d", v)
+	}
 }
