@@ -63,6 +63,7 @@ type column struct {
 	words    string // normalised header
 	joined   string // normalised header without spaces
 	template string // a wide file's lesion column header with SlotMark
+	repeated bool   // another column has the same header (as the mapper folds it)
 	nonEmpty int
 	counts   map[string]int // different values, up to draftDistinct
 	order    []string       // those values in the order first seen
@@ -76,10 +77,11 @@ type column struct {
 	letters  int // values that are one letter
 }
 
-// usable reports whether a recipe can name the column: it has a header, and
-// the header does not hold the slot mark.
+// usable reports whether a recipe can name the column: it has a header that
+// no other column shares (the mapper refuses a header it cannot tell
+// apart), and the header does not hold the slot mark.
 func (c *column) usable() bool {
-	return c.header != "" && !strings.Contains(c.header, SlotMark)
+	return c.header != "" && !c.repeated && !strings.Contains(c.header, SlotMark)
 }
 
 func (c *column) add(v string) {
@@ -191,6 +193,15 @@ func draft(name string, open func(sheet.Options) (*sheet.Table, error)) (string,
 	for i, h := range t.Header() {
 		cols[i] = &column{index: i, header: h, words: normalise(h), counts: map[string]int{}, seen: map[string]bool{}}
 		cols[i].joined = strings.ReplaceAll(cols[i].words, " ", "")
+	}
+	byHeader := map[string][]*column{}
+	for _, c := range cols {
+		byHeader[Fold(c.header)] = append(byHeader[Fold(c.header)], c)
+	}
+	for _, same := range byHeader {
+		for _, c := range same {
+			c.repeated = len(same) > 1
+		}
 	}
 	rows := 0
 	for rows < DraftRows {
@@ -986,14 +997,22 @@ func (d *drafter) write() string {
 		line("withdrawal = "+tomlQuote(unit), note)
 	}
 
-	var unused []string
+	var unused, repeated []string
 	for _, c := range d.cols {
-		if !d.used(c) {
+		switch {
+		case c.repeated && c.header != "":
+			if !slices.Contains(repeated, tomlQuote(c.header)) {
+				repeated = append(repeated, tomlQuote(c.header))
+			}
+		case !d.used(c):
 			unused = append(unused, tomlQuote(c.header))
 		}
 	}
-	if len(unused) > 0 || len(missing) > 0 {
+	if len(unused) > 0 || len(missing) > 0 || len(repeated) > 0 {
 		b.WriteByte('\n')
+	}
+	if len(repeated) > 0 {
+		b.WriteString(wrapComment("check: headers that more than one column has, which a recipe cannot name (rename them in the file to use them): " + strings.Join(repeated, ", ")))
 	}
 	if len(unused) > 0 {
 		b.WriteString(wrapComment("Columns of the file the recipe does not use: " + strings.Join(unused, ", ")))

@@ -124,6 +124,14 @@ func TestDraftGuesses(t *testing.T) {
 			want: []string{`# check: the header is only partly like the usual names of`},
 		},
 		{
+			// Found by FuzzDraft ("Ref,Ref"): the mapper refuses a header
+			// that names two columns, so the draft must not propose it.
+			name:   "a header two columns share is not proposed, and is named",
+			data:   "Episode,Date,Ref,Ref\nP1,2026-03-05,A,B\n",
+			want:   []string{`procedure_id = "Episode"`, `# check: headers that more than one column has, which a recipe cannot name`, `"Ref"`},
+			absent: []string{`= "Ref"`},
+		},
+		{
 			name: "no procedure id column",
 			data: "Date,Endoscopist,Age,Sex\n2026-03-05,E1,60,F\n",
 			want: []string{`procedure_id = "Endoscopist"   # check: no column is named like procedure_id`},
