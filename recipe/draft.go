@@ -462,9 +462,9 @@ func nameLikeness(words, field string) float64 {
 	hw := strings.Fields(words)
 	best := 0.0
 	for _, pn := range headerPhrases()[field] {
-		pw := strings.Fields(pn)
+		pw := pn.words
 		switch {
-		case pn == words, strings.ReplaceAll(pn, " ", "") == joined:
+		case pn.text == words, pn.joined == joined:
 			return 1
 		case containsAll(hw, pw):
 			best = max(best, 0.6+0.3*float64(len(pw))/float64(len(hw)))
@@ -660,15 +660,24 @@ var gradePhrases = sync.OnceValue(func() []codePhrase {
 
 // headerPhrases holds, for each field, its name and common headers,
 // normalised, built once.
-var headerPhrases = sync.OnceValue(func() map[string][]string {
-	out := map[string][]string{}
+var headerPhrases = sync.OnceValue(func() map[string][]phrase {
+	out := map[string][]phrase{}
 	for _, f := range allFields() {
 		for _, p := range append([]string{strings.ReplaceAll(f.Name, "_", " ")}, headerWords[f.Name]...) {
-			out[f.Name] = append(out[f.Name], normalise(p))
+			n := normalise(p)
+			out[f.Name] = append(out[f.Name], phrase{text: n, joined: strings.ReplaceAll(n, " ", ""), words: strings.Fields(n)})
 		}
 	}
 	return out
 })
+
+// phrase is a normalised header phrase, with its forms nameLikeness
+// compares, worked out once.
+type phrase struct {
+	text   string   // normalised
+	joined string   // without spaces
+	words  []string // its words
+}
 
 // matchCode finds the code of a field that a source value means; sure is
 // false when the match is only partial.
