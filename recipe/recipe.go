@@ -609,7 +609,24 @@ func (r *Recipe) Missing(header []string) []string {
 // Fold is how recipe values and headers are compared: surrounding spaces
 // dropped, inner runs of spaces made one, lower case.
 func Fold(s string) string {
+	if folded(s) {
+		return s // most values already are: no copy
+	}
 	return strings.ToLower(strings.Join(strings.Fields(s), " "))
+}
+
+// folded reports whether Fold would return s unchanged: plain ASCII with
+// no capital letter, and spaces only single and inside.
+func folded(s string) bool {
+	for i := 0; i < len(s); i++ {
+		switch b := s[i]; {
+		case b >= 0x80, 'A' <= b && b <= 'Z', b == '\t', b == '\n', b == '\v', b == '\f', b == '\r':
+			return false
+		case b == ' ' && (i == 0 || i == len(s)-1 || s[i-1] == ' '):
+			return false
+		}
+	}
+	return true
 }
 
 // shapeFields returns our fields that a recipe of the shape may map, by name.

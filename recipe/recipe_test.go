@@ -172,3 +172,15 @@ func TestMissing(t *testing.T) {
 		}
 	}
 }
+
+// TestFold: Fold gives the same as lower-casing the space-separated words,
+// whether or not the value was folded already (a value already folded is
+// returned as it is).
+func TestFold(t *testing.T) {
+	for _, s := range []string{"", " ", "a", "ab c", "Ab c", "ab  c", " ab", "ab ", "a\tb", "a\u00a0b", "Ä b", "ä b", "x\r\n", "positive fit", "Positive FIT"} {
+		want := strings.ToLower(strings.Join(strings.Fields(s), " "))
+		if got := recipe.Fold(s); got != want {
+			t.Errorf("Fold(%q) = %q, want %q", s, got, want)
+		}
+	}
+}
