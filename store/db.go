@@ -164,6 +164,11 @@ type txn struct {
 	tx       *sql.Tx
 	conn     *sql.Conn
 	numbered bool
+	// kept, when set, holds statements prepared once on pool and used
+	// in each transaction (preparedStmts); a file store's write
+	// transactions set it.
+	kept *preparedStmts
+	pool *sql.DB
 }
 
 func (t *txn) q(query string) string { return rebind(query, t.numbered) }
@@ -185,6 +190,13 @@ func (t *txn) ExecContext(ctx context.Context, query string, args ...any) (sql.R
 
 // PrepareContext prepares a statement for repeated use in the transaction.
 func (t *txn) PrepareContext(ctx context.Context, query string) (*sql.Stmt, error) {
+	if t.kept != nil {
+		parent, err := t.kept.get(ctx, t.pool, t.q(query))
+		if err != nil {
+			return nil, err
+		}
+		return t.tx.StmtContext(ctx, parent), nil
+	}
 	return t.tx.PrepareContext(ctx, t.q(query))
 }
 

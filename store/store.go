@@ -124,6 +124,9 @@ type Store struct {
 	// orders until the next change.
 	counts  countCache
 	samples sampleCache
+	// prepared keeps an import's statements on a file from one import to
+	// the next.
+	prepared preparedStmts
 }
 
 // Open opens the unit database at location — a file path, or a
@@ -326,6 +329,9 @@ func (s *Store) inTx(ctx context.Context, fn func(tx *txn) error) error {
 			panic(r)
 		}
 	}()
+	if s.path != "" {
+		tx.kept, tx.pool = &s.prepared, s.db.pool
+	}
 	if err := s.be.lockWrites(ctx, tx); err != nil {
 		tx.rollback()
 		return err
@@ -357,6 +363,7 @@ func (s *Store) Close() error {
 	if s.db == nil {
 		return nil
 	}
+	s.prepared.close()
 	s.be.close(s)
 	err := s.db.pool.Close()
 	s.db = nil
