@@ -218,37 +218,34 @@ func (im *importer) prefetch() error {
 	})
 }
 
-// inBatches runs query, which ends in "IN", for ids — always with
-// importBatch values, the last id repeated to fill them, so that SQLite
-// prepares the statement once; a server plans it for the values each time
-// (planEach) — and calls each for every row.
+// inBatches runs query, which ends in "IN", for ids, up to importBatch at
+// a time, and calls each for every row. The IN list has a power of two of
+// places (at most importBatch), the last id repeated to fill them, so that
+// SQLite prepares a handful of statements once (preparedStmts) and a file
+// of a few rows does not bind and look up hundreds of values; a server
+// plans the statement for its values each time (planEach).
 func (im *importer) inBatches(query string, ids []string, each func(scan func(...any) error) error) error {
-	if len(ids) == 0 {
-		return nil
-	}
-	query += " (" + placeholders(importBatch) + ")"
 	lead := im.s.be.planEach()
-	var st *sql.Stmt
-	if lead == nil {
-		var err error
-		if st, err = im.stmt(query); err != nil {
-			return err
-		}
-	}
-	args := make([]any, len(lead)+importBatch)
-	copy(args, lead)
 	for len(ids) > 0 {
 		n := min(len(ids), importBatch)
-		for i := range importBatch {
+		width := inListWidth(n)
+		q := query + " (" + placeholders(width) + ")"
+		args := make([]any, len(lead)+width)
+		copy(args, lead)
+		for i := range width {
 			args[len(lead)+i] = ids[min(i, n-1)]
 		}
 		ids = ids[n:]
 		var rows *sql.Rows
 		var err error
-		if st != nil {
+		if lead == nil {
+			var st *sql.Stmt
+			if st, err = im.stmt(q); err != nil {
+				return err
+			}
 			rows, err = st.QueryContext(im.ctx, args...)
 		} else {
-			rows, err = im.tx.QueryContext(im.ctx, query, args...)
+			rows, err = im.tx.QueryContext(im.ctx, q, args...)
 		}
 		if err != nil {
 			return err
@@ -265,6 +262,16 @@ func (im *importer) inBatches(query string, ids []string, each func(scan func(..
 		}
 	}
 	return nil
+}
+
+// inListWidth is the number of places inBatches gives n ids: the smallest
+// power of two that holds them, at most importBatch.
+func inListWidth(n int) int {
+	w := 1
+	for w < n {
+		w *= 2
+	}
+	return min(w, importBatch)
 }
 
 // lesionKey identifies a lesion within an import ("P1#2").
