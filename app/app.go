@@ -353,14 +353,8 @@ func (u *ui) updateStatus() {
 // awaiting histology (counts grouped by thousands, words matching the
 // count), and the database.
 func statusText(unit string, procedures, waiting int, database string) string {
-	count := func(n int, one, many string) string {
-		if n == 1 {
-			return "1 " + one
-		}
-		return groupedCount(n) + " " + many
-	}
 	return fmt.Sprintf("%s  ·  %s, %s awaiting histology  ·  %s", unit,
-		count(procedures, "procedure", "procedures"), count(waiting, "lesion", "lesions"), database)
+		countOf(procedures, "procedure", "procedures"), countOf(waiting, "lesion", "lesions"), database)
 }
 
 // recordsChanged is called after any case or result is stored.

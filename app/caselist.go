@@ -251,7 +251,7 @@ func (l *caseList) reload() {
 		l.count = n
 		filtered := !q.From.IsZero() || !q.To.IsZero() || q.OperatorID != "" || q.Indication != "" || q.HistologyPending
 		l.mu.Unlock()
-		l.countLabel.SetText(caseCount(n))
+		l.countLabel.SetText(countOf(n, "case", "cases") + ".")
 		switch {
 		case n > 0:
 			l.hint.Hide()
@@ -364,12 +364,4 @@ func (l *caseList) visibleIDs() []string {
 			ids = append(ids, r.Procedure.ID)
 		}
 	}
-}
-
-// caseCount is the case list's count line, grouped by thousands.
-func caseCount(n int) string {
-	if n == 1 {
-		return "1 case."
-	}
-	return groupedCount(n) + " cases."
 }

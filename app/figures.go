@@ -164,7 +164,7 @@ func (s *figuresScreen) compute() {
 		} else {
 			var err error
 			figs, err = ws.Figures(ctx, req, func(n int) {
-				progress(-1, groupedCount(n)+" cases read")
+				progress(-1, countOf(n, "case", "cases")+" read")
 			})
 			if err != nil {
 				return err
@@ -304,6 +304,15 @@ func heading(text string) fyne.CanvasObject {
 
 // groupedCount prints a count with thousands separated.
 func groupedCount(n int) string { return audit.GroupThousands(int64(n)) }
+
+// countOf prints a count and the word that matches it: "1 case",
+// "4,000 cases".
+func countOf(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return groupedCount(n) + " " + many
+}
 
 // discardPanel lists each eligibility threshold in words.
 func discardPanel(e audit.DiscardFigures) fyne.CanvasObject {

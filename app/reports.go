@@ -183,7 +183,7 @@ func (r *reportScreen) makeReport(path string, done func(error)) {
 	r.make.Disable()
 	showText(r.result, "Making the report…")
 	r.u.jobs.run("Making the report", func(ctx context.Context, progress progressFunc) error {
-		return ws.WriteReportFile(ctx, path, req, func(n int) { progress(-1, groupedCount(n)+" cases read") })
+		return ws.WriteReportFile(ctx, path, req, func(n int) { progress(-1, countOf(n, "case", "cases")+" read") })
 	}, func(err error) {
 		r.make.Enable()
 		switch {

@@ -81,12 +81,12 @@ func TestStatusText(t *testing.T) {
 	}
 }
 
-// TestCaseCount: the case list's count is grouped by thousands and says
-// "case" for one.
-func TestCaseCount(t *testing.T) {
-	for n, want := range map[int]string{0: "0 cases.", 1: "1 case.", 4000: "4,000 cases.", 1234567: "1,234,567 cases."} {
-		if got := caseCount(n); got != want {
-			t.Errorf("caseCount(%d) = %q, want %q", n, got, want)
+// TestCountOf: a count (the case list's among them) is grouped by
+// thousands and takes the singular word for one.
+func TestCountOf(t *testing.T) {
+	for n, want := range map[int]string{0: "0 cases", 1: "1 case", 4000: "4,000 cases", 1234567: "1,234,567 cases"} {
+		if got := countOf(n, "case", "cases"); got != want {
+			t.Errorf("countOf(%d) = %q, want %q", n, got, want)
 		}
 	}
 }
