@@ -207,7 +207,11 @@ func (l *columns) Layout(objs []fyne.CanvasObject, size fyne.Size) {
 	if side != l.side {
 		l.side = side
 		if l.onChange != nil {
-			go fyne.Do(l.onChange)
+			// fyne.Do from the window's own thread queues the call until
+			// this layout is done; a goroutine of our own would instead
+			// run it beside the window's thread (the headless test
+			// driver runs fyne.Do at once, on whichever goroutine calls it).
+			fyne.Do(l.onChange)
 		}
 	}
 	if side {
