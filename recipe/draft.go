@@ -194,14 +194,12 @@ func draft(name string, open func(sheet.Options) (*sheet.Table, error)) (string,
 		cols[i] = &column{index: i, header: h, words: normalise(h), counts: map[string]int{}, seen: map[string]bool{}}
 		cols[i].joined = strings.ReplaceAll(cols[i].words, " ", "")
 	}
-	byHeader := map[string][]*column{}
-	for _, c := range cols {
-		byHeader[Fold(c.header)] = append(byHeader[Fold(c.header)], c)
+	headers := map[string]int{}
+	for _, h := range t.Header() {
+		headers[Fold(h)]++
 	}
-	for _, same := range byHeader {
-		for _, c := range same {
-			c.repeated = len(same) > 1
-		}
+	for _, c := range cols {
+		c.repeated = headers[Fold(c.header)] > 1
 	}
 	rows := 0
 	for rows < DraftRows {
