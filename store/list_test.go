@@ -189,3 +189,118 @@ func TestListProceduresOrder(t *testing.T) {
 		}
 	})
 }
+
+// TestListSampleRead shows how a server's sample of a list order is read:
+// counting a list starts reading it, so a page far from both ends finds
+// it read (not read again); pages asked at once while it is being read
+// share one reading and are each right; and a store closed while a
+// sample is being read stops the reading and closes without error. SQLite
+// reads no sample: counting starts nothing.
+func TestListSampleRead(t *testing.T) {
+	EachBackend(t, func(t *testing.T, b TestBackend) {
+		ctx := context.Background()
+		loc := b.NewDB(t)
+		s := utOpen(t, loc, Options{})
+		utAddRoster(t, s)
+		var want []string
+		for i := range 30 {
+			id := fmt.Sprintf("P%02d", i)
+			if err := s.SaveCase(ctx, utCase(id), true); err != nil {
+				t.Fatal(err)
+			}
+			want = append(want, id)
+		}
+		listReadings[2].use(t) // a sample of every third key, used past the first row
+		q := ListQuery{SortBy: "id", Limit: 5, Offset: 10}
+		sampling := func() *sampling {
+			mark, err := s.ChangeMark(ctx)
+			if err != nil {
+				t.Fatal(err)
+			}
+			where, args := q.where()
+			s.samples.mu.Lock()
+			defer s.samples.mu.Unlock()
+			if s.samples.mark != mark {
+				return nil
+			}
+			return s.samples.samples[q.order()+where+fmt.Sprint(args...)]
+		}
+		page := func(q ListQuery) ([]string, error) {
+			rows, err := s.ListProcedures(ctx, q)
+			var ids []string
+			for _, r := range rows {
+				ids = append(ids, r.Procedure.ID)
+			}
+			return ids, err
+		}
+		if n, err := s.CountProcedures(ctx, q); err != nil || n != 30 {
+			t.Fatalf("count = %d, %v; want 30", n, err)
+		}
+		started := sampling()
+		if !s.OnServer() {
+			if started != nil {
+				t.Fatal("SQLite: counting the list started reading a sample")
+			}
+			return
+		}
+		if started == nil {
+			t.Fatal("counting the list did not start reading its sample")
+		}
+		<-started.done
+		if started.err != nil || len(started.keys) != 10 {
+			t.Fatalf("sample: %d keys, %v; want 10 (every third of 30)", len(started.keys), started.err)
+		}
+		if ids, err := page(q); err != nil || !slices.Equal(ids, want[10:15]) {
+			t.Fatalf("page at 10 = %v, %v; want %v", ids, err, want[10:15])
+		}
+		if sampling() != started {
+			t.Error("the page read the sample again instead of using the one read when the list was counted")
+		}
+
+		// After a change, pages asked at once share one reading.
+		if err := s.SaveCase(ctx, utCase("P00a"), true); err != nil {
+			t.Fatal(err)
+		}
+		want = slices.Insert(want, 1, "P00a")
+		errs := make(chan error, 8)
+		for off := range 8 {
+			go func() {
+				q := q
+				q.Offset = 2 + 3*off
+				ids, err := page(q)
+				if err == nil && !slices.Equal(ids, want[q.Offset:min(q.Offset+5, len(want))]) {
+					err = fmt.Errorf("page at %d = %v, want %v", q.Offset, ids, want[q.Offset:min(q.Offset+5, len(want))])
+				}
+				errs <- err
+			}()
+		}
+		for range 8 {
+			if err := <-errs; err != nil {
+				t.Error(err)
+			}
+		}
+		if sp := sampling(); sp == nil || sp == started || len(sp.keys) != 11 {
+			t.Errorf("after the change: sample %p (before %p), want a new one of 11 keys", sp, started)
+		}
+
+		// Closed while a sample is being read.
+		if err := s.SaveCase(ctx, utCase("P00b"), true); err != nil {
+			t.Fatal(err)
+		}
+		if _, err := s.CountProcedures(ctx, q); err != nil {
+			t.Fatal(err)
+		}
+		if err := s.Close(); err != nil {
+			t.Errorf("closing while a sample is read: %v", err)
+		}
+		s.samples.mu.Lock()
+		for _, sp := range s.samples.samples {
+			select {
+			case <-sp.done:
+			default:
+				t.Error("a sample was still being read after Close returned")
+			}
+		}
+		s.samples.mu.Unlock()
+	})
+}

@@ -3,6 +3,7 @@ package store
 import (
 	"cmp"
 	"context"
+	"errors"
 	"fmt"
 	"slices"
 	"strings"
@@ -74,6 +75,15 @@ var sortColumns = map[string]string{
 // nullableSorts are the sort columns that may hold NULL.
 var nullableSorts = map[string]bool{"p.age": true, "p.indication": true, "p.extent": true}
 
+// order is the column the list is sorted by (by date when SortBy names
+// none).
+func (q ListQuery) order() string {
+	if order, ok := sortColumns[q.SortBy]; ok {
+		return order
+	}
+	return "p.performed_on"
+}
+
 func (q ListQuery) where() (string, []any) {
 	where, args := q.CaseFilter.where("p.")
 	var extra []string
@@ -120,10 +130,7 @@ var sampleFrom = 20_000
 // until the next change.
 func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow, error) {
 	where, args := q.where()
-	order, ok := sortColumns[q.SortBy]
-	if !ok {
-		order = "p.performed_on"
-	}
+	order := q.order()
 	if q.Limit <= 0 {
 		q.Limit = 100
 	}
@@ -148,7 +155,7 @@ func (s *Store) ListProcedures(ctx context.Context, q ListQuery) ([]ProcedureRow
 			first = total - end
 		}
 		sampled := false
-		if min(first, total-first-(end-q.Offset)) > sampleFrom {
+		if min(first, total-first-(end-q.Offset)) > sampleFrom && s.sampled() {
 			key, ok, err := s.sampledKey(ctx, mark, where, args, order, first)
 			if err != nil {
 				return nil, err
@@ -250,54 +257,123 @@ type listKey struct {
 }
 
 // sampleCache keeps the samples of list orders for one change mark, by
-// selection and order.
+// selection and order. A sample is read in a goroutine of its own, started
+// when the list is counted (CountProcedures) — before anyone scrolls — or
+// when a page needs it, and read once however many ask for it while it is
+// being read. Close stops the reading and waits for it.
 type sampleCache struct {
 	mu      sync.Mutex
 	mark    int64
-	samples map[string][]listKey
+	samples map[string]*sampling
+	// stop ends every reading when the store closes; closed refuses new
+	// ones; reading counts those under way.
+	stop    context.CancelFunc
+	ctx     context.Context
+	closed  bool
+	reading sync.WaitGroup
 }
 
-// sampledKey returns the sampled key nearest before place first of the
-// ascending list order by key (a sort column) of the procedures selected
-// by where, reading the sample when there is none for mark. It reports
-// false when the sample has no key there (the page lies among procedures
-// whose key is not recorded, which come first and which keys cannot
-// order): the page is then read by its offset.
-func (s *Store) sampledKey(ctx context.Context, mark int64, where string, args []any, key string, first int) (listKey, bool, error) {
+// sampling is one sample, being read or read.
+type sampling struct {
+	done chan struct{} // closed when keys and err are set
+	keys []listKey
+	err  error
+}
+
+// sampleFor returns the sampling of the list order by key of the
+// procedures selected by where at change mark, starting to read it when
+// it is not yet being read. It returns nil when the store is closed.
+func (s *Store) sampleFor(mark int64, key, where string, args []any) *sampling {
 	ck := key + where + fmt.Sprint(args...)
 	c := &s.samples
 	c.mu.Lock()
-	if c.mark != mark || c.samples == nil {
-		c.mark, c.samples = mark, map[string][]listKey{}
+	defer c.mu.Unlock()
+	if c.closed {
+		return nil
 	}
-	sample, ok := c.samples[ck]
-	c.mu.Unlock()
-	if !ok {
-		var err error
-		if sample, err = s.listSample(ctx, key, where, args); err != nil {
-			return listKey{}, false, s.explain(err)
-		}
+	if c.mark != mark || c.samples == nil {
+		c.mark, c.samples = mark, map[string]*sampling{}
+	}
+	if sp, ok := c.samples[ck]; ok {
+		return sp
+	}
+	if c.ctx == nil {
+		c.ctx, c.stop = context.WithCancel(context.Background())
+	}
+	sp := &sampling{done: make(chan struct{})}
+	c.samples[ck] = sp
+	c.reading.Add(1)
+	every := sampleEvery
+	go func() {
+		defer c.reading.Done()
+		keys, err := s.listSample(c.ctx, key, where, args, every)
 		c.mu.Lock()
-		if c.mark == mark {
-			c.samples[ck] = sample
+		sp.keys, sp.err = keys, err
+		if err != nil && c.samples[ck] == sp {
+			delete(c.samples, ck) // the next page asks again
 		}
 		c.mu.Unlock()
+		close(sp.done)
+	}()
+	return sp
+}
+
+// close stops every sample being read and waits for them.
+func (c *sampleCache) close() {
+	c.mu.Lock()
+	c.closed = true
+	if c.stop != nil {
+		c.stop()
 	}
-	i, _ := slices.BinarySearchFunc(sample, first+1, func(k listKey, at int) int { return cmp.Compare(k.at, at) })
+	c.mu.Unlock()
+	c.reading.Wait()
+}
+
+// errClosed is returned by a store used after Close.
+var errClosed = errors.New("the database has been closed")
+
+// sampled reports whether the backend reads samples of list orders (a
+// server does; SQLite walks its index in the process instead).
+func (s *Store) sampled() bool { return s.be.listSample("", "", sampleEvery) != "" }
+
+// worthSampling reports whether a list of total procedures is long enough
+// for a page to lie sampleFrom from both its ends.
+func worthSampling(total int) bool { return total > 2*sampleFrom+1 }
+
+// sampledKey returns the sampled key nearest before place first of the
+// ascending list order by key (a sort column) of the procedures selected
+// by where, waiting for the sample when it is being read and reading it
+// when it is not. It reports false when the sample has no key there (the
+// page lies among procedures whose key is not recorded, which come first
+// and which keys cannot order): the page is then read by its offset.
+func (s *Store) sampledKey(ctx context.Context, mark int64, where string, args []any, key string, first int) (listKey, bool, error) {
+	sp := s.sampleFor(mark, key, where, args)
+	if sp == nil {
+		return listKey{}, false, errClosed
+	}
+	select {
+	case <-sp.done:
+	case <-ctx.Done():
+		return listKey{}, false, ctx.Err()
+	}
+	if sp.err != nil {
+		return listKey{}, false, s.explain(sp.err)
+	}
+	i, _ := slices.BinarySearchFunc(sp.keys, first+1, func(k listKey, at int) int { return cmp.Compare(k.at, at) })
 	if i == 0 {
 		return listKey{}, false, nil
 	}
-	return sample[i-1], true, nil
+	return sp.keys[i-1], true, nil
 }
 
 // listSample reads the sample of the ascending list order by key of the
-// procedures selected by where: the key of every sampleEvery-th procedure
+// procedures selected by where: the key of every every-th procedure
 // from the first whose key is recorded, with its place. It is read with one
 // statement of the backend's (listSample), each step an index range from
 // the key before; a backend without one (SQLite, which walks an index in
 // the process, without a round trip per row) has no sample, and its pages
 // are read by their offset.
-func (s *Store) listSample(ctx context.Context, key, where string, args []any) ([]listKey, error) {
+func (s *Store) listSample(ctx context.Context, key, where string, args []any, every int) ([]listKey, error) {
 	and := func(cond string) string { return andWhere(where, cond) }
 	asc := listOrder(key, " ASC")
 	start, seedWhere := 0, where
@@ -305,7 +381,7 @@ func (s *Store) listSample(ctx context.Context, key, where string, args []any) (
 		seedWhere = and(key + " IS NOT NULL")
 	}
 	q := s.be.listSample("SELECT "+key+", p.id FROM procedures p"+seedWhere+asc+" LIMIT 1",
-		"SELECT "+key+", p.id FROM procedures p"+and(keyCond(key, ">", "s.k", "s.id"))+asc, sampleEvery)
+		"SELECT "+key+", p.id FROM procedures p"+and(keyCond(key, ">", "s.k", "s.id"))+asc, every)
 	if q == "" {
 		return nil, nil
 	}
@@ -328,7 +404,7 @@ func (s *Store) listSample(ctx context.Context, key, where string, args []any) (
 		if b, isBytes := k.sort.([]byte); isBytes {
 			k.sort = string(b)
 		}
-		k.at = start + k.at*sampleEvery
+		k.at = start + k.at*every
 		out = append(out, k)
 	}
 	return out, rows.Err()
@@ -337,9 +413,21 @@ func (s *Store) listSample(ctx context.Context, key, where string, args []any) (
 // CountProcedures counts the procedures a list query selects (ignoring its
 // page). A count is kept until the next change anyone stores, so that a
 // list shown again, or scrolled, does not count a large logbook again.
+//
+// On a server, counting a long list also starts reading the sample of its
+// order in the background (see sampleEvery), so that a page far from both
+// ends is ready when the list is scrolled there.
 func (s *Store) CountProcedures(ctx context.Context, q ListQuery) (int, error) {
 	where, args := q.where()
-	return s.countCached(ctx, where, args)
+	mark, err := s.ChangeMark(ctx)
+	if err != nil {
+		return 0, err
+	}
+	n, err := s.countAt(ctx, mark, where, args)
+	if err == nil && worthSampling(n) && s.sampled() {
+		s.sampleFor(mark, q.order(), where, args)
+	}
+	return n, err
 }
 
 // countCache keeps the counts of list queries for one change mark.
@@ -349,17 +437,8 @@ type countCache struct {
 	counts map[string]int
 }
 
-// countCached counts the procedures selected by where, or returns the
-// count made since the last change (ChangeMark).
-func (s *Store) countCached(ctx context.Context, where string, args []any) (int, error) {
-	mark, err := s.ChangeMark(ctx)
-	if err != nil {
-		return 0, err
-	}
-	return s.countAt(ctx, mark, where, args)
-}
-
-// countAt is countCached at change mark.
+// countAt counts the procedures selected by where at change mark
+// (ChangeMark), or returns the count made since.
 func (s *Store) countAt(ctx context.Context, mark int64, where string, args []any) (int, error) {
 	key := where + fmt.Sprint(args...)
 	c := &s.counts

@@ -363,6 +363,7 @@ func (s *Store) Close() error {
 	if s.db == nil {
 		return nil
 	}
+	s.samples.close()
 	s.prepared.close()
 	s.be.close(s)
 	err := s.db.pool.Close()
