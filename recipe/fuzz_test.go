@@ -3,6 +3,7 @@ package recipe_test
 import (
 	"io"
 	"slices"
+	"strconv"
 	"strings"
 	"testing"
 	"unicode"
@@ -142,7 +143,10 @@ func patientValues(t *testing.T, data string, r *recipe.Recipe) []string {
 	for _, v := range refs {
 		shared := false
 		for o := range others {
-			if strings.Contains(o, v) || strings.Contains(v, o) && len(o) >= 6 {
+			// A message quotes a value as Go does (strconv.Quote), so a
+			// reference may appear inside another cell's quoted form
+			// ("\x00" then "0A00" shows "000A00").
+			if strings.Contains(strconv.Quote(o), v) || strings.Contains(v, o) && len(o) >= 6 {
 				shared = true
 			}
 		}
