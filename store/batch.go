@@ -18,6 +18,15 @@ import (
 // the end of the batch. A lesion whose procedure comes earlier in the same
 // import, in the same batch or an earlier one, is checked against the set
 // of procedures this import has written.
+//
+// A histology result is judged as if it were recorded on its own, after
+// the rows before it (judgeHistology, the rules of a result entered in the
+// app): against its lesion as the batch's check read it, or as a result
+// earlier in the batch left it; a lesion that a row earlier in the batch
+// stored is read from the logbook once the batch's writes so far are
+// flushed. The results that change their lesion are written in bulk too
+// (one UPDATE for the batch on a server), after the lesions and before the
+// change log.
 
 // importBatch is how many rows are checked against the logbook, and
 // written, at once.
@@ -46,9 +55,17 @@ type batchState struct {
 	// would add), so that their lesions later in the import find them
 	// before they are flushed, and are known to have no lesion stored.
 	wrote map[string]bool
+	// lesions holds, by lesionKey, the lesions the batch's results are
+	// for, as the logbook held them when the batch was checked and as
+	// results earlier in the batch left them. wroteLesions holds the
+	// lesions that lesion rows of the batch stored (a result for one reads
+	// it from the logbook), and resulted those that its results changed
+	// since the last flush (a lesion row replacing one flushes first).
+	lesions                map[string]logbook.Lesion
+	wroteLesions, resulted map[string]bool
 	// The bulk writers, and whether any holds rows not yet flushed.
-	procW, lesionW, logW bulkWriter
-	unflushed            bool
+	procW, lesionW, resultW, logW bulkWriter
+	unflushed                     bool
 }
 
 // enqueue adds a row that was read to the batch, and checks the batch once
@@ -95,12 +112,21 @@ func (im *importer) startWriters() error {
 		}
 		*w.to = bw
 	}
-	return nil
+	var err error
+	im.resultW, err = im.s.be.bulkUpdate(im.ctx, im.tx, "lesions", resultColumns, lesionKeyColumns)
+	return err
+}
+
+// writers are the bulk writers in the order they are flushed: procedures
+// before the lesions that refer to them, results after the lesions they
+// change, and the change log last.
+func (im *importer) writers() []bulkWriter {
+	return []bulkWriter{im.procW, im.lesionW, im.resultW, im.logW}
 }
 
 // closeWriters closes the bulk writers that were opened.
 func (im *importer) closeWriters() {
-	for _, w := range []bulkWriter{im.procW, im.lesionW, im.logW} {
+	for _, w := range im.writers() {
 		if w != nil {
 			w.close()
 		}
@@ -119,18 +145,18 @@ func (im *importer) logChange(action, record string, old, new any) error {
 	return im.write(im.logW, im.s.changeValues(action, record, old, new))
 }
 
-// flush writes what the bulk writers hold: procedures before the lesions
-// that refer to them, and the change log last.
+// flush writes what the bulk writers hold, in the order of writers.
 func (im *importer) flush() error {
 	if !im.unflushed {
 		return nil
 	}
-	for _, w := range []bulkWriter{im.procW, im.lesionW, im.logW} {
+	for _, w := range im.writers() {
 		if err := w.flush(im.ctx); err != nil {
 			return err
 		}
 	}
 	im.unflushed = false
+	clear(im.resulted)
 	return nil
 }
 
@@ -167,11 +193,13 @@ func (im *importer) checkBatch() error {
 }
 
 // prefetch reads which of the procedures the batch names are in the
-// logbook, and which lesions of those named by its lesions are, leaving
-// out the procedures this import added (their lesions are all in the
-// batch or refused as repeats).
+// logbook, which lesions of those named by its lesions are, leaving out
+// the procedures this import added (their lesions are all in the batch or
+// refused as repeats), and the lesions of the procedures its results are
+// for (those this import added included: their lesions were flushed with
+// an earlier batch, or are read when a result comes for them).
 func (im *importer) prefetch() error {
-	var procs, ofLesions []string
+	var procs, ofLesions, ofResults []string
 	seen := make(map[string]bool, len(im.batch))
 	for _, q := range im.batch {
 		var id string
@@ -181,7 +209,11 @@ func (im *importer) prefetch() error {
 		case q.l != nil:
 			id = q.l.ProcedureID
 		default:
-			continue
+			id = q.h.ProcedureID
+			if !seen["\x01"+id] {
+				seen["\x01"+id] = true
+				ofResults = append(ofResults, id)
+			}
 		}
 		if im.wrote[id] {
 			continue
@@ -197,6 +229,19 @@ func (im *importer) prefetch() error {
 	}
 	im.stored = make(map[string]bool, len(procs))
 	im.storedLesions = map[string]bool{}
+	im.lesions = make(map[string]logbook.Lesion, len(ofResults))
+	im.wroteLesions, im.resulted = map[string]bool{}, map[string]bool{}
+	read := lesionReader()
+	if err := im.inBatches(lesionSelectSQL+" WHERE procedure_id IN", ofResults, func(scan func(...any) error) error {
+		l, err := read(scan)
+		if err != nil {
+			return err
+		}
+		im.lesions[lesionKey(l.ProcedureID, l.LesionNo)] = l
+		return nil
+	}); err != nil {
+		return err
+	}
 	if err := im.inBatches("SELECT id FROM procedures WHERE id IN", procs, func(scan func(...any) error) error {
 		var id string
 		if err := scan(&id); err != nil {

@@ -45,6 +45,10 @@ type backend interface {
 	streamCases(ctx context.Context, s *Store, f CaseFilter) (procs, lesions rowSource, done func(), err error)
 	// bulk returns a writer of many rows of one table inside tx.
 	bulk(ctx context.Context, tx *txn, table string, columns []string) (bulkWriter, error)
+	// bulkUpdate returns a writer that sets the columns set of many rows
+	// of one table inside tx, each row found by its key columns: a row's
+	// values are its new values, then its key's (as for updateSQL).
+	bulkUpdate(ctx context.Context, tx *txn, table string, set, key []string) (bulkWriter, error)
 	// planEach returns what goes before a query's arguments to have the
 	// query planned for the values it is given each time it runs, rather
 	// than prepared once with a plan for any values (nil: the backend needs
@@ -90,7 +94,8 @@ type rowSource struct {
 }
 
 // bulkWriter stores many rows of one table in a transaction: one prepared
-// statement on SQLite, COPY on PostgreSQL. Rows are written when flush is
+// statement on SQLite, COPY (or, for an update, one statement for many
+// rows) on PostgreSQL. Rows are written when flush is
 // called (or earlier), and flush must be called before the transaction
 // commits; rows of a table that others refer to are flushed first.
 type bulkWriter interface {
@@ -251,11 +256,35 @@ type stmtWriter struct {
 }
 
 func newStmtWriter(ctx context.Context, tx *txn, table string, columns []string) (*stmtWriter, error) {
-	st, err := tx.PrepareContext(ctx, "INSERT INTO "+table+" ("+strings.Join(columns, ", ")+") VALUES ("+placeholders(len(columns))+")")
+	return prepareWriter(ctx, tx, "INSERT INTO "+table+" ("+strings.Join(columns, ", ")+") VALUES ("+placeholders(len(columns))+")")
+}
+
+// newStmtUpdater is the bulk updater of a backend that updates row by row:
+// one prepared updateSQL, run for each row as it comes.
+func newStmtUpdater(ctx context.Context, tx *txn, table string, set, key []string) (*stmtWriter, error) {
+	return prepareWriter(ctx, tx, updateSQL(table, set, key))
+}
+
+func prepareWriter(ctx context.Context, tx *txn, query string) (*stmtWriter, error) {
+	st, err := tx.PrepareContext(ctx, query)
 	if err != nil {
 		return nil, err
 	}
 	return &stmtWriter{st: st}, nil
+}
+
+// updateSQL sets the columns set of the row of table found by the columns
+// key: its arguments are the new values, then the key's.
+func updateSQL(table string, set, key []string) string {
+	sets := make([]string, len(set))
+	for i, c := range set {
+		sets[i] = c + " = ?"
+	}
+	where := make([]string, len(key))
+	for i, c := range key {
+		where[i] = c + " = ?"
+	}
+	return "UPDATE " + table + " SET " + strings.Join(sets, ", ") + " WHERE " + strings.Join(where, " AND ")
 }
 
 func (w *stmtWriter) write(ctx context.Context, values []any) error {

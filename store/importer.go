@@ -905,10 +905,17 @@ func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
 	if !clean {
 		return nil
 	}
+	key := lesionKey(l.ProcedureID, l.LesionNo)
 	if have {
 		// The lesion replaced was stored before this import (a repeat
 		// within it is refused), so that it is read and deleted here while
-		// the batch's new rows wait in the bulk writers.
+		// the batch's new rows wait in the bulk writers — unless a result
+		// earlier in the batch changed it: that is written first.
+		if im.resulted[key] {
+			if err := im.flush(); err != nil {
+				return err
+			}
+		}
 		ls, err := getLesions(im.ctx, im.tx, l.ProcedureID)
 		if err != nil {
 			return err
@@ -928,38 +935,60 @@ func (im *importer) lesion(line int, l *logbook.Lesion, clean bool) error {
 		if err := im.write(im.lesionW, storedArgs(lesionStoredColumns, l)); err != nil {
 			return err
 		}
+		im.wroteLesions[key] = true
 		im.res.count(Lesions, true)
 		return im.logChange("update", lesionName(l), recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, l))
 	}
 	if err := im.write(im.lesionW, storedArgs(lesionStoredColumns, l)); err != nil {
 		return err
 	}
+	im.wroteLesions[key] = true
 	im.res.count(Lesions, false)
 	return im.logChange("insert", lesionName(l), nil, recordJSON(lesionStoredColumns, l))
 }
 
-// histology checks one histology.csv row against the lesion it is for and
-// applies it. A row with problems of its own is checked only for its
-// lesion, so that no problem is reported twice. What the batch wrote before
-// it is flushed first, so that it finds a lesion of this import and its
-// change-log entry follows theirs.
+// histology checks one histology.csv row against the lesion it is for, as
+// the rows before it left it (resultLesion), with the rules of a result
+// recorded on its own (judgeHistology), and applies it. A row with problems
+// of its own is checked only for its lesion, so that no problem is
+// reported twice.
 func (im *importer) histology(line int, h *logbook.HistologyResult, clean bool) error {
-	if err := im.flush(); err != nil {
-		return err
-	}
-	if !clean {
-		_, ps, err := findLesion(im.ctx, im.tx, h.ProcedureID, h.LesionNo)
+	key := lesionKey(h.ProcedureID, h.LesionNo)
+	old, ps, err := im.resultLesion(key, h)
+	if err != nil || len(ps) > 0 || !clean {
 		im.problems(line, ps)
 		return err
 	}
-	ps, err := im.s.applyHistology(im.ctx, im.tx, *h, im.opt.Update)
-	if err != nil {
-		return err
-	}
+	updated, change, ps := im.s.judgeHistology(old, *h, im.opt.Update)
 	if len(ps) > 0 {
 		im.problems(line, ps)
 		return nil
 	}
 	im.res.recorded(Histology)
-	return nil
+	if !change {
+		return nil
+	}
+	if err := im.write(im.resultW, resultValues(h)); err != nil {
+		return err
+	}
+	im.lesions[key], im.resulted[key] = updated, true
+	return logResult(im.logChange, h, &old, &updated)
+}
+
+// resultLesion returns the lesion a result is for as the rows before it in
+// the import left it, or the problem of a result for a lesion the logbook
+// lacks. A lesion a row of this batch stored is read from the logbook once
+// the batch's writes so far are flushed; any other is as the batch's check
+// read it (prefetch) or a result earlier in the batch left it.
+func (im *importer) resultLesion(key string, h *logbook.HistologyResult) (logbook.Lesion, logbook.Problems, error) {
+	if im.wroteLesions[key] {
+		if err := im.flush(); err != nil {
+			return logbook.Lesion{}, nil, err
+		}
+		return findLesion(im.ctx, im.tx, h.ProcedureID, h.LesionNo)
+	}
+	if l, ok := im.lesions[key]; ok {
+		return l, nil, nil
+	}
+	return logbook.Lesion{}, noLesion(h.ProcedureID, h.LesionNo, im.stored[h.ProcedureID] || im.wrote[h.ProcedureID]), nil
 }

@@ -16,11 +16,13 @@ import (
 	"crypto/x509"
 	"database/sql"
 	"database/sql/driver"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"net"
 	"net/url"
+	"slices"
 	"strconv"
 	"strings"
 	"syscall"
@@ -751,6 +753,66 @@ type copyWriter struct {
 func (*pgBackend) bulk(_ context.Context, tx *txn, table string, columns []string) (bulkWriter, error) {
 	return &copyWriter{tx: tx, stmt: "COPY " + table + " (" + strings.Join(columns, ", ") + ") FROM STDIN"}, nil
 }
+
+// recordsetUpdater is the bulk updater on a server: the rows gathered are
+// sent as one JSON array, a parameter of one UPDATE when flushed — one
+// round trip for a batch of an import. jsonb_populate_recordset reads the
+// array as rows of the table's own type, so each value takes its column's
+// type (a parameter alone in a VALUES list would be read as text).
+type recordsetUpdater struct {
+	tx      *txn
+	stmt    string
+	columns []string // set, then key: the names of a row's values
+	rows    []map[string]any
+}
+
+func (*pgBackend) bulkUpdate(_ context.Context, tx *txn, table string, set, key []string) (bulkWriter, error) {
+	sets := make([]string, len(set))
+	for i, c := range set {
+		sets[i] = c + " = v." + c
+	}
+	match := make([]string, len(key))
+	for i, c := range key {
+		match[i] = "t." + c + " = v." + c
+	}
+	return &recordsetUpdater{
+		tx: tx,
+		stmt: "UPDATE " + table + " AS t SET " + strings.Join(sets, ", ") +
+			" FROM jsonb_populate_recordset(NULL::" + table + ", ?::jsonb) AS v WHERE " + strings.Join(match, " AND "),
+		columns: append(slices.Clone(set), key...),
+	}, nil
+}
+
+// maxUpdateRows bounds the rows of one UPDATE.
+const maxUpdateRows = importBatch
+
+func (w *recordsetUpdater) write(ctx context.Context, values []any) error {
+	row := make(map[string]any, len(w.columns))
+	for i, c := range w.columns {
+		row[c] = values[i]
+	}
+	w.rows = append(w.rows, row)
+	if len(w.rows) == maxUpdateRows {
+		return w.flush(ctx)
+	}
+	return nil
+}
+
+func (w *recordsetUpdater) flush(ctx context.Context) error {
+	if len(w.rows) == 0 {
+		return nil
+	}
+	rows, err := json.Marshal(w.rows)
+	clear(w.rows)
+	w.rows = w.rows[:0]
+	if err != nil {
+		return err
+	}
+	_, err = w.tx.ExecContext(ctx, w.stmt, string(rows))
+	return err
+}
+
+func (w *recordsetUpdater) close() error { return nil }
 
 // planEach runs a query as an unnamed statement, planned for its values.
 // A statement the driver has prepared is planned once for any values after

@@ -356,18 +356,28 @@ func getLesions(ctx context.Context, q querier, procedureID string) ([]logbook.L
 	}
 	defer rows.Close()
 	var out []logbook.Lesion
-	dest, vals := nullStrings(len(lesionStoredColumns))
+	read := lesionReader()
 	for rows.Next() {
-		if err := rows.Scan(dest...); err != nil {
-			return nil, err
-		}
-		l := logbook.NewLesion()
-		if err := scanStored(lesionStoredColumns, vals(), &l); err != nil {
+		l, err := read(rows.Scan)
+		if err != nil {
 			return nil, err
 		}
 		out = append(out, l)
 	}
 	return out, rows.Err()
+}
+
+// lesionReader returns a function that reads one stored lesion with scan
+// (rows.Scan of a row of lesionSelectSQL).
+func lesionReader() func(scan func(...any) error) (logbook.Lesion, error) {
+	dest, vals := nullStrings(len(lesionStoredColumns))
+	return func(scan func(...any) error) (logbook.Lesion, error) {
+		l := logbook.NewLesion()
+		if err := scan(dest...); err != nil {
+			return l, err
+		}
+		return l, scanStored(lesionStoredColumns, vals(), &l)
+	}
 }
 
 // Case returns a procedure with its lesions.
@@ -534,24 +544,27 @@ func (s *Store) RecordHistology(ctx context.Context, h logbook.HistologyResult, 
 	}))
 }
 
-// checkHistology reads the lesion a result is for and returns it as it is
-// and as it would be, or the problems that refuse the result. It writes
-// nothing.
-func (s *Store) checkHistology(ctx context.Context, q querier, h logbook.HistologyResult, correct bool) (old, updated logbook.Lesion, ps logbook.Problems, err error) {
-	old, ps, err = findLesion(ctx, q, h.ProcedureID, h.LesionNo)
-	if err != nil || len(ps) > 0 {
-		return old, updated, ps, err
-	}
+// judgeHistology decides a result h for the lesion it is for, as the
+// logbook holds it (old): the problems that refuse it, or else the lesion as
+// the result leaves it and whether that changes anything (a result that
+// repeats the recorded one with the same date changes nothing and is not
+// logged). A lesion with a final result takes a different one only when
+// correct is set. These are the rules for every result, entered in the app
+// or imported; they read and write nothing.
+func (s *Store) judgeHistology(old logbook.Lesion, h logbook.HistologyResult, correct bool) (updated logbook.Lesion, change bool, ps logbook.Problems) {
 	if old.Histology.IsFinal() && !correct && !sameResult(old, h) {
 		when := "no report date recorded"
 		if !old.ReportedOn.IsZero() {
 			when = "reported " + logbook.FormatDate(old.ReportedOn)
 		}
-		return old, updated, logbook.Problems{{Field: "histology", Reason: fmt.Sprintf("lesion already has histology %s (%s); use --update to correct it", old.Histology, when)}}, nil
+		return old, false, logbook.Problems{{Field: "histology", Reason: fmt.Sprintf("lesion already has histology %s (%s); use --update to correct it", old.Histology, when)}}
 	}
 	updated = old
 	updated.Histology, updated.Dysplasia, updated.ReportedOn = h.Histology, h.Dysplasia, h.ReportedOn
-	return old, updated, logbook.ValidateLesion(updated, s.today()), nil
+	if ps := logbook.ValidateLesion(updated, s.today()); len(ps) > 0 {
+		return old, false, ps
+	}
+	return updated, !sameResult(old, h) || !old.ReportedOn.Equal(h.ReportedOn), nil
 }
 
 // findLesion reads a stored lesion, or says that it or its procedure is
@@ -566,12 +579,20 @@ func findLesion(ctx context.Context, q querier, procedureID string, no int) (log
 			return l, nil, nil
 		}
 	}
-	if _, there, err := getProcedure(ctx, q, procedureID); err != nil {
+	_, there, err := getProcedure(ctx, q, procedureID)
+	if err != nil {
 		return logbook.Lesion{}, nil, err
-	} else if !there {
-		return logbook.Lesion{}, logbook.Problems{{Field: "procedure_id", Reason: procedureID + " is not in the logbook"}}, nil
 	}
-	return logbook.Lesion{}, logbook.Problems{{Field: "lesion_no", Reason: fmt.Sprintf("procedure %s has no lesion %d", procedureID, no)}}, nil
+	return logbook.Lesion{}, noLesion(procedureID, no, there), nil
+}
+
+// noLesion is the problem of a result for a lesion the logbook does not
+// hold: its procedure is not there, or (there) has no such lesion.
+func noLesion(procedureID string, no int, procedureThere bool) logbook.Problems {
+	if !procedureThere {
+		return logbook.Problems{{Field: "procedure_id", Reason: procedureID + " is not in the logbook"}}
+	}
+	return logbook.Problems{{Field: "lesion_no", Reason: fmt.Sprintf("procedure %s has no lesion %d", procedureID, no)}}
 }
 
 // sameResult reports whether h repeats the lesion's recorded result: the
@@ -584,22 +605,40 @@ func sameResult(l logbook.Lesion, h logbook.HistologyResult) bool {
 		(l.ReportedOn.IsZero() || l.ReportedOn.Equal(h.ReportedOn))
 }
 
+// The columns a result sets, and those that find its lesion; resultValues
+// are a result's values for them in that order.
+var (
+	resultColumns    = []string{"histology", "dysplasia", "reported_on"}
+	lesionKeyColumns = []string{"procedure_id", "lesion_no"}
+)
+
+func resultValues(h *logbook.HistologyResult) []any {
+	return []any{string(h.Histology), nullIfEmpty(string(h.Dysplasia)), logbook.FormatDate(h.ReportedOn), h.ProcedureID, h.LesionNo}
+}
+
+// logResult makes, through log, the change-log entry of a result that
+// changes its lesion from old to updated.
+func logResult(log func(action, record string, old, new any) error, h *logbook.HistologyResult, old, updated *logbook.Lesion) error {
+	return log("update", fmt.Sprintf("lesion %s#%d", h.ProcedureID, h.LesionNo), recordJSON(lesionStoredColumns, old), recordJSON(lesionStoredColumns, updated))
+}
+
 // applyHistology checks a result and, when it is acceptable, writes it and
 // its change-log row inside tx; problems are returned, not stored.
 func (s *Store) applyHistology(ctx context.Context, tx *txn, h logbook.HistologyResult, correct bool) (logbook.Problems, error) {
-	old, updated, ps, err := s.checkHistology(ctx, tx, h, correct)
+	old, ps, err := findLesion(ctx, tx, h.ProcedureID, h.LesionNo)
 	if err != nil || len(ps) > 0 {
 		return ps, err
 	}
-	if sameResult(old, h) && old.ReportedOn.Equal(h.ReportedOn) {
-		return nil, nil // nothing changes, nothing to log
+	updated, change, ps := s.judgeHistology(old, h, correct)
+	if len(ps) > 0 || !change {
+		return ps, nil
 	}
-	if _, err := tx.ExecContext(ctx, "UPDATE lesions SET histology = ?, dysplasia = ?, reported_on = ? WHERE procedure_id = ? AND lesion_no = ?",
-		string(h.Histology), nullIfEmpty(string(h.Dysplasia)), logbook.FormatDate(h.ReportedOn), h.ProcedureID, h.LesionNo); err != nil {
+	if _, err := tx.ExecContext(ctx, updateSQL("lesions", resultColumns, lesionKeyColumns), resultValues(&h)...); err != nil {
 		return nil, err
 	}
-	return nil, s.logChange(ctx, tx, "update", fmt.Sprintf("lesion %s#%d", h.ProcedureID, h.LesionNo),
-		recordJSON(lesionStoredColumns, &old), recordJSON(lesionStoredColumns, &updated))
+	return nil, logResult(func(action, record string, old, new any) error {
+		return s.logChange(ctx, tx, action, record, old, new)
+	}, &h, &old, &updated)
 }
 
 // boolInt stores a flag as 0 or 1 (the schema's INTEGER with a CHECK).

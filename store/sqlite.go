@@ -249,6 +249,10 @@ func (*sqliteBackend) bulk(ctx context.Context, tx *txn, table string, columns [
 	return newStmtWriter(ctx, tx, table, columns)
 }
 
+func (*sqliteBackend) bulkUpdate(ctx context.Context, tx *txn, table string, set, key []string) (bulkWriter, error) {
+	return newStmtUpdater(ctx, tx, table, set, key)
+}
+
 // planEach needs nothing: SQLite looks up an IN list's values one by one
 // in the index however the statement was prepared.
 func (*sqliteBackend) planEach() []any { return nil }
