@@ -360,7 +360,7 @@ func statusText(unit string, procedures, waiting int, database string) string {
 // recordsChanged is called after any case or result is stored.
 func (u *ui) recordsChanged() {
 	u.updateStatus()
-	u.list.invalidate()
+	u.list.refresh()
 	u.inbox.stale = true
 	u.figures.stale = true
 }

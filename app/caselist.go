@@ -71,9 +71,12 @@ type caseList struct {
 	table       *widget.Table
 	content     fyne.CanvasObject
 
-	mu      sync.Mutex // guards query, pages, loading, gen and count
+	mu      sync.Mutex // guards query, pages, shown, loading, gen and count
 	query   store.ListQuery
 	pages   map[int][]store.ProcedureRow
+	// shown are the pages read before the last change of records, kept
+	// on screen until each is read again (see refresh).
+	shown   map[int][]store.ProcedureRow
 	loading map[int]bool
 	gen     int
 	count   int
@@ -220,10 +223,39 @@ func (l *caseList) sortBy(col string) {
 	l.reload()
 }
 
-// invalidate forgets every page read so far.
+// invalidate forgets every page read so far: the list now selects or
+// orders other cases.
 func (l *caseList) invalidate() {
 	l.mu.Lock()
 	l.gen++
+	l.pages, l.shown = map[int][]store.ProcedureRow{}, nil
+	l.loading = map[int]bool{}
+	l.mu.Unlock()
+}
+
+// refresh reads every page again after records changed (stored here or by
+// a colleague), keeping the rows read before on screen until their page
+// has been read again, so the list does not blank while it is read — a
+// page deep in a long list on a server can take a fifth of a second just
+// after a change.
+func (l *caseList) refresh() {
+	l.mu.Lock()
+	l.gen++
+	if l.shown == nil {
+		l.shown = map[int][]store.ProcedureRow{}
+	}
+	for k, rows := range l.pages {
+		l.shown[k] = rows
+	}
+	// At most listPagesKept, the pages just read kept first.
+	for k := range l.shown {
+		if len(l.shown) <= listPagesKept {
+			break
+		}
+		if _, read := l.pages[k]; !read {
+			delete(l.shown, k)
+		}
+	}
 	l.pages = map[int][]store.ProcedureRow{}
 	l.loading = map[int]bool{}
 	l.mu.Unlock()
@@ -269,20 +301,35 @@ func (l *caseList) reload() {
 
 // rowAt returns row i if its page has been read.
 func (l *caseList) rowAt(i int) (store.ProcedureRow, bool) {
+	r, _, ok := l.rowShown(i)
+	return r, ok
+}
+
+// rowShown returns row i as read since the last change (current), or as
+// read before it while its page is read again, if either.
+func (l *caseList) rowShown(i int) (r store.ProcedureRow, current, ok bool) {
 	l.mu.Lock()
 	defer l.mu.Unlock()
-	p := l.pages[i/listPageSize]
-	if k := i % listPageSize; k < len(p) {
-		return p[k], true
+	k := i % listPageSize
+	if p, read := l.pages[i/listPageSize]; read {
+		if k < len(p) {
+			return p[k], true, true
+		}
+		return store.ProcedureRow{}, true, false
 	}
-	return store.ProcedureRow{}, false
+	if p := l.shown[i/listPageSize]; k < len(p) {
+		return p[k], false, true
+	}
+	return store.ProcedureRow{}, false, false
 }
 
 // cellText returns a cell's text, asking for its page when not yet read.
 func (l *caseList) cellText(id widget.TableCellID) string {
-	r, ok := l.rowAt(id.Row)
-	if !ok {
+	r, current, ok := l.rowShown(id.Row)
+	if !current {
 		l.request(id.Row / listPageSize)
+	}
+	if !ok {
 		return "…"
 	}
 	return listColumns[id.Col].text(&r)
@@ -316,6 +363,7 @@ func (l *caseList) request(page int) {
 			return
 		}
 		l.pages[page] = rows
+		delete(l.shown, page)
 		for len(l.pages) > listPagesKept {
 			far, dist := -1, -1
 			for k := range l.pages {

@@ -119,3 +119,48 @@ func mustDate(s string) (d timeValue) {
 	}
 	return d
 }
+
+// TestCaseListKeepsRowsWhileReread: after records change, the rows read
+// before stay on screen until their page has been read again (a deep page
+// on a server can take a fifth of a second just after a change), and are
+// then replaced by what the database now holds; a new filter or sort order
+// shows nothing of the old list.
+func TestCaseListKeepsRowsWhileReread(t *testing.T) {
+	u := newTestUI(t, 150)
+	l := u.list
+	l.sortBy("id")
+	loadFirstPage(u)
+	first, ok := l.rowAt(0)
+	if !ok {
+		t.Fatal("first row not read")
+	}
+	// A case that sorts first arrives.
+	c := first.Procedure
+	c.ID = "0000-NEW"
+	if err := u.st.SaveCase(u.ctx, logbook.Case{Procedure: c}, true); err != nil {
+		t.Fatal(err)
+	}
+	u.recordsChanged()
+	if got := l.cellText(cell(0, 1)); got != first.Procedure.ID {
+		t.Errorf("while the page is read again, row 0 shows %q, want the row shown before (%q)", got, first.Procedure.ID)
+	}
+	u.jobs.wait()
+	if got := l.cellText(cell(0, 1)); got != "0000-NEW" {
+		t.Errorf("after the page is read again, row 0 shows %q, want the new case", got)
+	}
+	if got := l.cellText(cell(1, 1)); got != first.Procedure.ID {
+		t.Errorf("row 1 shows %q, want %q", got, first.Procedure.ID)
+	}
+	l.mu.Lock()
+	stale := len(l.shown)
+	l.mu.Unlock()
+	if stale != 0 {
+		t.Errorf("%d pages of old rows kept after every page shown was read again", stale)
+	}
+	// Ordering the list otherwise forgets the old rows at once.
+	l.sortBy("age")
+	if got := l.cellText(cell(0, 1)); got != "…" {
+		t.Errorf("just after a new sort order, row 0 shows %q, want the placeholder", got)
+	}
+	u.jobs.wait()
+}
