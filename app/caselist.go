@@ -71,9 +71,9 @@ type caseList struct {
 	table       *widget.Table
 	content     fyne.CanvasObject
 
-	mu      sync.Mutex // guards query, pages, shown, loading, gen and count
-	query   store.ListQuery
-	pages   map[int][]store.ProcedureRow
+	mu    sync.Mutex // guards query, pages, shown, loading, gen and count
+	query store.ListQuery
+	pages map[int][]store.ProcedureRow
 	// shown are the pages read before the last change of records, kept
 	// on screen until each is read again (see refresh).
 	shown   map[int][]store.ProcedureRow
