@@ -1,3 +1,5 @@
+//go:build !nopostgres
+
 package store
 
 // Everything specific to PostgreSQL lives in this file: connecting through
