@@ -174,22 +174,59 @@ type txn struct {
 	// transactions set it.
 	kept *preparedStmts
 	pool *sql.DB
+	// stmts are the kept statements this transaction has run, by text.
+	stmts map[string]*sql.Stmt
 }
 
 func (t *txn) q(query string) string { return rebind(query, t.numbered) }
 
+// keptStmt returns, when kept is set, the statement kept for a query that
+// has arguments, so that one run for every row of an import (a lesion
+// looked up, a histology result stored, a change-log entry) is parsed once
+// per store rather than once per row: the text of a statement with
+// arguments is fixed, its values travel apart. It returns nil for a query
+// to be run as it is: without kept (a server plans each), without
+// arguments (schema steps, which may hold several statements), or when
+// preparing fails (running it then says why).
+func (t *txn) keptStmt(ctx context.Context, query string, args []any) *sql.Stmt {
+	if t.kept == nil || len(args) == 0 {
+		return nil
+	}
+	if st, ok := t.stmts[query]; ok {
+		return st
+	}
+	st, err := t.PrepareContext(ctx, query)
+	if err != nil {
+		return nil
+	}
+	if t.stmts == nil {
+		t.stmts = map[string]*sql.Stmt{}
+	}
+	t.stmts[query] = st
+	return st
+}
+
 // QueryRowContext runs a query expected to return at most one row.
 func (t *txn) QueryRowContext(ctx context.Context, query string, args ...any) *sql.Row {
+	if st := t.keptStmt(ctx, query, args); st != nil {
+		return st.QueryRowContext(ctx, args...)
+	}
 	return t.tx.QueryRowContext(ctx, t.q(query), args...)
 }
 
 // QueryContext runs a query.
 func (t *txn) QueryContext(ctx context.Context, query string, args ...any) (*sql.Rows, error) {
+	if st := t.keptStmt(ctx, query, args); st != nil {
+		return st.QueryContext(ctx, args...)
+	}
 	return t.tx.QueryContext(ctx, t.q(query), args...)
 }
 
 // ExecContext runs a statement.
 func (t *txn) ExecContext(ctx context.Context, query string, args ...any) (sql.Result, error) {
+	if st := t.keptStmt(ctx, query, args); st != nil {
+		return st.ExecContext(ctx, args...)
+	}
 	return t.tx.ExecContext(ctx, t.q(query), args...)
 }
 

@@ -793,12 +793,14 @@ func importFile[T any](im *importer, f *csvFile, ru rules[T]) func() error {
 	}
 }
 
-// checkFile reads a whole file of the given kind and checks it as Import
-// does, without a database: every value, every row's rules and repeats
-// within the file. It returns the problems found (nil when there are
-// none). key pseudonymises patient references. The fuzz targets run it in
-// memory, thousands of files a second.
-func checkFile(kind Kind, name string, r io.Reader, key []byte, today time.Time) *ImportError {
+// CheckFile reads a whole file of the given kind and checks it as Import
+// does before it asks the database, without one: every value, every row's
+// rules and repeats within the file. It returns the problems found (nil
+// when there are none); what Import accepts, it accepts. key
+// pseudonymises patient references and today is the date no record may
+// pass. The importers' fuzz targets (store/importfuzz) run it in memory,
+// thousands of files a second, and hold Import to it.
+func CheckFile(kind Kind, name string, r io.Reader, key []byte, today time.Time) *ImportError {
 	ie := &ImportError{File: name}
 	f := newCSVFile(name, kind, r)
 	cd := &codec{key: key}

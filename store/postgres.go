@@ -1,3 +1,5 @@
+//go:build !nopostgres
+
 package store
 
 // Everything specific to PostgreSQL lives in this file: connecting through
@@ -685,60 +687,6 @@ func (r *copyReader) Write(p []byte) (int, error) {
 		r.pending = r.pending[:0]
 	}
 	return n, nil
-}
-
-// copyEscapes are the one-letter escapes of COPY's text format.
-var copyEscapes = map[byte]byte{'b': '\b', 'f': '\f', 'n': '\n', 'r': '\r', 't': '\t', 'v': '\v'}
-
-// unescapeCopy appends a field of COPY's text format with its backslash
-// escapes undone.
-func unescapeCopy(b, f []byte) []byte {
-	for i := 0; i < len(f); i++ {
-		c := f[i]
-		if c != '\\' || i+1 == len(f) {
-			b = append(b, c)
-			continue
-		}
-		i++
-		e := f[i]
-		if v, ok := copyEscapes[e]; ok {
-			b = append(b, v)
-			continue
-		}
-		switch {
-		case e == 'x':
-			v, k := 0, 0
-			for ; k < 2 && i+1 < len(f) && isHex(f[i+1]); k++ {
-				i++
-				v = v*16 + hexVal(f[i])
-			}
-			b = append(b, byte(v))
-		case e >= '0' && e <= '7':
-			v := int(e - '0')
-			for k := 0; k < 2 && i+1 < len(f) && f[i+1] >= '0' && f[i+1] <= '7'; k++ {
-				i++
-				v = v*8 + int(f[i]-'0')
-			}
-			b = append(b, byte(v))
-		default:
-			b = append(b, e)
-		}
-	}
-	return b
-}
-
-func isHex(c byte) bool {
-	return c >= '0' && c <= '9' || c >= 'a' && c <= 'f' || c >= 'A' && c <= 'F'
-}
-
-func hexVal(c byte) int {
-	switch {
-	case c >= 'a':
-		return int(c-'a') + 10
-	case c >= 'A':
-		return int(c-'A') + 10
-	}
-	return int(c - '0')
 }
 
 // copyWriter is the bulk writer on a server: rows are encoded in COPY's

@@ -253,6 +253,12 @@ func countsOf(t testing.TB, path string) dbCounts {
 		t.Fatalf("open %s read-only: %v", path, err)
 	}
 	defer s.Close()
+	return storeCounts(t, s)
+}
+
+// storeCounts counts an open store's rows.
+func storeCounts(t testing.TB, s *Store) dbCounts {
+	t.Helper()
 	var c dbCounts
 	for _, q := range []struct {
 		sql string
