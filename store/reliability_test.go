@@ -5,8 +5,8 @@ package store
 // suite shares (the polypledger binary built once per test binary, invented
 // CSV files, hashing and counting) and the tests of damaged or foreign
 // databases, safe exports, privacy and backups. Crash tests are in
-// crash_test.go, two-writer tests in concurrency_test.go and fuzz targets in
-// fuzz_test.go.
+// crash_test.go, two-writer tests in concurrency_test.go, and the
+// importers' fuzz targets in the package store/importfuzz.
 
 import (
 	"bytes"
