@@ -223,7 +223,7 @@ func TestListSampleRead(t *testing.T) {
 			if s.samples.mark != mark {
 				return nil
 			}
-			return s.samples.samples[q.order()+where+fmt.Sprint(args...)]
+			return s.samples.samples[q.order()+selectionKey(where, args)]
 		}
 		page := func(q ListQuery) ([]string, error) {
 			rows, err := s.ListProcedures(ctx, q)

@@ -284,7 +284,7 @@ type sampling struct {
 // procedures selected by where at change mark, starting to read it when
 // it is not yet being read. It returns nil when the store is closed.
 func (s *Store) sampleFor(mark int64, key, where string, args []any) *sampling {
-	ck := key + where + fmt.Sprint(args...)
+	ck := key + selectionKey(where, args)
 	c := &s.samples
 	c.mu.Lock()
 	defer c.mu.Unlock()
@@ -437,10 +437,14 @@ type countCache struct {
 	counts map[string]int
 }
 
+// selectionKey names the procedures a WHERE clause and its arguments
+// select, for the case list's caches of counts and samples.
+func selectionKey(where string, args []any) string { return where + fmt.Sprint(args...) }
+
 // countAt counts the procedures selected by where at change mark
 // (ChangeMark), or returns the count made since.
 func (s *Store) countAt(ctx context.Context, mark int64, where string, args []any) (int, error) {
-	key := where + fmt.Sprint(args...)
+	key := selectionKey(where, args)
 	c := &s.counts
 	c.mu.Lock()
 	if c.mark != mark || c.counts == nil {
